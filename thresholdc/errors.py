@@ -1,0 +1,108 @@
+"""Error types raised by every layer of thresholdc.
+
+User mistakes raise a :class:`ThresholdcError` (or a subclass) that carries the file, and where
+there is one, the line, column and source line; the command line prints it with
+:meth:`ThresholdcError.render`.  Broken internal invariants are assertions, never these.
+
+>>> err = RuleError("unknown name 'b'", file="x.rules", line=2, column=5, source_line="y = a or b")
+>>> print(err.render())
+thresholdc: error: x.rules:2:5: unknown name 'b'
+y = a or b
+    ^
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+__all__ = [
+    "Span",
+    "ThresholdcError",
+    "RuleError",
+    "NetworkFileError",
+    "DataError",
+    "UsageError",
+    "VerificationUndecided",
+]
+
+
+@dataclass(frozen=True, slots=True)
+class Span:
+    """A position in a source text: 1-based line and column of the first character."""
+
+    line: int
+    column: int
+    end_line: int | None = None
+    end_column: int | None = None
+
+    def __repr__(self) -> str:
+        return f"{self.line}:{self.column}"
+
+
+class ThresholdcError(Exception):
+    """Base of every user-facing error; carries an optional source position."""
+
+    def __init__(
+        self,
+        message: str,
+        *,
+        file: str | None = None,
+        line: int | None = None,
+        column: int | None = None,
+        source_line: str | None = None,
+    ) -> None:
+        super().__init__(message)
+        self.message = message
+        self.file = file
+        self.line = line
+        self.column = column
+        self.source_line = source_line
+
+    def with_file(self, file: str, text: str | None = None) -> ThresholdcError:
+        """Return this error with its file name (and source line, taken from ``text``) set."""
+        self.file = file
+        if text is not None and self.line is not None and self.source_line is None:
+            lines = text.splitlines()
+            if 1 <= self.line <= len(lines):
+                self.source_line = lines[self.line - 1]
+        return self
+
+    def location(self) -> str:
+        """``FILE:LINE:COL``, ``FILE:LINE`` or ``FILE`` (whatever is known)."""
+        parts = [self.file or "<input>"]
+        if self.line is not None:
+            parts.append(str(self.line))
+            if self.column is not None:
+                parts.append(str(self.column))
+        return ":".join(parts)
+
+    def render(self) -> str:
+        """The text printed on stderr: one line, plus source line and caret where known."""
+        head = f"thresholdc: error: {self.location()}: {self.message}"
+        if self.line is None or self.column is None or self.source_line is None:
+            return head
+        src = self.source_line.rstrip("\r\n").expandtabs(1)
+        return f"{head}\n{src}\n{' ' * (self.column - 1)}^"
+
+    def __str__(self) -> str:
+        return f"{self.location()}: {self.message}"
+
+
+class RuleError(ThresholdcError):
+    """A mistake in a rule file or netlist (syntax, names, cycles, ranges)."""
+
+
+class NetworkFileError(ThresholdcError):
+    """A network file that cannot be read: not JSON, wrong format, inconsistent contents."""
+
+
+class DataError(ThresholdcError):
+    """A data file that cannot be used: missing column, unknown category, bad value."""
+
+
+class UsageError(ThresholdcError):
+    """Options or arguments that do not fit together (exit code 2)."""
+
+
+class VerificationUndecided(ThresholdcError):
+    """No available verification method could decide within its bounds (exit code 2)."""

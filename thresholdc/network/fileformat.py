@@ -1,0 +1,289 @@
+"""The network file, version 1 (DESIGN.md §4): JSON with keys in a fixed order.
+
+The writer puts each neuron on one line so that diffs of network files read well, and emits
+numbers deterministically (integral values as integers), so the same network gives the same
+bytes.  The reader checks everything (:func:`check_network`) and raises
+:class:`~thresholdc.errors.NetworkFileError` naming the file and what is wrong.
+
+>>> from thresholdc.network.model import Network, Neuron, Output
+>>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+>>> loads(dumps(net)) == net
+True
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import tempfile
+from typing import Any
+
+from ..errors import NetworkFileError
+from . import activations as act
+from .model import ENCODINGS, ROLES, Network, Neuron, Output
+
+__all__ = ["FORMAT", "VERSION", "dumps", "loads", "load", "save", "check_network", "atomic_write"]
+
+FORMAT = "thresholdc-network"
+VERSION = 1
+
+
+def _num(x: float) -> int | float:
+    """An integral value as ``int`` (so it prints without ``.0``), else the float itself."""
+    x = float(x)
+    if math.isfinite(x) and x.is_integer() and abs(x) < 2**53:
+        return int(x)
+    return x
+
+
+def _neuron_dict(n: Neuron) -> dict[str, Any]:
+    return {
+        "name": n.name,
+        "layer": n.layer,
+        "inputs": list(n.inputs),
+        "weights": [_num(w) for w in n.weights],
+        "bias": _num(n.bias),
+        "activation": n.activation,
+        "role": n.role,
+        "origin": n.origin,
+    }
+
+
+def _dump(value: Any) -> str:
+    return json.dumps(value, ensure_ascii=False, allow_nan=False)
+
+
+def dumps(net: Network) -> str:
+    """The file text of ``net``: header keys, one line per neuron and output, then ``meta``."""
+    lines = ["{", f'  "format": {_dump(FORMAT)},', f'  "version": {VERSION},']
+    if net.encoding != "binary":
+        lines.append(f'  "encoding": {_dump(net.encoding)},')
+    lines.append(f'  "inputs": {_dump(list(net.inputs))},')
+    if net.features is not None:
+        lines.append('  "features": [')
+        lines.append(",\n".join(f"    {_dump(f)}" for f in net.features))
+        lines.append("  ],")
+    lines.append('  "neurons": [')
+    if net.neurons:
+        lines.append(",\n".join(f"    {_dump(_neuron_dict(n))}" for n in net.neurons))
+    lines.append("  ],")
+    lines.append('  "outputs": [')
+    if net.outputs:
+        lines.append(
+            ",\n".join(f"    {_dump({'name': o.name, 'source': o.source})}" for o in net.outputs)
+        )
+    lines.append("  ],")
+    meta = json.dumps(net.meta, ensure_ascii=False, allow_nan=False, indent=2)
+    lines.append('  "meta": ' + meta.replace("\n", "\n  "))
+    lines.append("}")
+    return "\n".join(lines) + "\n"
+
+
+def atomic_write(path: str, data: bytes | str) -> None:
+    """Write ``data`` to ``path`` through a temporary file in the same folder, then rename,
+    so a failure never leaves a half-written file."""
+    folder = os.path.dirname(os.path.abspath(path))
+    fd, tmp = tempfile.mkstemp(dir=folder, prefix=".thresholdc-", suffix=".tmp")
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data.encode("utf-8") if isinstance(data, str) else data)
+        os.replace(tmp, path)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
+
+
+def save(net: Network, path: str) -> None:
+    """Write ``net`` as a JSON network file at ``path`` (atomically)."""
+    atomic_write(path, dumps(net))
+
+
+def _fail(file: str, message: str) -> NetworkFileError:
+    return NetworkFileError(message, file=file)
+
+
+def _expect(cond: bool, file: str, message: str) -> None:
+    if not cond:
+        raise _fail(file, message)
+
+
+def _is_number(x: Any) -> bool:
+    return isinstance(x, (int, float)) and not isinstance(x, bool) and math.isfinite(x)
+
+
+def from_dict(data: Any, file: str = "<network>") -> Network:
+    """Build and check a :class:`Network` from parsed JSON."""
+    _expect(isinstance(data, dict), file, "a network file must hold a JSON object")
+    _expect(
+        data.get("format") == FORMAT,
+        file,
+        f"not a thresholdc network file (expected \"format\": \"{FORMAT}\")",
+    )
+    _expect(
+        data.get("version") == VERSION,
+        file,
+        f"unsupported network file version {data.get('version')!r} (this reader knows {VERSION})",
+    )
+    encoding = data.get("encoding", "binary")
+    _expect(encoding in ENCODINGS, file, f"unknown encoding {encoding!r}; known: binary, bipolar")
+    inputs = data.get("inputs")
+    _expect(
+        isinstance(inputs, list) and all(isinstance(i, str) for i in inputs),
+        file,
+        '"inputs" must be a list of names',
+    )
+    features = data.get("features")
+    _expect(
+        features is None or (isinstance(features, list) and all(isinstance(f, dict) for f in features)),
+        file,
+        '"features" must be a list of objects',
+    )
+    raw_neurons = data.get("neurons")
+    _expect(isinstance(raw_neurons, list), file, '"neurons" must be a list')
+    neurons = []
+    for k, raw in enumerate(raw_neurons):
+        where = f"neuron {k + 1}"
+        _expect(isinstance(raw, dict), file, f"{where} must be an object")
+        name = raw.get("name")
+        _expect(isinstance(name, str) and name != "", file, f"{where} has no name")
+        where = f"neuron {name!r}"
+        ins = raw.get("inputs")
+        ws = raw.get("weights")
+        _expect(
+            isinstance(ins, list) and all(isinstance(i, str) for i in ins),
+            file,
+            f"{where}: \"inputs\" must be a list of names",
+        )
+        _expect(
+            isinstance(ws, list) and all(_is_number(w) for w in ws),
+            file,
+            f"{where}: \"weights\" must be a list of finite numbers",
+        )
+        _expect(
+            len(ins) == len(ws),
+            file,
+            f"{where} has {len(ins)} inputs but {len(ws)} weights",
+        )
+        bias = raw.get("bias")
+        _expect(_is_number(bias), file, f"{where}: \"bias\" must be a finite number")
+        layer = raw.get("layer")
+        _expect(
+            isinstance(layer, int) and not isinstance(layer, bool),
+            file,
+            f"{where}: \"layer\" must be an integer",
+        )
+        activation = raw.get("activation", "step")
+        _expect(
+            activation in act.ACTIVATIONS,
+            file,
+            f"{where}: unknown activation {activation!r}; known: {', '.join(act.ACTIVATIONS)}",
+        )
+        role = raw.get("role", "gate")
+        _expect(role in ROLES, file, f"{where}: unknown role {role!r}; known: {', '.join(ROLES)}")
+        origin = raw.get("origin")
+        _expect(origin is None or isinstance(origin, str), file, f"{where}: bad \"origin\"")
+        neurons.append(
+            Neuron(name, layer, tuple(ins), tuple(ws), bias, activation, role, origin)
+        )
+    raw_outputs = data.get("outputs")
+    _expect(isinstance(raw_outputs, list), file, '"outputs" must be a list')
+    outputs = []
+    for raw in raw_outputs:
+        _expect(
+            isinstance(raw, dict)
+            and isinstance(raw.get("name"), str)
+            and isinstance(raw.get("source"), str),
+            file,
+            'each output must be {"name": …, "source": …}',
+        )
+        outputs.append(Output(raw["name"], raw["source"]))
+    meta = data.get("meta", {})
+    _expect(isinstance(meta, dict), file, '"meta" must be an object')
+    net = Network(
+        tuple(inputs),
+        tuple(neurons),
+        tuple(outputs),
+        meta,
+        encoding,
+        tuple(features) if features is not None else None,
+    )
+    check_network(net, file)
+    return net
+
+
+def check_network(net: Network, file: str = "<network>") -> None:
+    """Check the structural invariants of a network; raise NetworkFileError on the first break.
+
+    Names unique, every neuron reads known earlier units, weights match inputs, layers are
+    1 + the largest input layer, outputs read known units.
+    """
+    layer: dict[str, int] = {}
+    for name in net.inputs:
+        _expect(name not in layer, file, f"input unit {name!r} is listed twice")
+        layer[name] = 0
+    for n in net.neurons:
+        _expect(n.name not in layer, file, f"unit name {n.name!r} is used twice")
+        _expect(
+            len(n.inputs) == len(n.weights),
+            file,
+            f"neuron {n.name!r} has {len(n.inputs)} inputs but {len(n.weights)} weights",
+        )
+        for i in n.inputs:
+            _expect(
+                i in layer,
+                file,
+                f"neuron {n.name!r} reads unknown unit {i!r} (units must come before their readers)",
+            )
+        want = 1 + max((layer[i] for i in n.inputs), default=0)
+        _expect(
+            n.layer == want,
+            file,
+            f"neuron {n.name!r} has layer {n.layer}, but its inputs put it in layer {want}",
+        )
+        _expect(
+            all(math.isfinite(w) for w in n.weights) and math.isfinite(n.bias),
+            file,
+            f"neuron {n.name!r} has a weight or bias that is not finite",
+        )
+        layer[n.name] = n.layer
+    seen = set()
+    for o in net.outputs:
+        _expect(o.source in layer, file, f"output {o.name!r} reads unknown unit {o.source!r}")
+        _expect(o.name not in seen, file, f"output {o.name!r} is listed twice")
+        seen.add(o.name)
+
+
+def loads(text: str, file: str = "<network>") -> Network:
+    """Parse network file text."""
+    try:
+        data = json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise NetworkFileError(
+            f"not a JSON network file: {exc.msg}", file=file, line=exc.lineno, column=exc.colno,
+            source_line=text.splitlines()[exc.lineno - 1] if text.splitlines() else None,
+        ) from None
+    return from_dict(data, file)
+
+
+def read_text(path: str) -> str:
+    """The UTF-8 text of ``path``, or a NetworkFileError that says why it cannot be read."""
+    try:
+        with open(path, encoding="utf-8") as fh:
+            return fh.read()
+    except FileNotFoundError:
+        raise NetworkFileError("no such file", file=path) from None
+    except IsADirectoryError:
+        raise NetworkFileError("is a folder, not a file", file=path) from None
+    except PermissionError:
+        raise NetworkFileError("permission denied", file=path) from None
+    except UnicodeDecodeError:
+        raise NetworkFileError("not UTF-8 text", file=path) from None
+    except OSError as exc:
+        raise NetworkFileError(f"cannot read: {exc.strerror}", file=path) from None
+
+
+def load(path: str) -> Network:
+    """Read the JSON network file at ``path``."""
+    return loads(read_text(path), path)

@@ -1,0 +1,274 @@
+"""The Network: named threshold (or soft) neurons in topological order.
+
+A :class:`Network` is what the compiler produces and what every back end reads.  Each
+:class:`Neuron` reads input units or earlier neurons by name and computes
+``a = activation(Σ weights[i] · value(inputs[i]) + bias)``; ``layer`` is 1 + the largest layer
+among its inputs (input units are layer 0).  The file format (DESIGN.md §4) is in
+:mod:`thresholdc.network.fileformat`; this module is the in-memory model and its evaluator.
+
+Shapes: ``evaluate(X)`` takes ``X`` of shape ``(rows, len(inputs))`` and returns
+``(rows, len(outputs))``; a layer from :meth:`Network.dense_layers` is ``(W, b, activation)``
+with ``W`` of shape ``(n_out, n_in)``.
+
+>>> net = Network(
+...     inputs=("a", "b"),
+...     neurons=(Neuron("y", 1, ("a", "b"), (1, 1), -1.5, origin="y"),),
+...     outputs=(Output("y", "y"),),
+... )
+>>> net.evaluate([[0, 0], [1, 1]]).tolist()
+[[0.0], [1.0]]
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+from typing import Any, Sequence
+
+import numpy as np
+
+from . import activations as act
+
+__all__ = ["Neuron", "Output", "Network", "ROLES", "ENCODINGS"]
+
+ROLES = ("gate", "relay", "extra")
+ENCODINGS = ("binary", "bipolar")
+
+
+@dataclass(frozen=True, slots=True)
+class Neuron:
+    """One neuron.  ``weights[i]`` multiplies the unit named ``inputs[i]``."""
+
+    name: str
+    layer: int
+    inputs: tuple[str, ...]
+    weights: tuple[float, ...]
+    bias: float
+    activation: str = "step"
+    role: str = "gate"
+    origin: str | None = None
+
+    def __repr__(self) -> str:
+        terms = " ".join(f"{w:+g}*{i}" for w, i in zip(self.weights, self.inputs))
+        return f"{self.name}[L{self.layer} {self.activation}]({terms} {self.bias:+g})"
+
+    @property
+    def fan_in(self) -> int:
+        return len(self.inputs)
+
+
+@dataclass(frozen=True, slots=True)
+class Output:
+    """A network output: its name and the unit (neuron or input unit) it reads."""
+
+    name: str
+    source: str
+
+    def __repr__(self) -> str:
+        return self.name if self.name == self.source else f"{self.name}<-{self.source}"
+
+
+@dataclass(frozen=True)
+class Network:
+    """A compiled network; immutable (passes return new networks).
+
+    ``features`` describes typed inputs (``None`` when every input is Boolean);
+    ``meta`` holds the tool name, the source hash, the options and the verification record.
+    """
+
+    inputs: tuple[str, ...]
+    neurons: tuple[Neuron, ...]
+    outputs: tuple[Output, ...]
+    meta: dict[str, Any] = field(default_factory=dict, compare=False)
+    encoding: str = "binary"
+    features: tuple[dict[str, Any], ...] | None = None
+
+    # ------------------------------------------------------------------ structure
+    @property
+    def input_names(self) -> tuple[str, ...]:
+        return self.inputs
+
+    @property
+    def output_names(self) -> tuple[str, ...]:
+        return tuple(o.name for o in self.outputs)
+
+    def neuron(self, name: str) -> Neuron:
+        """The neuron called ``name`` (``KeyError`` if none)."""
+        for n in self.neurons:
+            if n.name == name:
+                return n
+        raise KeyError(name)
+
+    @property
+    def depth(self) -> int:
+        """The largest layer (0 for a network without neurons)."""
+        return max((n.layer for n in self.neurons), default=0)
+
+    @property
+    def parameter_count(self) -> int:
+        """Weights plus biases."""
+        return sum(len(n.weights) for n in self.neurons) + len(self.neurons)
+
+    def layer_sizes(self) -> dict[int, dict[str, int]]:
+        """``{layer: {role: count}}`` for every layer with neurons, in layer order."""
+        sizes: dict[int, dict[str, int]] = {}
+        for n in self.neurons:
+            per = sizes.setdefault(n.layer, {r: 0 for r in ROLES})
+            per[n.role] = per.get(n.role, 0) + 1
+        return dict(sorted(sizes.items()))
+
+    def is_strict(self) -> bool:
+        """True when every neuron of layer L reads only units of layer L - 1 and every
+        output is read from the last layer."""
+        layer = {name: 0 for name in self.inputs}
+        for n in self.neurons:
+            layer[n.name] = n.layer
+        if any(layer[i] != n.layer - 1 for n in self.neurons for i in n.inputs):
+            return False
+        return all(layer[o.source] == self.depth for o in self.outputs)
+
+    def with_meta(self, **entries: Any) -> Network:
+        """A copy with ``meta`` entries added or replaced."""
+        meta = dict(self.meta)
+        meta.update(entries)
+        return replace(self, meta=meta)
+
+    # ------------------------------------------------------------------ evaluation
+    def forward(self, X: Any) -> tuple[np.ndarray, np.ndarray]:
+        """Pre-activations and activations of every neuron, each ``(rows, len(neurons))``.
+
+        >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+        >>> z, a = net.forward([[0], [1]])
+        >>> z[:, 0].tolist(), a[:, 0].tolist()
+        ([0.5, -0.5], [1.0, 0.0])
+        """
+        X = np.asarray(X, dtype=float)
+        if X.ndim != 2 or X.shape[1] != len(self.inputs):
+            raise ValueError(
+                f"expected an array of shape (rows, {len(self.inputs)}), got {X.shape}"
+            )
+        rows = X.shape[0]
+        values = np.empty((rows, len(self.inputs) + len(self.neurons)), dtype=float)
+        values[:, : len(self.inputs)] = X
+        index = {name: i for i, name in enumerate(self.inputs)}
+        Z = np.empty((rows, len(self.neurons)), dtype=float)
+        base = len(self.inputs)
+        bipolar = self.encoding == "bipolar"
+        for j, n in enumerate(self.neurons):
+            if n.inputs:
+                cols = [index[i] for i in n.inputs]
+                z = values[:, cols] @ np.asarray(n.weights, dtype=float) + n.bias
+            else:
+                z = np.full(rows, float(n.bias))
+            Z[:, j] = z
+            if n.activation == "step" and bipolar:
+                values[:, base + j] = np.where(z > 0, 1.0, -1.0)
+            else:
+                values[:, base + j] = act.get(n.activation).forward(z)
+            index[n.name] = base + j
+        return Z, values[:, base:]
+
+    def unit_values(self, X: Any) -> tuple[np.ndarray, dict[str, int]]:
+        """All unit values ``(rows, inputs + neurons)`` and the column of each unit name."""
+        X = np.asarray(X, dtype=float)
+        _, A = self.forward(X)
+        values = np.concatenate([X.reshape(len(X), -1), A], axis=1)
+        names = list(self.inputs) + [n.name for n in self.neurons]
+        return values, {name: i for i, name in enumerate(names)}
+
+    def evaluate(self, X: Any) -> np.ndarray:
+        """Output values, ``(rows, len(outputs))``, for input rows ``X`` (rows × inputs).
+
+        >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+        >>> net.evaluate([[0], [1]]).tolist()
+        [[1.0], [0.0]]
+        """
+        values, index = self.unit_values(X)
+        cols = [index[o.source] for o in self.outputs]
+        return values[:, cols]
+
+    @property
+    def decision_threshold(self) -> float:
+        """Where an output value reads as true: 0.5 (binary) or 0 (bipolar)."""
+        return 0.0 if self.encoding == "bipolar" else 0.5
+
+    def decide(self, X: Any) -> np.ndarray:
+        """Boolean outputs ``(rows, len(outputs))``: an output is true above the threshold.
+
+        >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+        >>> net.decide([[0], [1]]).tolist()
+        [[True], [False]]
+        """
+        return self.evaluate(X) > self.decision_threshold
+
+    # ------------------------------------------------------------------ dense form
+    def dense_layers(self) -> list[tuple[np.ndarray, np.ndarray, str]]:
+        """The network as dense layers ``(W, b, activation)``, ``W`` of shape (n_out, n_in).
+
+        Needs the strict layered form (compile with ``layered=True``) in which every layer
+        has one activation; the columns of layer 1 are the input units in order, the
+        columns of layer L the neurons of layer L - 1 in file order.
+
+        >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -0.5),),
+        ...               (Output("y", "y"),))
+        >>> [(W.tolist(), b.tolist(), f) for W, b, f in net.dense_layers()]
+        [([[1.0, 1.0]], [-0.5], 'step')]
+        """
+        if not self.is_strict():
+            raise ValueError(
+                "dense_layers needs the strict layered form (compile with layered=True)"
+            )
+        prev = list(self.inputs)
+        layers = []
+        for L in range(1, self.depth + 1):
+            units = [n for n in self.neurons if n.layer == L]
+            names = {a.activation for a in units}
+            if len(names) != 1:
+                raise ValueError(f"layer {L} mixes activations {sorted(names)}")
+            col = {name: i for i, name in enumerate(prev)}
+            W = np.zeros((len(units), len(prev)))
+            b = np.zeros(len(units))
+            for r, n in enumerate(units):
+                for i, w in zip(n.inputs, n.weights):
+                    W[r, col[i]] += w
+                b[r] = n.bias
+            layers.append((W, b, names.pop()))
+            prev = [n.name for n in units]
+        return layers
+
+    # ------------------------------------------------------------------ files
+    def save(self, path: str) -> None:
+        """Write the network file for ``path``'s suffix (atomically: temp file, then rename).
+
+        >>> import tempfile, os
+        >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+        >>> p = os.path.join(tempfile.mkdtemp(), "n.json"); net.save(p)
+        >>> load(p).neurons[0].bias
+        0.5
+        """
+        from .fileformat import save
+
+        save(self, path)
+
+    def to_json(self) -> str:
+        """The network file text (DESIGN.md §4)."""
+        from .fileformat import dumps
+
+        return dumps(self)
+
+    def __repr__(self) -> str:
+        return (
+            f"Network(inputs={len(self.inputs)}, neurons={len(self.neurons)}, "
+            f"outputs={len(self.outputs)}, depth={self.depth})"
+        )
+
+
+def load(path: str) -> Network:
+    """Read a network file (see :func:`thresholdc.network.fileformat.load`)."""
+    from .fileformat import load as _load
+
+    return _load(path)
+
+
+def as_rows(X: Sequence[Sequence[float]] | np.ndarray) -> np.ndarray:
+    """``X`` as a 2-D float array."""
+    return np.atleast_2d(np.asarray(X, dtype=float))

@@ -1,0 +1,1 @@
+"""syntax stage of thresholdc."""
