@@ -1,0 +1,448 @@
+"""Soft activations with certified gains: the ``soften`` pass (issue 4 §1 and §3).
+
+The compiler's step network has integer weights and half-integer biases, so on every 0/1 input
+every step neuron has ``|z| ≥ 0.5``.  :func:`apply_activation` turns it into the network the
+user asked for: ``step`` (unchanged, optionally in the bipolar encoding), ``sigmoid`` or
+``tanh`` with certified gains folded into the weights and bias, or the exact ``relu`` form
+(:mod:`thresholdc.network.relu`).  With ``layered=True`` the result is the strict layered form.
+
+The certificate (stored as ``meta.certificate``) says how far every neuron's output can be
+from its exact step value on every input assignment::
+
+    {"tolerance": EPS | null, "margins": "exhaustive" | "assumed", "bound": B,
+     "neurons": {NAME: {"margin": m, "gain": g, "bound": b}, ...}}
+
+``m`` is the pre-gain margin (min |z| over every assignment of the input units; 0.5 when they
+are too many to enumerate), ``g`` the gain folded into the neuron, ``b`` its certified
+deviation and ``B`` the largest ``b``.  :func:`thresholdc.verify.certificate.check_certificate`
+checks it.
+
+>>> from thresholdc.network.model import Network, Neuron, Output
+>>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5, origin="y"),),
+...               (Output("y", "y"),))
+>>> soft = apply_activation(net, activation="sigmoid", tolerance=0.01)
+>>> soft.neurons[0].activation, soft.meta["certificate"]["bound"] <= 0.01
+('sigmoid', True)
+"""
+
+from __future__ import annotations
+
+import math
+import sys
+from collections.abc import Iterator
+from dataclasses import replace
+from decimal import ROUND_CEILING, Decimal
+from typing import Any
+
+import numpy as np
+
+from ..errors import UsageError
+from .model import Network
+
+__all__ = [
+    "ACTIVATION_CHOICES",
+    "ENCODING_CHOICES",
+    "DEFAULT_TOLERANCE",
+    "MAX_MARGIN_INPUTS",
+    "apply_activation",
+    "certify_gains",
+    "to_bipolar",
+    "neuron_margins",
+    "certificate_bound",
+    "misread_limit",
+    "survives",
+    "deviation",
+]
+
+ACTIVATION_CHOICES = ("step", "sigmoid", "tanh", "relu")
+ENCODING_CHOICES = ("binary", "bipolar")
+DEFAULT_TOLERANCE = 0.01
+MAX_MARGIN_INPUTS = 20
+GAIN_DIGITS = 6  # gains are rounded up to this many significant digits
+BOUND_DIGITS = 10  # bounds are rounded up to this many significant digits
+_CHUNK_CELLS = 1 << 22  # rows × units evaluated at once while enumerating margins
+
+
+# ---------------------------------------------------------------------------- options
+def _check_options(
+    activation: str, gain: float | None, tolerance: float | None, encoding: str
+) -> None:
+    """Raise UsageError for a combination of options that does not fit together."""
+    if activation not in ACTIVATION_CHOICES:
+        raise UsageError(
+            f"unknown activation {activation!r}; choose one of {', '.join(ACTIVATION_CHOICES)}"
+        )
+    if encoding not in ENCODING_CHOICES:
+        raise UsageError(
+            f"unknown encoding {encoding!r}; choose one of {', '.join(ENCODING_CHOICES)}"
+        )
+    if activation == "tanh" and encoding != "bipolar":
+        raise UsageError("--activation tanh requires --encoding bipolar")
+    if encoding == "bipolar" and activation not in ("tanh", "step"):
+        raise UsageError(
+            f"--encoding bipolar works with --activation tanh or step, not {activation}"
+        )
+    if activation in ("step", "relu"):
+        if gain is not None:
+            raise UsageError(f"--gain applies to sigmoid and tanh, not to {activation}")
+        if tolerance is not None:
+            raise UsageError(f"--tolerance applies to sigmoid and tanh, not to {activation}")
+        return
+    if gain is not None and tolerance is not None:
+        raise UsageError("give either --gain or --tolerance, not both")
+    if gain is not None and not (isinstance(gain, (int, float)) and math.isfinite(gain)
+                                 and gain > 0):
+        raise UsageError(f"--gain must be a positive number, got {gain!r}")
+    if tolerance is not None and not (
+        isinstance(tolerance, (int, float)) and 0 < tolerance < 0.5
+    ):
+        raise UsageError(f"--tolerance must be between 0 and 0.5 (exclusive), got {tolerance!r}")
+
+
+def _check_step_network(net: Network) -> None:
+    """Raise UsageError unless ``net`` is a binary step network with integer weights and
+    half-integer biases (the compiler's output)."""
+    if net.encoding != "binary":
+        raise UsageError("apply_activation needs a network in the binary encoding")
+    for n in net.neurons:
+        if n.activation != "step":
+            raise UsageError(
+                f"apply_activation needs a step network; neuron {n.name!r} is {n.activation}"
+            )
+        if not all(float(w).is_integer() for w in n.weights) or not (
+            float(n.bias) - 0.5
+        ).is_integer():
+            raise UsageError(
+                f"apply_activation needs integer weights and half-integer biases; "
+                f"neuron {n.name!r} has {n!r}"
+            )
+
+
+# ---------------------------------------------------------------------------- the pass
+def apply_activation(
+    net: Network,
+    *,
+    activation: str = "step",
+    gain: float | None = None,
+    tolerance: float | None = None,
+    encoding: str = "binary",
+    layered: bool = False,
+    progress: bool = False,
+) -> Network:
+    """The compiled step network in the chosen activation (a new network).
+
+    Parameters
+    ----------
+    net : Network
+        The compiler's step network (integer weights, half-integer biases, binary encoding),
+        not yet layered.
+    activation : {"step", "sigmoid", "tanh", "relu"}
+        ``sigmoid`` and ``tanh`` get certified gains (``meta.certificate``); ``relu`` is the
+        exact form of :func:`thresholdc.network.relu.to_relu`.
+    gain : float, optional
+        A fixed gain for every soft neuron (the certificate then shows the resulting bound,
+        with ``"tolerance": null``).  Not together with ``tolerance``.
+    tolerance : float, optional
+        Every neuron within this distance of its step value (0 < EPS < 0.5; default 0.01
+        for sigmoid/tanh when no gain is given).
+    encoding : {"binary", "bipolar"}
+        ``bipolar`` (inputs and outputs ±1) is required by ``tanh`` and allowed with ``step``.
+    layered : bool
+        Return the strict layered form (relays inserted; every output in the last layer).
+    progress : bool
+        Show a progress bar (tqdm, if installed) while margins are enumerated.
+
+    Returns
+    -------
+    Network
+
+    Raises
+    ------
+    UsageError
+        For options that do not fit together, e.g. tanh without the bipolar encoding.
+
+    Examples
+    --------
+    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5, origin="n"),),
+    ...               (Output("n", "n"),))
+    >>> apply_activation(net, activation="sigmoid", gain=8.0).neurons[0].weights
+    (-8.0,)
+    >>> apply_activation(net, activation="tanh")
+    Traceback (most recent call last):
+    ...
+    thresholdc.errors.UsageError: <input>: --activation tanh requires --encoding bipolar
+    """
+    _check_options(activation, gain, tolerance, encoding)
+    _check_step_network(net)
+    if activation == "relu":
+        from .relu import to_relu
+
+        return to_relu(net, layered=layered)
+    if layered:
+        from .layering import insert_relays
+
+        net = insert_relays(net)
+    if encoding == "bipolar":
+        net = to_bipolar(net)
+    if activation == "step":
+        return net
+    if gain is None and tolerance is None:
+        tolerance = DEFAULT_TOLERANCE
+    return certify_gains(
+        net, activation=activation, tolerance=tolerance, gain=gain, progress=progress
+    )
+
+
+def to_bipolar(net: Network) -> Network:
+    """The step network rewritten for ±1 inputs and outputs (``encoding = "bipolar"``).
+
+    A neuron ``z = Σ w x + b`` over 0/1 values reads, on ``x' = 2x − 1``,
+    ``z = Σ (w/2) x' + (b + Σ w/2)``: the same pre-activation, so the same margins.
+
+    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),),
+    ...               (Output("y", "y"),))
+    >>> bip = to_bipolar(net)
+    >>> bip.neurons[0].weights, bip.neurons[0].bias, bip.evaluate([[-1, 1], [1, 1]]).tolist()
+    ((0.5, 0.5), -0.5, [[-1.0], [1.0]])
+    """
+    assert net.encoding == "binary"
+    neurons = tuple(
+        replace(n, weights=tuple(w / 2 for w in n.weights), bias=n.bias + sum(n.weights) / 2)
+        for n in net.neurons
+    )
+    return replace(net, neurons=neurons, encoding="bipolar")
+
+
+# ---------------------------------------------------------------------------- margins
+def _has_real_units(net: Network) -> bool:
+    """True when a typed input feeds a real-valued unit (which cannot be enumerated)."""
+    return any("real" in f.values() for f in (net.features or ()))
+
+
+def _row_chunks(n_inputs: int, chunk: int, progress: bool) -> Iterator[tuple[int, int]]:
+    """``(start, stop)`` ranges covering 0 … 2**n_inputs − 1, with an optional tqdm bar."""
+    total = 1 << n_inputs
+    starts = range(0, total, chunk)
+    if progress and sys.stderr.isatty() and len(starts) > 4:
+        try:
+            from tqdm import tqdm
+
+            starts = tqdm(starts, desc="margins", unit="chunk", leave=False)
+        except ImportError:
+            pass
+    for start in starts:
+        yield start, min(start + chunk, total)
+
+
+def neuron_margins(
+    net: Network, *, max_inputs: int = MAX_MARGIN_INPUTS, progress: bool = False
+) -> tuple[np.ndarray, str]:
+    """The margin ``min |z|`` of every neuron over every assignment of the input units.
+
+    ``net`` is a step network (binary 0/1 or bipolar ±1 inputs).  With more than
+    ``max_inputs`` inputs (or real-valued units) the margins are not enumerated and the
+    compiler's guarantee 0.5 is returned with ``"assumed"``.  Chunked: never the whole truth
+    table in memory.
+
+    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (2, 2), -1.5),),
+    ...               (Output("y", "y"),))
+    >>> neuron_margins(net)
+    (array([0.5]), 'exhaustive')
+    """
+    k = len(net.inputs)
+    count = len(net.neurons)
+    if k > max_inputs or _has_real_units(net):
+        return np.full(count, 0.5), "assumed"
+    margins = np.full(count, np.inf)
+    if count == 0:
+        return margins, "exhaustive"
+    chunk = max(1, min(1 << k, _CHUNK_CELLS // (k + count)))
+    shifts = np.arange(k - 1, -1, -1, dtype=np.int64)
+    for start, stop in _row_chunks(k, chunk, progress):
+        rows = np.arange(start, stop, dtype=np.int64)
+        X = ((rows[:, None] >> shifts) & 1).astype(float)
+        if net.encoding == "bipolar":
+            X = 2.0 * X - 1.0
+        Z, _ = net.forward(X)
+        np.minimum(margins, np.abs(Z).min(axis=0), out=margins)
+    return margins, "exhaustive"
+
+
+# ---------------------------------------------------------------------------- gains
+def deviation(x: float, activation: str) -> float:
+    """How far a soft neuron can be from its step value when its true pre-activation,
+    scaled by the gain, is at least ``x`` away from 0 on the right side.
+
+    sigmoid: ``σ(−x)`` (values 0/1); tanh: ``1 − tanh(x)`` (values ±1).
+
+    >>> round(deviation(math.log(99), "sigmoid"), 12)
+    0.01
+    """
+    if activation == "tanh":
+        return 2.0 * deviation(2.0 * x, "sigmoid")
+    if x >= 0:
+        return math.exp(-x) / (1.0 + math.exp(-x))
+    return 1.0 / (1.0 + math.exp(x))
+
+
+def _gain_numerator(eps: float, activation: str) -> float:
+    """The scaled distance ``x`` with ``deviation(x) = eps``."""
+    if activation == "tanh":
+        return 0.5 * math.log((2.0 - eps) / eps)
+    return math.log(1.0 / eps - 1.0)
+
+
+def _ceil_sig(x: float, digits: int) -> float:
+    """``x`` rounded up to ``digits`` significant digits (deterministic, never below x)."""
+    if x <= 0 or not math.isfinite(x):
+        return float(x)
+    exponent = math.floor(math.log10(x)) - digits + 1
+    d = Decimal(x).quantize(Decimal(1).scaleb(exponent), rounding=ROUND_CEILING)
+    return float(d)
+
+
+def _soft_inputs(net: Network) -> list[tuple[np.ndarray, np.ndarray]]:
+    """For every neuron: indices of the neurons it reads and the |weights| on them.
+
+    Input units deviate by 0, so they are left out."""
+    pos = {n.name: j for j, n in enumerate(net.neurons)}
+    edges = []
+    for n in net.neurons:
+        pairs = [
+            (pos[i], abs(float(w)))
+            for i, w in zip(n.inputs, n.weights, strict=True)
+            if i in pos
+        ]
+        idx = np.array([p[0] for p in pairs], dtype=np.int64)
+        aw = np.array([p[1] for p in pairs], dtype=float)
+        edges.append((idx, aw))
+    return edges
+
+
+def _budgets(margins: np.ndarray, edges: list[tuple[np.ndarray, np.ndarray]],
+             eps: float) -> np.ndarray:
+    """Backward pass: ε_n = min(EPS, min over readers c of m_c / (2·Σ|w_c|))."""
+    budget = np.full(len(edges), float(eps))
+    for c in range(len(edges) - 1, -1, -1):
+        idx, aw = edges[c]
+        total = float(aw.sum())
+        if idx.size and total > 0:
+            budget[idx] = np.minimum(budget[idx], margins[c] / (2.0 * total))
+    return budget
+
+
+def certify_gains(
+    net: Network,
+    *,
+    activation: str = "sigmoid",
+    tolerance: float | None = DEFAULT_TOLERANCE,
+    gain: float | None = None,
+    progress: bool = False,
+) -> Network:
+    """Give every step neuron of ``net`` a soft activation with a certified gain.
+
+    ``net`` is a step network: binary (for sigmoid) or bipolar (for tanh, see
+    :func:`to_bipolar`), weights and bias pre-gain.  Either ``tolerance`` (derived gains) or
+    ``gain`` (one fixed gain) is given.
+
+    Rules (issue 4 §1).  A neuron whose inputs are each at most ε_i from their exact values
+    has its pre-activation moved by at most s = Σ|w_i|·ε_i (input units: ε = 0), so with gain
+    g its output is within deviation(g·(m − s)) of the step value (m: its margin).  With a
+    tolerance EPS: backward from the outputs, each neuron gets the budget
+    ε_n = min(EPS, min over readers c of m_c / (2·Σ|w_c|)) (the sum over the neurons c reads;
+    this keeps s_c ≤ m_c/2); then forward, g_n = x(ε_n) / (m_n − s_n) with deviation(x) = ε_n,
+    the smallest gain that meets the budget, rounded up to 6 significant digits.  Bounds are
+    rounded up to 10 significant digits and the rounded values are propagated.
+
+    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5, origin="n"),),
+    ...               (Output("n", "n"),))
+    >>> cert = certify_gains(net, tolerance=0.01).meta["certificate"]
+    >>> cert["neurons"]["n"]["gain"], cert["neurons"]["n"]["bound"] <= 0.01
+    (9.19024, True)
+    """
+    assert (tolerance is None) != (gain is None)
+    margins, how = neuron_margins(net, progress=progress)
+    edges = _soft_inputs(net)
+    budget = _budgets(margins, edges, tolerance) if tolerance is not None else None
+    bounds = np.zeros(len(net.neurons))
+    gains = np.zeros(len(net.neurons))
+    for j, (idx, aw) in enumerate(edges):
+        spent = float(aw @ bounds[idx]) if idx.size else 0.0
+        room = float(margins[j]) - spent
+        if budget is not None:
+            assert room > 0, "budgets keep every margin half free"
+            g = _ceil_sig(_gain_numerator(float(budget[j]), activation) / room, GAIN_DIGITS)
+        else:
+            g = float(gain)
+        gains[j] = g
+        bounds[j] = _ceil_sig(deviation(g * room, activation), BOUND_DIGITS)
+    neurons = tuple(
+        replace(
+            n,
+            weights=tuple(float(w) * g for w in n.weights),
+            bias=float(n.bias) * g,
+            activation=activation,
+        )
+        for n, g in zip(net.neurons, gains.tolist(), strict=True)
+    )
+    certificate: dict[str, Any] = {
+        "tolerance": None if tolerance is None else float(tolerance),
+        "margins": how,
+        "bound": float(bounds.max()) if len(bounds) else 0.0,
+        "neurons": {
+            n.name: {"margin": float(m), "gain": float(g), "bound": float(b)}
+            for n, m, g, b in zip(net.neurons, margins.tolist(), gains.tolist(),
+                                  bounds.tolist(), strict=True)
+        },
+    }
+    return replace(net, neurons=neurons).with_meta(certificate=certificate)
+
+
+# ---------------------------------------------------------------------------- queries
+def misread_limit(net: Network) -> float:
+    """The deviation at which an output could be misread: 0.5 (binary), 1 (bipolar).
+
+    >>> from thresholdc.network.model import Network
+    >>> misread_limit(Network((), (), ()))
+    0.5
+    """
+    return 1.0 if net.encoding == "bipolar" else 0.5
+
+
+def certificate_bound(net: Network) -> float:
+    """The certified bound ``B`` stored in ``meta.certificate`` (0.0 for an exact network).
+
+    Raises ``ValueError`` for a soft network without a certificate.
+
+    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+    >>> certificate_bound(net)
+    0.0
+    """
+    cert = net.meta.get("certificate")
+    if cert is None:
+        if any(n.activation in ("sigmoid", "tanh") for n in net.neurons):
+            raise ValueError("this soft network carries no certificate")
+        return 0.0
+    return float(cert["bound"])
+
+
+def survives(net: Network) -> bool:
+    """True when the certified bound keeps every neuron on the right side of the decision
+    threshold, i.e. the soft network still computes the rules (bound < :func:`misread_limit`).
+
+    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> net = Network(("a", "b"), (Neuron("p", 1, ("a", "b"), (1, 1), -1.5),
+    ...                            Neuron("q", 1, ("a", "b"), (1, 1), -0.5),
+    ...                            Neuron("y", 2, ("p", "q"), (1, 1), -1.5)),
+    ...               (Output("y", "y"),))
+    >>> survives(apply_activation(net, activation="sigmoid", gain=1.0))
+    False
+    >>> survives(apply_activation(net, activation="sigmoid", gain=10.0))
+    True
+    """
+    return certificate_bound(net) < misread_limit(net)
