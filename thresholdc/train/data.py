@@ -1,0 +1,414 @@
+"""Data files: a CSV table turned into input units and output labels for a network.
+
+The first row names the columns.  A network's ``features`` (issue 5 §1) say how a column becomes
+input units: a ``bool`` column is one 0/1 unit (``0``/``1``/``true``/``false``, any case,
+spaces trimmed), a ``categorical`` column becomes one-hot units (values match the declared
+values as exact strings after trimming), a ``real`` column is one unit carrying the number.
+A network without ``features`` has only Boolean inputs: each input unit is a column of the same
+name.  Columns the network does not read are ignored.  In the bipolar encoding Boolean and
+one-hot units are -1/+1.
+
+Labels map outputs to columns: ``labels={"open_vent": "vent"}``, and an output whose name is a
+column maps itself.  A label is 0/1 or true/false, or, with ``positive="yes"``, true exactly where
+the trimmed cell equals ``yes``.
+
+Every mistake is a :class:`~thresholdc.errors.DataError` naming the file and line (the header is
+line 1), printed by the command line as ``thresholdc: error: DATA:LINE: message``.
+
+>>> import os, tempfile
+>>> from thresholdc.network.model import Network, Neuron, Output
+>>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),), (Output("y", "y"),))
+>>> path = os.path.join(tempfile.mkdtemp(), "d.csv")
+>>> _ = open(path, "w").write("a,b,y\\n1,1,1\\nTRUE, false ,0\\n")
+>>> data = load_data(path, net)
+>>> data.X.tolist(), data.y.tolist(), data.outputs, data.columns
+([[1.0, 1.0], [1.0, 0.0]], [[1.0], [0.0]], ('y',), ('y',))
+"""
+
+from __future__ import annotations
+
+import csv
+import hashlib
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from ..errors import DataError, UsageError
+
+__all__ = [
+    "Table",
+    "Dataset",
+    "read_table",
+    "features_of",
+    "encode_features",
+    "encode_labels",
+    "parse_label_specs",
+    "resolve_labels",
+    "load_data",
+]
+
+_TRUE = ("1", "true")
+_FALSE = ("0", "false")
+
+
+@dataclass(frozen=True)
+class Table:
+    """A CSV file read as text: ``cells`` of shape ``(rows, columns)`` (trimmed strings),
+    ``lines[r]`` the line of data row ``r`` in the file (the header is line 1)."""
+
+    file: str
+    header: tuple[str, ...]
+    cells: np.ndarray
+    lines: np.ndarray
+    sha256: str = ""
+
+    @property
+    def rows(self) -> int:
+        return int(self.cells.shape[0])
+
+    def column(self, name: str) -> np.ndarray:
+        """The trimmed cells of column ``name``."""
+        return self.cells[:, self.header.index(name)]
+
+    def fail(self, message: str, row: int | None = None) -> DataError:
+        """A DataError at data row ``row`` (or at the header when ``row`` is None)."""
+        line = 1 if row is None else int(self.lines[row])
+        return DataError(message, file=self.file, line=line)
+
+    def __repr__(self) -> str:
+        return f"Table({self.file!r}, columns={len(self.header)}, rows={self.rows})"
+
+
+@dataclass(frozen=True)
+class Dataset:
+    """Input units and labels read from a data file for one network.
+
+    ``X`` is ``(rows, len(network.inputs))``; ``y`` is ``(rows, len(outputs))`` of 0/1 labels;
+    ``outputs`` are the labelled outputs in network order and ``columns`` their label columns.
+    """
+
+    file: str
+    X: np.ndarray
+    y: np.ndarray
+    outputs: tuple[str, ...]
+    columns: tuple[str, ...]
+    lines: np.ndarray = field(repr=False)
+    sha256: str = ""
+
+    @property
+    def rows(self) -> int:
+        return int(self.X.shape[0])
+
+    def __repr__(self) -> str:
+        return f"Dataset({self.file!r}, rows={self.rows}, outputs={list(self.outputs)})"
+
+
+# --------------------------------------------------------------------------- reading
+def _read_text(path: str) -> str:
+    """The UTF-8 text of ``path`` (a leading byte-order mark dropped), or a DataError."""
+    try:
+        with open(path, "rb") as fh:
+            raw = fh.read()
+    except FileNotFoundError:
+        raise DataError("no such file", file=path) from None
+    except IsADirectoryError:
+        raise DataError("is a folder, not a file", file=path) from None
+    except PermissionError:
+        raise DataError("permission denied", file=path) from None
+    except OSError as exc:
+        raise DataError(f"cannot read: {exc.strerror}", file=path) from None
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = raw[: exc.start].count(b"\n") + 1
+        raise DataError("not UTF-8 text", file=path, line=line) from None
+
+
+def read_table(path: str) -> Table:
+    """Read a comma-separated file with a header row (any suffix).
+
+    Blank lines are skipped; cells are trimmed; quoted fields follow the csv module.
+
+    Raises
+    ------
+    DataError
+        ``DATA:1: empty file``, ``DATA:2: no data rows``, a duplicate or empty column name,
+        a row with a different number of fields than the header (at its line).
+
+    >>> import os, tempfile
+    >>> p = os.path.join(tempfile.mkdtemp(), "t.txt")
+    >>> _ = open(p, "w").write("a, b\\n\\n 1 ,2\\n")
+    >>> t = read_table(p)
+    >>> t.header, t.cells.tolist(), t.lines.tolist()
+    (('a', 'b'), [['1', '2']], [3])
+    """
+    text = _read_text(path)
+    digest = hashlib.sha256(text.encode("utf-8")).hexdigest()
+    reader = csv.reader(text.splitlines(keepends=True))
+    header: list[str] | None = None
+    rows: list[list[str]] = []
+    lines: list[int] = []
+    start = 1
+    try:
+        for record in reader:
+            if record and not (len(record) == 1 and not record[0].strip()):
+                if header is None:
+                    header = record
+                else:
+                    rows.append(record)
+                    lines.append(start)
+            start = reader.line_num + 1
+    except csv.Error as exc:
+        raise DataError(f"cannot read the table: {exc}", file=path, line=start) from None
+    if header is None:
+        raise DataError("empty file", file=path, line=1)
+    names = tuple(h.strip() for h in header)
+    for k, name in enumerate(names):
+        if not name:
+            raise DataError(f"column {k + 1} of the header has no name", file=path, line=1)
+        if name in names[:k]:
+            raise DataError(f"column {name!r} appears twice in the header", file=path, line=1)
+    if not rows:
+        raise DataError("no data rows", file=path, line=2)
+    widths = np.fromiter(map(len, rows), dtype=np.int64, count=len(rows))
+    ragged = np.flatnonzero(widths != len(names))
+    if ragged.size:
+        r = int(ragged[0])
+        raise DataError(
+            f"row has {widths[r]} fields but the header has {len(names)}",
+            file=path,
+            line=lines[r],
+        )
+    cells = np.char.strip(np.array(rows, dtype=str).reshape(len(rows), len(names)))
+    return Table(path, names, cells, np.asarray(lines, dtype=np.int64), digest)
+
+
+# --------------------------------------------------------------------------- features
+def features_of(network: Any) -> list[dict[str, Any]]:
+    """The network's features; without ``features`` every input unit is a Boolean feature.
+
+    Input units no feature covers are Boolean features named after the unit.
+
+    >>> from thresholdc.network.model import Network
+    >>> [f["name"] for f in features_of(Network(("a", "b"), (), ()))]
+    ['a', 'b']
+    """
+    declared = list(network.features or ())
+    covered = {u for f in declared for u in f.get("units", ())}
+    extra = [
+        {"name": u, "kind": "bool", "units": [u]} for u in network.inputs if u not in covered
+    ]
+    return declared + extra
+
+
+def _first_bad(table: Table, mask: np.ndarray) -> int:
+    """The first row where ``mask`` is true."""
+    return int(np.flatnonzero(mask)[0])
+
+
+def _booleans(table: Table, cells: np.ndarray, what: str, hint: str = "") -> np.ndarray:
+    """0/1 floats for cells holding 0/1/true/false (any case); a DataError otherwise."""
+    low = np.char.lower(cells)
+    true = np.isin(low, _TRUE)
+    bad = ~(true | np.isin(low, _FALSE))
+    if bad.any():
+        r = _first_bad(table, bad)
+        raise table.fail(f"{what}: expected 0/1 or true/false, got {cells[r]!r}{hint}", r)
+    return true.astype(float)
+
+
+def _reals(table: Table, cells: np.ndarray, what: str) -> np.ndarray:
+    """Floats for cells holding finite numbers; a DataError at the first one that is not."""
+    try:
+        values = cells.astype(float)
+    except ValueError:
+        # Only on failure: find the first bad cell among the distinct values.
+        uniq, first = np.unique(cells, return_index=True)
+        bad_rows = []
+        for value, r in zip(uniq.tolist(), first.tolist(), strict=True):
+            try:
+                float(value)
+            except ValueError:
+                bad_rows.append(r)
+        r = min(bad_rows)
+        got = f"{cells[r]!r}" if cells[r] else "an empty cell"
+        raise table.fail(f"{what}: expected a number, got {got}", r) from None
+    bad = ~np.isfinite(values)
+    if bad.any():
+        r = _first_bad(table, bad)
+        raise table.fail(f"{what}: expected a finite number, got {cells[r]!r}", r)
+    return values
+
+
+def _categories(table: Table, cells: np.ndarray, values: Sequence[str], what: str) -> np.ndarray:
+    """The index of each cell among ``values``; a DataError naming the first unknown one."""
+    known = np.asarray([str(v).strip() for v in values] or [""], dtype=str)
+    order = np.argsort(known, kind="stable")
+    pos = np.searchsorted(known[order], cells)
+    pos = np.minimum(pos, len(known) - 1)
+    found = (known[order][pos] == cells) & (len(values) > 0)
+    if not found.all():
+        r = _first_bad(table, ~found)
+        listed = ", ".join(known.tolist())
+        raise table.fail(f"{what}: unknown category {cells[r]!r} (known: {listed})", r)
+    return order[pos]
+
+
+def encode_features(table: Table, network: Any) -> np.ndarray:
+    """The input units ``(rows, len(network.inputs))`` of every data row.
+
+    >>> from thresholdc.network.model import Network
+    >>> t = Table("t", ("b", "a"), np.array([["true", "0"]]), np.array([2]))
+    >>> encode_features(t, Network(("a", "b"), (), ())).tolist()
+    [[0.0, 1.0]]
+    """
+    col = {u: i for i, u in enumerate(network.inputs)}
+    X = np.zeros((table.rows, len(network.inputs)), dtype=float)
+    bipolar = getattr(network, "encoding", "binary") == "bipolar"
+    feats = features_of(network)
+    missing = [f["name"] for f in feats if f["name"] not in table.header]
+    if missing:
+        names = ", ".join(repr(m) for m in missing)
+        plural = "s" if len(missing) > 1 else ""
+        raise table.fail(
+            f"missing column{plural} {names} for the network's input{plural}"
+            f" (columns: {', '.join(table.header)})"
+        )
+    for f in feats:
+        cells = table.column(f["name"])
+        kind = f.get("kind", "bool")
+        what = f"column {f['name']!r}"
+        units = list(f.get("units") or [f["name"]])
+        if kind == "real":
+            X[:, col[units[0]]] = _reals(table, cells, what)
+            continue
+        if kind == "categorical":
+            index = _categories(table, cells, f.get("values") or [], what)
+            onehot = (index[:, None] == np.arange(len(units))[None, :]).astype(float)
+            X[:, [col[u] for u in units]] = onehot
+            continue
+        X[:, col[units[0]]] = _booleans(table, cells, what)
+    if bipolar:
+        real_units = {f["units"][0] for f in feats if f.get("kind") == "real"}
+        keep = np.array([u in real_units for u in network.inputs], dtype=bool)
+        X = np.where(keep[None, :], X, 2.0 * X - 1.0)
+    return X
+
+
+# --------------------------------------------------------------------------- labels
+def parse_label_specs(specs: Sequence[str] | None) -> dict[str, str]:
+    """``["OUT=COL", …]`` as ``{OUT: COL}``; a UsageError for a malformed or repeated one.
+
+    >>> parse_label_specs(["vent=open_vent", "alarm = alarm_col"])
+    {'vent': 'open_vent', 'alarm': 'alarm_col'}
+    """
+    labels: dict[str, str] = {}
+    for spec in specs or ():
+        out, sep, column = spec.partition("=")
+        out, column = out.strip(), column.strip()
+        if not sep or not out or not column:
+            raise UsageError(f"--label expects OUTPUT=COLUMN, got {spec!r}")
+        if out in labels:
+            raise UsageError(f"--label names output {out!r} twice")
+        labels[out] = column
+    return labels
+
+
+def resolve_labels(
+    table: Table, network: Any, labels: Mapping[str, str] | None = None
+) -> list[tuple[str, str]]:
+    """``(output, column)`` pairs in network order: the given labels, plus every output whose
+    name is a column of the table."""
+    labels = dict(labels or {})
+    names = list(network.output_names)
+    unknown = sorted(set(labels) - set(names))
+    if unknown:
+        raise UsageError(
+            f"--label names unknown output {unknown[0]!r} (outputs: {', '.join(names)})"
+        )
+    pairs = []
+    for out in names:
+        column = labels.get(out, out if out in table.header else None)
+        if column is None:
+            continue
+        if column not in table.header:
+            raise table.fail(
+                f"missing label column {column!r} for output {out!r}"
+                f" (columns: {', '.join(table.header)})"
+            )
+        pairs.append((out, column))
+    return pairs
+
+
+def encode_labels(
+    table: Table, pairs: Sequence[tuple[str, str]], positive: str | None = None
+) -> np.ndarray:
+    """0/1 labels ``(rows, len(pairs))``: Boolean cells, or ``cell == positive``."""
+    y = np.zeros((table.rows, len(pairs)), dtype=float)
+    for k, (out, column) in enumerate(pairs):
+        cells = table.column(column)
+        if positive is not None:
+            y[:, k] = (cells == positive.strip()).astype(float)
+        else:
+            what = f"label column {column!r} (output {out!r})"
+            hint = "; choose the true value with --positive VALUE"
+            y[:, k] = _booleans(table, cells, what, hint)
+    return y
+
+
+def load_data(
+    path: str,
+    network: Any,
+    *,
+    labels: Mapping[str, str] | None = None,
+    positive: str | None = None,
+    require_labels: bool = False,
+) -> Dataset:
+    """Read a data file for ``network``: its input units and the labels of its outputs.
+
+    Parameters
+    ----------
+    path : str
+        A CSV file with a header row (any suffix).
+    network : Network
+        Its ``features`` (or its input unit names) say which columns are read.
+    labels : mapping, optional
+        ``{output: column}``; an output whose name is a column maps itself.
+    positive : str, optional
+        The label value that means true (every other value is false); without it labels are
+        0/1 or true/false.
+    require_labels : bool
+        Raise a UsageError when no output has a label.
+
+    Returns
+    -------
+    Dataset
+
+    >>> import os, tempfile
+    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> net = Network(("a",), (Neuron("y", 1, ("a",), (-1,), 0.5),), (Output("y", "y"),))
+    >>> p = os.path.join(tempfile.mkdtemp(), "d.csv")
+    >>> _ = open(p, "w").write("a,ok\\n0,yes\\n1,no\\n")
+    >>> load_data(p, net, labels={"y": "ok"}, positive="yes").y.tolist()
+    [[1.0], [0.0]]
+    """
+    table = read_table(path)
+    X = encode_features(table, network)
+    pairs = resolve_labels(table, network, labels)
+    if require_labels and not pairs:
+        raise UsageError(
+            "no labels: name the label column of an output with --label OUTPUT=COLUMN"
+            f" (outputs: {', '.join(network.output_names)})"
+        )
+    y = encode_labels(table, pairs, positive)
+    return Dataset(
+        table.file,
+        X,
+        y,
+        tuple(p[0] for p in pairs),
+        tuple(p[1] for p in pairs),
+        table.lines,
+        table.sha256,
+    )
