@@ -1,1 +1,164 @@
-"""export stage of thresholdc."""
+"""Exports, imports of dense MLPs, and drawings.
+
+The suffix of a path picks the format: ``.json`` (the network file, DESIGN.md §4), ``.npz``
+(NumPy arrays of the strict layered form), ``.onnx`` (opset 17).  :func:`save_any` writes any
+of them and :func:`load_any` reads any of them back; ``.npz`` and ONNX models trained elsewhere
+are read with :func:`load_dense`, which takes names from the compiled network they came from.
+PyTorch (:func:`to_torch`, :func:`from_torch`) and drawings (:func:`draw`) need the optional
+extras ``torch`` and ``plot``; ONNX needs ``onnx`` (and ``onnxruntime`` to run it).  Those
+modules are imported only when used.
+
+>>> import os, tempfile
+>>> from thresholdc.network.model import Network, Neuron, Output
+>>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+>>> path = os.path.join(tempfile.mkdtemp(), "n.npz")
+>>> save_any(net, path)
+>>> load_any(path).evaluate([[0], [1]]).tolist()
+[[1.0], [0.0]]
+"""
+
+from __future__ import annotations
+
+import importlib
+import os
+from typing import Any
+
+from ..errors import UsageError
+from ..network import fileformat
+from ..network.model import Network
+
+__all__ = [
+    "SUFFIXES", "save_any", "load_any", "load_dense",
+    "to_onnx", "save_onnx", "from_onnx", "load_onnx",
+    "to_arrays", "save_npz", "load_npz",
+    "to_torch", "from_torch", "Step",
+    "dense_form", "network_from_layers",
+    "draw",
+]
+
+SUFFIXES = (".json", ".npz", ".onnx")
+
+# Public name -> (module, optional extra that provides its dependency).
+_LAZY = {
+    "to_onnx": ("onnx", "onnx"), "save_onnx": ("onnx", "onnx"),
+    "from_onnx": ("onnx_import", "onnx"), "load_onnx": ("onnx_import", "onnx"),
+    "to_arrays": ("npz", None), "save_npz": ("npz", None), "load_npz": ("npz", None),
+    "to_torch": ("torch", "torch"), "from_torch": ("torch", "torch"), "Step": ("torch", "torch"),
+    "dense_form": ("dense", None), "network_from_layers": ("dense", None),
+    "draw": ("draw", "plot"),
+}
+_PACKAGES = {"onnx": "onnx", "torch": "torch", "plot": "matplotlib"}
+
+
+def _module(name: str, extra: str | None, doing: str) -> Any:
+    """Import ``thresholdc.export.<name>``; a missing optional package is a UsageError."""
+    try:
+        return importlib.import_module(f".{name}", __name__)
+    except ImportError as exc:
+        if extra is None or (exc.name or "").split(".")[0] != _PACKAGES[extra]:
+            raise
+        raise UsageError(
+            f"{doing} needs the optional package {_PACKAGES[extra]!r} "
+            f"(pip install 'thresholdc[{extra}]')"
+        ) from None
+
+
+def __getattr__(name: str) -> Any:
+    """Lazy access to the exporters, so importing this package loads no optional library."""
+    if name not in _LAZY:
+        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+    module, extra = _LAZY[name]
+    return getattr(_module(module, extra, name), name)
+
+
+def _suffix(path: str, kinds: tuple[str, ...], doing: str) -> str:
+    """The lower-case suffix of ``path``; UsageError listing ``kinds`` if it is none of them."""
+    suffix = os.path.splitext(path)[1].lower()
+    if suffix not in kinds:
+        shown = f"unknown suffix {suffix!r}" if suffix else "no suffix"
+        raise UsageError(f"{shown} {doing}; supported: {', '.join(kinds)}", file=path)
+    return suffix
+
+
+def save_any(net: Network, path: str) -> None:
+    """Write ``net`` at ``path`` in the format its suffix names (atomically).
+
+    Parameters
+    ----------
+    net : Network
+    path : str
+        Ends in ``.json``, ``.npz`` or ``.onnx``.
+
+    Raises
+    ------
+    UsageError
+        Any other suffix (the message lists the supported ones), a missing optional
+        package, or a network that the format cannot hold.
+
+    >>> from thresholdc.network.model import Network, Output
+    >>> save_any(Network(("a",), (), (Output("a", "a"),)), "net.txt")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    thresholdc.errors.UsageError: net.txt: unknown suffix '.txt' ...; supported: .json, .npz, .onnx
+    """
+    suffix = _suffix(path, SUFFIXES, "to write a network")
+    if suffix == ".json":
+        fileformat.save(net, path)
+    elif suffix == ".npz":
+        _module("npz", None, "writing .npz").save_npz(net, path)
+    else:
+        _module("onnx", "onnx", "writing .onnx").save_onnx(net, path)
+
+
+def load_dense(path: str, like: Network | None = None) -> Network:
+    """Read a dense MLP trained elsewhere from ``.npz`` or ONNX, named after ``like``.
+
+    Parameters
+    ----------
+    path : str
+        An ``.npz`` file in the layout of :mod:`thresholdc.export.npz`, or an ONNX model of
+        ``Gemm`` or ``MatMul`` + ``Add`` with ``Sigmoid``, ``Tanh`` or ``Relu`` (as PyTorch's
+        exporter writes them), or one written by :func:`save_any`.
+    like : Network, optional
+        The compiled network it came from: unit names, features, encoding and output names.
+        Needed for ONNX models without thresholdc metadata.
+
+    Returns
+    -------
+    Network
+
+    Raises
+    ------
+    UsageError
+        A shape that does not fit ``like`` (naming the layer), or no names for the units.
+    NetworkFileError
+        A file that cannot be read.
+
+    >>> import os, tempfile
+    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+    >>> path = os.path.join(tempfile.mkdtemp(), "n.npz"); save_any(net, path)
+    >>> [n.name for n in load_dense(path, like=net).neurons]
+    ['n']
+    """
+    suffix = _suffix(path, (".npz", ".onnx"), "to read a dense network from")
+    if suffix == ".npz":
+        return _module("npz", None, "reading .npz").load_npz(path, like)
+    return _module("onnx_import", "onnx", "reading .onnx").load_onnx(path, like)
+
+
+def load_any(path: str, like: Network | None = None) -> Network:
+    """Read a network from ``.json``, ``.npz`` or ``.onnx`` (chosen by suffix).
+
+    ``like`` is used by ``.npz`` and ``.onnx`` (see :func:`load_dense`); a ``.json`` network
+    file names everything itself.
+
+    >>> load_any("net.csv")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    thresholdc.errors.UsageError: net.csv: unknown suffix '.csv' ...; supported: .json, .npz, .onnx
+    """
+    suffix = _suffix(path, SUFFIXES, "to read a network from")
+    if suffix == ".json":
+        return fileformat.load(path)
+    return load_dense(path, like)

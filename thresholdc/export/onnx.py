@@ -1,0 +1,243 @@
+"""ONNX export (opset 17): one float32 input ``inputs`` of shape (batch, input units) in the
+network's input order, one float32 output ``outputs`` of shape (batch, outputs) in output order.
+
+Two graph shapes, both exact:
+
+- **dense** (a strict layered network whose layers each have one activation): the plain MLP
+  chain ``Gemm → activation → Gemm → …`` of :mod:`thresholdc.export.dense`, whose last layer
+  rows are the outputs in order.  Training frameworks and ONNX converters read it as an MLP.
+- **general** (any other network, e.g. with direct connections across layers): a running value
+  matrix ``V`` (batch × units so far, starting with the inputs).  Rules: the neurons of one
+  layer are grouped by activation (activations in order of first appearance, neurons in file
+  order); each group gathers the columns of ``V`` it reads (sorted), applies one ``Gemm``
+  with the group's weights (zero where a neuron does not read a gathered column) and its
+  activation; the groups of a layer are appended to ``V`` with one ``Concat``.  The output
+  gathers the output sources' columns of the final ``V``.
+
+A step is ``Greater(z, 0)`` then ``Cast`` to float (in the bipolar encoding ``Where(…, 1, −1)``);
+sigmoid, tanh and relu are the ONNX operators of those names; linear is the ``Gemm`` alone.
+The model's ``metadata_props`` hold, as JSON text: ``inputs``, ``outputs`` (names),
+``output_sources``, ``output_origins`` (the rule definition each output carries), ``encoding``,
+``features`` (when the network has typed inputs), ``neurons`` (name, role, origin of every unit
+the graph creates, in creation order) and ``form`` (``dense`` or ``general``).  There is no
+timestamp and node names are fixed, so the same network gives the same bytes.
+
+>>> from thresholdc.network.model import Network, Neuron, Output
+>>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),), (Output("y", "y"),))
+>>> model = to_onnx(net)
+>>> [n.op_type for n in model.graph.node]
+['Gemm', 'Greater', 'Cast']
+"""
+
+from __future__ import annotations
+
+import json
+from typing import Any
+
+import numpy as np
+import onnx
+from onnx import TensorProto, helper, numpy_helper
+
+from ..network.fileformat import atomic_write
+from ..network.model import Network, Neuron
+from .dense import dense_form
+
+__all__ = ["OPSET", "IR_VERSION", "INPUT", "OUTPUT", "to_onnx", "onnx_bytes", "save_onnx"]
+
+OPSET = 17
+IR_VERSION = 8  # the IR version that goes with opset 17
+INPUT = "inputs"
+OUTPUT = "outputs"
+_OPS = {"sigmoid": "Sigmoid", "tanh": "Tanh", "relu": "Relu"}
+
+
+def _version() -> str:
+    """The package version, for ``producer_version`` (fixed text, no build details)."""
+    try:
+        from .. import __version__
+
+        return str(__version__)
+    except ImportError:
+        return "0"
+
+
+class _Graph:
+    """Nodes and initializers under construction, with fixed, numbered names."""
+
+    def __init__(self, bipolar: bool) -> None:
+        self.nodes: list[onnx.NodeProto] = []
+        self.inits: list[onnx.TensorProto] = []
+        self.bipolar = bipolar
+        self._consts: dict[str, str] = {}
+
+    def const(self, name: str, value: Any, dtype: Any = np.float32) -> str:
+        """Add an initializer called ``name`` and return its name."""
+        self.inits.append(numpy_helper.from_array(np.asarray(value, dtype=dtype), name))
+        return name
+
+    def scalar(self, name: str, value: float) -> str:
+        """A shared float32 scalar initializer."""
+        if name not in self._consts:
+            self._consts[name] = self.const(name, value)
+        return self._consts[name]
+
+    def node(self, op: str, inputs: list[str], output: str, **attrs: Any) -> str:
+        """Add one node named after its output; return the output name."""
+        self.nodes.append(helper.make_node(op, inputs, [output], name=f"{output}_{op}", **attrs))
+        return output
+
+    def affine(self, tag: str, x: str, W: np.ndarray, b: np.ndarray, activation: str,
+               out: str | None = None) -> str:
+        """``activation(x @ W.T + b)`` as Gemm plus the activation's nodes."""
+        w = self.const(f"{tag}_W", W)
+        bias = self.const(f"{tag}_b", b)
+        final = out or f"{tag}_a"
+        if activation == "linear":
+            return self.node("Gemm", [x, w, bias], final, transB=1)
+        z = self.node("Gemm", [x, w, bias], f"{tag}_z", transB=1)
+        if activation in _OPS:
+            return self.node(_OPS[activation], [z], final)
+        assert activation == "step", activation
+        g = self.node("Greater", [z, self.scalar("zero", 0.0)], f"{tag}_gt")
+        if self.bipolar:
+            return self.node("Where", [g, self.scalar("one", 1.0), self.scalar("minus_one", -1.0)],
+                             final)
+        return self.node("Cast", [g], final, to=TensorProto.FLOAT)
+
+
+def _dense_ok(net: Network) -> bool:
+    """True when ``net`` is strict layered with one activation per layer (and a neuron)."""
+    if not net.neurons or not net.is_strict():
+        return False
+    return all(len({n.activation for n in net.neurons if n.layer == L}) == 1
+               for L in range(1, net.depth + 1))
+
+
+def _build_dense(net: Network, g: _Graph) -> list[dict[str, Any]]:
+    """The MLP chain; returns the created units' metadata."""
+    form = dense_form(net)
+    x = INPUT
+    units = []
+    for k, (W, b, f) in enumerate(form.layers, start=1):
+        last = k == len(form.layers)
+        x = g.affine(f"L{k}", x, W, b, f, out=OUTPUT if last else None)
+        units += [{"name": n, "role": r, "origin": o}
+                  for n, r, o in zip(form.names[k - 1], form.roles[k - 1],
+                                     form.origins[k - 1], strict=True)]
+    return units
+
+
+def _build_general(net: Network, g: _Graph) -> list[dict[str, Any]]:
+    """The running-value-matrix graph; returns the created units' metadata."""
+    col = {name: i for i, name in enumerate(net.inputs)}
+    width = len(net.inputs)
+    V = INPUT
+    units = []
+    for L in range(1, net.depth + 1):
+        layer = [n for n in net.neurons if n.layer == L]
+        acts = list(dict.fromkeys(n.activation for n in layer))
+        parts = [V]
+        for a_index, f in enumerate(acts):
+            group = [n for n in layer if n.activation == f]
+            tag = f"L{L}g{a_index + 1}"
+            read = sorted({col[i] for n in group for i in n.inputs}) or [0]
+            W = _group_matrix(group, read, col)
+            idx = g.const(f"{tag}_cols", np.asarray(read, dtype=np.int64), np.int64)
+            x = g.node("Gather", [V, idx], f"{tag}_x", axis=1)
+            parts.append(g.affine(tag, x, W, np.array([n.bias for n in group]), f))
+            for n in group:
+                col[n.name] = width
+                width += 1
+                units.append({"name": n.name, "role": n.role, "origin": n.origin})
+        V = g.node("Concat", parts, f"V{L}", axis=1)
+    out_cols = np.asarray([col[o.source] for o in net.outputs], dtype=np.int64)
+    g.node("Gather", [V, g.const("output_cols", out_cols, np.int64)], OUTPUT, axis=1)
+    return units
+
+
+def _group_matrix(group: list[Neuron], read: list[int], col: dict[str, int]) -> np.ndarray:
+    """Weights ``(len(group), len(read))`` of a group over its gathered columns."""
+    at = {c: j for j, c in enumerate(read)}
+    W = np.zeros((len(group), len(read)))
+    for r, n in enumerate(group):
+        for i, w in zip(n.inputs, n.weights, strict=True):
+            W[r, at[col[i]]] += w
+    return W
+
+
+def _origins(net: Network) -> list[str | None]:
+    """The rule definition each output carries: its neuron's origin, or the input's name."""
+    origin = {n.name: n.origin for n in net.neurons}
+    return [origin.get(o.source, o.source) for o in net.outputs]
+
+
+def to_onnx(net: Network) -> onnx.ModelProto:
+    """The network as an ONNX model (opset 17), exact on every input row.
+
+    Parameters
+    ----------
+    net : Network
+        Any network (strict layered networks become a plain MLP chain).
+
+    Returns
+    -------
+    onnx.ModelProto
+        Input ``inputs`` (batch × input units), output ``outputs`` (batch × outputs), both
+        float32, batch dimension ``batch``; names and origins in ``metadata_props``.
+
+    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+    >>> meta = {p.key: p.value for p in to_onnx(net).metadata_props}
+    >>> meta["inputs"], meta["outputs"]
+    ('["a"]', '["n"]')
+    """
+    g = _Graph(net.encoding == "bipolar")
+    form = "dense" if _dense_ok(net) else "general"
+    units = _build_dense(net, g) if form == "dense" else _build_general(net, g)
+    graph = helper.make_graph(
+        g.nodes,
+        "thresholdc",
+        [helper.make_tensor_value_info(INPUT, TensorProto.FLOAT, ["batch", len(net.inputs)])],
+        [helper.make_tensor_value_info(OUTPUT, TensorProto.FLOAT, ["batch", len(net.outputs)])],
+        initializer=g.inits,
+        doc_string=f"thresholdc network: {len(net.inputs)} input units, "
+                   f"{len(net.neurons)} neurons, {len(net.outputs)} outputs",
+    )
+    model = helper.make_model(
+        graph,
+        opset_imports=[helper.make_opsetid("", OPSET)],
+        producer_name="thresholdc",
+        producer_version=_version(),
+        ir_version=IR_VERSION,
+    )
+    meta: list[tuple[str, Any]] = [
+        ("inputs", list(net.inputs)),
+        ("outputs", list(net.output_names)),
+        ("output_sources", [o.source for o in net.outputs]),
+        ("output_origins", _origins(net)),
+        ("encoding", net.encoding),
+    ]
+    if net.features is not None:
+        meta.append(("features", list(net.features)))
+    meta += [("neurons", units), ("form", form)]
+    helper.set_model_props(model, {k: json.dumps(v, ensure_ascii=False, sort_keys=True)
+                                   for k, v in meta})
+    return model
+
+
+def onnx_bytes(net: Network) -> bytes:
+    """The serialized ONNX model of ``net`` (deterministic bytes)."""
+    return to_onnx(net).SerializeToString(deterministic=True)
+
+
+def save_onnx(net: Network, path: str) -> None:
+    """Write ``net`` as an ONNX file at ``path`` (atomically: temporary file, then rename).
+
+    >>> import os, tempfile
+    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+    >>> path = os.path.join(tempfile.mkdtemp(), "n.onnx"); save_onnx(net, path)
+    >>> onnx.load(path).opset_import[0].version
+    17
+    """
+    atomic_write(path, onnx_bytes(net))
