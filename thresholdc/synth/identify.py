@@ -1,0 +1,548 @@
+"""Threshold-function identification: is a truth table one neuron, and with which weights?
+
+A Boolean function ``f`` of ``n`` variables is a *threshold function* when integers
+``w_0 … w_{n-1}`` and ``T`` exist with ``f(x) = 1`` exactly when ``Σ w_i·x_i ≥ T``.
+:func:`identify` decides this and returns the realisation of smallest cost
+``Σ|w_i| + |T|``; among realisations of that cost, the lexicographically smallest
+``(|T|, w_0, w_1, …)``.  Truth tables are indexed so that entry ``k`` is the value at the
+input with ``x_i = (k >> i) & 1``.
+
+How it works (cheap work first; every step is exact):
+
+1. *Unateness.*  A threshold function is unate in every variable: its cofactors satisfy
+   ``f|x_i=0 ≤ f|x_i=1`` (positive, ``w_i > 0``) or the reverse (negative, ``w_i < 0``), or
+   are equal (the variable is irrelevant and gets ``w_i = 0`` in every minimal realisation).
+   Binate functions are rejected.  The cofactor tests are word-parallel operations on the
+   truth table held as one integer.
+2. *Positive form.*  Flipping the negative variables (``x_i → 1 - x_i``) gives a monotone
+   function ``g``; a realisation ``(v, T')`` of ``g`` with ``v_i ≥ 1`` corresponds to the
+   realisation ``w_i = ±v_i``, ``T = T' - Σ_{negative} v_i`` of ``f``.  The sign of ``T`` is
+   fixed by ``f(0)`` (``T ≤ 0`` exactly when ``f(0) = 1``), so the cost on the *original*
+   variables is a linear function of ``(v, T')``, and the minimisation is done exactly on it.
+3. *Chow parameters and 2-monotonicity.*  Threshold functions have totally preordered
+   variables: for every pair, ``g|x_i=1,x_j=0 ≥ g|x_i=0,x_j=1`` or the reverse.  Incomparable
+   pairs reject the function.  Strict dominance forces ``v_i > v_j`` in every realisation;
+   equal Chow parameters then mean symmetric variables.  Variables are put in a canonical
+   order (Chow parameter, then polarity), so every function equal up to permuting and
+   negating variables shares one cache entry.
+4. *LP feasibility* (``scipy.optimize.linprog``, HiGHS) on the minimal true and maximal false
+   points of ``g`` decides threshold-ness.
+5. *Exact minimisation.*  Usually by enumerating the integer weight vectors allowed by the
+   dominance order in rounds of growing total weight (cost ≥ Σ v, so a round that holds the
+   best cost found proves it optimal), keeping *all* optimal vectors up to permutations of
+   symmetric variables; the lexicographic rule is then applied on the original variables.
+   When that enumeration would be too large, an exact ILP (``scipy.optimize.milp``, HiGHS)
+   minimises the cost, then ``(|T|, w_0, …)`` in exact integer stages.
+
+Every realisation returned is checked against its truth table before it is returned.
+The number of variables is bounded by :data:`MAX_VARIABLES`.
+
+>>> identify([0, 0, 0, 1])          # x0 and x1
+Realisation(weights=(1, 1), threshold=2)
+>>> identify([0, 1, 1, 0]) is None  # x0 xor x1
+True
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import lru_cache
+from typing import Any, Sequence
+
+import numpy as np
+
+__all__ = ["MAX_VARIABLES", "Realisation", "identify", "is_threshold"]
+
+#: The largest number of variables :func:`identify` and :func:`is_threshold` accept.
+MAX_VARIABLES = 16
+
+_ENUM_BUDGET = 200_000  # largest number of candidate weight vectors enumerated per round
+_CHUNK_LIMIT = 10**6  # largest objective magnitude of one lexicographic ILP stage
+_CACHE_SIZE = 1 << 18
+
+
+@dataclass(frozen=True, slots=True)
+class Realisation:
+    """A threshold realisation: ``f(x) = 1`` exactly when ``Σ weights_i·x_i ≥ threshold``.
+
+    >>> r = Realisation((1, -1), 1)
+    >>> r.cost, r.truth_table().tolist()
+    (3, [0, 1, 0, 0])
+    """
+
+    weights: tuple[int, ...]
+    threshold: int
+
+    @property
+    def n(self) -> int:
+        """The number of variables."""
+        return len(self.weights)
+
+    @property
+    def cost(self) -> int:
+        """``Σ|weights_i| + |threshold|``, the quantity :func:`identify` minimises."""
+        return sum(abs(w) for w in self.weights) + abs(self.threshold)
+
+    def truth_table(self) -> np.ndarray:
+        """The realised function as a 0/1 ``uint8`` array of length ``2**n``."""
+        return (_points(self.n) @ np.asarray(self.weights, dtype=np.int64)
+                >= self.threshold).astype(np.uint8)
+
+    def __repr__(self) -> str:
+        return f"Realisation(weights={self.weights!r}, threshold={self.threshold})"
+
+
+def identify(truth_table: Sequence[int] | np.ndarray) -> Realisation | None:
+    """The minimal threshold realisation of a Boolean function, or None if there is none.
+
+    Parameters
+    ----------
+    truth_table : sequence of 0/1 (list, tuple or 1-D numpy array of ints or bools)
+        The function's values; its length is ``2**n`` with ``0 ≤ n ≤ MAX_VARIABLES`` (16),
+        and entry ``k`` is the value at the input with ``x_i = (k >> i) & 1``.
+
+    Returns
+    -------
+    Realisation or None
+        ``None`` when the function is not a threshold function.  Otherwise weights and
+        threshold with ``f(x) = 1`` exactly when ``Σ weights_i·x_i ≥ threshold``, of the
+        smallest cost ``Σ|weights_i| + |threshold|``, and among those of that cost the
+        lexicographically smallest ``(|threshold|, weights_0, weights_1, …)``.  Constant 1 is
+        ``weights 0, threshold 0``; constant 0 is ``weights 0, threshold 1``.
+
+    Raises
+    ------
+    ValueError
+        If the length is not a power of two, exceeds ``2**MAX_VARIABLES``, or a value is not
+        0 or 1.
+
+    Notes
+    -----
+    Results are cached by truth table.  Threshold-ness is decided by an LP (HiGHS) after
+    exact combinatorial filters; the minimisation itself is exact integer work.
+
+    Examples
+    --------
+    >>> identify([0, 0, 0, 0, 0, 0, 0, 1])   # AND of three
+    Realisation(weights=(1, 1, 1), threshold=3)
+    >>> identify([0, 0, 0, 1, 0, 1, 1, 1])   # majority of three
+    Realisation(weights=(1, 1, 1), threshold=2)
+    >>> identify([0, 1, 0, 0])               # x0 and not x1
+    Realisation(weights=(1, -1), threshold=1)
+    """
+    n, bits = _read_table(truth_table)
+    return _identify_key(n, bits)
+
+
+def is_threshold(truth_table: Sequence[int] | np.ndarray) -> bool:
+    """Whether a Boolean function is a threshold function (no minimisation; cached).
+
+    Parameters
+    ----------
+    truth_table : sequence of 0/1
+        As for :func:`identify`.
+
+    Returns
+    -------
+    bool
+
+    Examples
+    --------
+    >>> is_threshold([0, 1, 1, 1]), is_threshold([1, 0, 0, 1])
+    (True, False)
+    """
+    n, bits = _read_table(truth_table)
+    return _analyse(n, bits) is not None
+
+
+# ---------------------------------------------------------------------------------------------
+# Input checking
+
+
+def _read_table(truth_table: Any) -> tuple[int, int]:
+    """Validate a truth table; return ``(n, bits)`` with bit ``k`` of ``bits`` = entry ``k``."""
+    arr = np.asarray(truth_table)
+    if arr.ndim != 1:
+        raise ValueError(
+            "Expected a truth table as a 1-D sequence of 0/1 values of length 2**n. "
+            f"Got an array of shape {arr.shape} instead.")
+    size = arr.shape[0]
+    if size == 0 or size & (size - 1):
+        raise ValueError(
+            "Expected a truth table of length 2**n (1, 2, 4, 8, ...). "
+            f"Got length {size} instead.")
+    n = size.bit_length() - 1
+    if n > MAX_VARIABLES:
+        raise ValueError(
+            f"Expected a truth table of at most {MAX_VARIABLES} variables "
+            f"(length ≤ {1 << MAX_VARIABLES}). Got {n} variables (length {size}) instead.")
+    kind = arr.dtype.kind
+    if kind != "b":
+        if kind not in "iuf":
+            raise ValueError(
+                "Expected truth-table values 0 or 1 (ints or bools). "
+                f"Got values of type {arr.dtype} instead.")
+        bad = (arr != 0) & (arr != 1)
+        if bad.any():
+            k = int(np.argmax(bad))
+            raise ValueError(
+                f"Expected truth-table values 0 or 1. Got {arr[k]!r} at index {k} instead.")
+    packed = np.packbits(arr.astype(bool, copy=False), bitorder="little")
+    return n, int.from_bytes(packed.tobytes(), "little")
+
+
+# ---------------------------------------------------------------------------------------------
+# Word-parallel helpers on truth tables held as integers
+
+
+@lru_cache(maxsize=None)
+def _points(n: int) -> np.ndarray:
+    """All inputs of ``n`` variables as an ``(2**n, n)`` 0/1 int64 array, row ``k`` = input k."""
+    k = np.arange(1 << n, dtype=np.int64)
+    return (k[:, None] >> np.arange(n, dtype=np.int64)) & 1
+
+
+@lru_cache(maxsize=None)
+def _masks(n: int) -> tuple[tuple[int, ...], int]:
+    """Per variable the integer with bit ``k`` set when ``x_i = 1`` at ``k``; and all-ones."""
+    pts = _points(n).astype(bool)
+    return tuple(_to_bits(pts[:, i]) for i in range(n)), (1 << (1 << n)) - 1
+
+
+def _flip(bits: int, mask1: int, shift: int) -> int:
+    """The truth table with variable ``x_i`` replaced by ``1 - x_i``."""
+    return ((bits & mask1) >> shift) | ((bits & ~mask1) << shift)
+
+
+def _to_array(n: int, bits: int) -> np.ndarray:
+    """The truth table as a bool array of length ``2**n``."""
+    size = 1 << n
+    raw = np.frombuffer(bits.to_bytes((size + 7) // 8, "little"), dtype=np.uint8)
+    return np.unpackbits(raw, bitorder="little")[:size].astype(bool)
+
+
+def _to_bits(table: np.ndarray) -> int:
+    """The inverse of :func:`_to_array`."""
+    return int.from_bytes(np.packbits(table, bitorder="little").tobytes(), "little")
+
+
+# ---------------------------------------------------------------------------------------------
+# Analysis: filters, positive form, canonical order
+
+
+@dataclass(frozen=True, slots=True)
+class _Analysis:
+    """A function that passed every filter and the LP, in canonical positive form."""
+
+    n: int
+    order: tuple[int, ...]  # original variable at each canonical position
+    negative: tuple[bool, ...]  # polarity at each canonical position
+    classes: tuple[tuple[int, ...], ...]  # canonical positions of each symmetry class
+    g_bits: int  # the positive form over the canonical positions
+    f_zero: int  # f(0, …, 0)
+
+
+@lru_cache(maxsize=_CACHE_SIZE)
+def _analyse(n: int, bits: int) -> _Analysis | None:
+    """Run the exact filters and the LP; None when the function is not a threshold function."""
+    masks, full = _masks(n)
+    if bits in (0, full):
+        return _Analysis(n, (), (), (), bits & 1, bits & 1)
+    # rules: x_i is positive unate when f|x_i=0 ⊆ f|x_i=1, negative for the reverse,
+    # irrelevant when they are equal; anything else is binate and not threshold.
+    relevant, negative = [], []
+    pos_bits = bits
+    for i in range(n):
+        s = 1 << i
+        f1 = (bits & masks[i]) >> s
+        f0 = bits & ~masks[i]
+        if f0 == f1:
+            continue
+        if f0 & ~f1 == 0:
+            relevant.append(i)
+            negative.append(False)
+        elif f1 & ~f0 == 0:
+            relevant.append(i)
+            negative.append(True)
+            pos_bits = _flip(pos_bits, masks[i], s)
+        else:
+            return None
+    # Chow parameters of the positive form (counts of true points with y_i = 1) and the
+    # dominance test on every pair: y_i ⪰ y_j when g|10 ⊇ g|01.
+    chow = [(pos_bits & masks[i]).bit_count() for i in relevant]
+    m = len(relevant)
+    for a in range(m):
+        i = relevant[a]
+        for b in range(a + 1, m):
+            j = relevant[b]
+            mi, mj = masks[i], masks[j]
+            g10 = (pos_bits & mi & ~mj) >> (1 << i)
+            g01 = (pos_bits & mj & ~mi) >> (1 << j)
+            if g10 & ~g01 and g01 & ~g10:
+                return None
+    # canonical order: larger Chow parameter first, positive before negative, then index
+    ranked = sorted(range(m), key=lambda a: (-chow[a], negative[a], relevant[a]))
+    order = tuple(relevant[a] for a in ranked)
+    neg = tuple(negative[a] for a in ranked)
+    chow_c = [chow[a] for a in ranked]
+    classes: list[list[int]] = []
+    for p in range(m):
+        if p and chow_c[p] == chow_c[p - 1]:
+            classes[-1].append(p)
+        else:
+            classes.append([p])
+    # the positive form over the canonical positions: entry k' reads f at the original
+    # input whose bit order[p] is bit p of k', flipped on the negative variables
+    flip_mask = sum(1 << i for i, ng in zip(relevant, negative) if ng)
+    index = (_points(m) @ (np.int64(1) << np.asarray(order, dtype=np.int64))) ^ flip_mask
+    g_bits = _to_bits(_to_array(n, bits)[index])
+    if not _lp_feasible(m, g_bits):
+        return None
+    return _Analysis(n, order, neg, tuple(tuple(c) for c in classes), g_bits, bits & 1)
+
+
+@lru_cache(maxsize=None)
+def _extreme_points(m: int, g_bits: int) -> tuple[np.ndarray, np.ndarray]:
+    """The minimal true points and maximal false points of a monotone function, as 0/1 rows."""
+    g = _to_array(m, g_bits)
+    pts = _points(m).astype(bool)
+    k = np.arange(1 << m)
+    nb = k[:, None] ^ (1 << np.arange(m))  # the neighbours across each variable
+    has_true_below = (g[nb] & pts).any(axis=1)
+    has_false_above = (~g[nb] & ~pts).any(axis=1)
+    ymin = pts[g & ~has_true_below].astype(np.int64)
+    ymax = pts[~g & ~has_false_above].astype(np.int64)
+    return ymin, ymax
+
+
+@lru_cache(maxsize=_CACHE_SIZE)
+def _lp_feasible(m: int, g_bits: int) -> bool:
+    """Whether ``v·y ≥ T'`` on minimal true and ``v·y ≤ T' - 1`` on maximal false points holds."""
+    from scipy.optimize import linprog
+
+    ymin, ymax = _extreme_points(m, g_bits)
+    A = np.vstack([np.hstack([-ymin, np.ones((len(ymin), 1))]),
+                   np.hstack([ymax, -np.ones((len(ymax), 1))])])
+    b = np.concatenate([np.zeros(len(ymin)), -np.ones(len(ymax))])
+    res = linprog(np.r_[np.ones(m), 0.0], A_ub=A, b_ub=b,
+                  bounds=[(1, None)] * m + [(None, None)], method="highs")
+    assert res.status in (0, 2), f"LP ended with status {res.status}: {res.message}"
+    return res.status == 0
+
+
+# ---------------------------------------------------------------------------------------------
+# Minimisation
+
+
+@lru_cache(maxsize=_CACHE_SIZE)
+def _identify_key(n: int, bits: int) -> Realisation | None:
+    """:func:`identify` on a validated table (cached)."""
+    an = _analyse(n, bits)
+    if an is None:
+        return None
+    if not an.order:
+        return Realisation((0,) * n, 0 if an.f_zero else 1)
+    parts = _parts(an)
+    neg_mask = sum(1 << p for p, ng in enumerate(an.negative) if ng)
+    reps = _enumerate_optimal(len(an.order), an.g_bits, neg_mask, an.f_zero, parts)
+    result = _solve_ilp(an, parts) if reps is None else _lexmin(an, parts, reps)
+    assert result is not None, "the LP found a realisation but the ILP did not"
+    assert np.array_equal(result.truth_table().astype(bool), _to_array(n, bits)), result
+    return result
+
+
+def _parts(an: _Analysis) -> tuple[tuple[tuple[int, ...], ...], ...]:
+    """Each symmetry class split into its positive and negative positions (in that order)."""
+    out = []
+    for cls in an.classes:
+        pos = tuple(p for p in cls if not an.negative[p])
+        neg = tuple(p for p in cls if an.negative[p])
+        out.append(tuple(part for part in (pos, neg) if part))
+    return tuple(out)
+
+
+def _cost_of(V: np.ndarray, ymin: np.ndarray, ymax: np.ndarray, negvec: np.ndarray,
+             f_zero: int) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """For candidate rows ``V``: feasible?, cost, |T| and T of the best threshold for each."""
+    tmin = (V @ ymin.T).min(axis=1)
+    fmax = (V @ ymax.T).max(axis=1)
+    feasible = fmax < tmin
+    vn = V @ negvec
+    if f_zero:  # T ≤ 0, so the cost Σv - T is smallest at the largest T' = tmin
+        T = tmin - vn
+        cost = V.sum(axis=1) - T
+    else:  # T ≥ 1, so the cost Σv + T is smallest at the smallest T' = fmax + 1
+        T = fmax + 1 - vn
+        cost = V.sum(axis=1) + T
+    return feasible, cost, np.abs(T), T
+
+
+@lru_cache(maxsize=_CACHE_SIZE)
+def _enumerate_optimal(m: int, g_bits: int, neg_mask: int, f_zero: int,
+                       parts: tuple) -> tuple[tuple[tuple[int, ...], int], ...] | None:
+    """All optimal ``(v, T)`` up to permutations inside each part, or None if too many.
+
+    Rules: ``v_p ≥ 1``; every weight of a class exceeds every weight of the next (strict
+    dominance); inside a part (symmetric variables of one polarity) weights are sorted.
+    Cost ≥ Σv + (1 if f(0) = 0 else 0), so once every vector with Σv ≤ best cost - that
+    offset has been seen, the best cost and all vectors reaching it are known exactly.
+    """
+    ymin, ymax = _extreme_points(m, g_bits)
+    negvec = np.array([(neg_mask >> p) & 1 for p in range(m)], dtype=np.int64)
+    offset = 1 - f_zero
+    S = 2 * m
+    while True:
+        V = _candidates(parts, m, S)
+        if V is None:
+            return None
+        feasible, cost, absT, T = _cost_of(V, ymin, ymax, negvec, f_zero)
+        if feasible.any():
+            need = int(cost[feasible].min()) - offset
+            if need > S:
+                S = need
+                V = _candidates(parts, m, S)
+                if V is None:
+                    return None
+                feasible, cost, absT, T = _cost_of(V, ymin, ymax, negvec, f_zero)
+            break
+        S *= 2
+    best_cost = cost[feasible].min()
+    sel = feasible & (cost == best_cost)
+    sel &= absT == absT[sel].min()
+    return tuple((tuple(int(x) for x in row), int(t)) for row, t in zip(V[sel], T[sel]))
+
+
+def _candidates(parts: tuple, m: int, S: int) -> np.ndarray | None:
+    """Every weight vector allowed by the order rules with ``Σv ≤ S`` (None: too many)."""
+    # Classes are stored largest weight first; build from the smallest class up.  Each
+    # variable of class c needs at least base_c (one more than the largest weight of the
+    # class below); variables of classes k steps further up need at least base_c + k.
+    classes = list(reversed(parts))
+    sizes = [sum(len(part) for part in cls) for cls in classes]
+    rows = np.zeros((1, m), dtype=np.int64)
+    total = np.zeros(1, dtype=np.int64)
+    base = np.ones(1, dtype=np.int64)
+    for ci, cls in enumerate(classes):
+        above = sizes[ci + 1:]
+        above_vars = sum(above)
+        above_extra = sum((k + 1) * s for k, s in enumerate(above))
+        cls_max = np.zeros(len(rows), dtype=np.int64)
+        done = 0
+        for part in cls:
+            prev = None
+            for p in part:
+                later = sizes[ci] - done - 1 + above_vars
+                lo = base if prev is None else rows[:, prev]
+                hi = S - total - later * base - above_extra
+                cnt = np.maximum(hi - lo + 1, 0)
+                count = int(cnt.sum())
+                if count > _ENUM_BUDGET:
+                    return None
+                idx = np.repeat(np.arange(len(rows)), cnt)
+                val = lo[idx] + np.arange(count) - np.repeat(np.cumsum(cnt) - cnt, cnt)
+                rows = rows[idx]
+                rows[:, p] = val
+                total, base = total[idx] + val, base[idx]
+                cls_max = np.maximum(cls_max[idx], val)
+                prev = p
+                done += 1
+        base = cls_max + 1
+    return rows
+
+
+def _lexmin(an: _Analysis, parts: tuple, reps: tuple) -> Realisation:
+    """The lexicographically smallest original weights over all permutations of the reps."""
+    # Inside a part the weights can be permuted freely; giving the smallest weights to the
+    # smallest original indices is lexicographically smallest (w = -v on negative variables).
+    best: tuple[int, ...] | None = None
+    threshold = 0
+    for v, T in reps:
+        w = [0] * an.n
+        for cls in parts:
+            for part in cls:
+                origs = sorted(an.order[p] for p in part)
+                vals = sorted(v[p] if not an.negative[p] else -v[p] for p in part)
+                for i, x in zip(origs, vals):
+                    w[i] = x
+        cand = tuple(w)
+        if best is None or cand < best:
+            best, threshold = cand, T
+    assert best is not None
+    return Realisation(best, threshold)
+
+
+def _solve_ilp(an: _Analysis, parts: tuple) -> Realisation | None:
+    """The exact minimum by integer programming: cost first, then ``(|T|, w_0, …)``."""
+    from scipy.optimize import LinearConstraint, milp
+
+    m = len(an.order)
+    ymin, ymax = _extreme_points(m, an.g_bits)
+    negvec = np.array(an.negative, dtype=np.float64)
+    rows, lb, ub = [], [], []
+
+    def add(coef: np.ndarray, lo: float, hi: float) -> None:
+        rows.append(coef)
+        lb.append(lo)
+        ub.append(hi)
+
+    # variables: v_0 … v_{m-1} (canonical positions), T'
+    for y in ymin:
+        add(np.r_[y, -1.0], 0, np.inf)
+    for y in ymax:
+        add(np.r_[y, -1.0], -np.inf, -1)
+    for c in range(len(parts) - 1):  # strict dominance between neighbouring classes
+        for p in (q for part in parts[c] for q in part):
+            for q in (q for part in parts[c + 1] for q in part):
+                add(np.r_[np.eye(m)[p] - np.eye(m)[q], 0.0], 1, np.inf)
+    for cls in parts:  # the lexicographic optimum has sorted weights inside a part
+        for part in cls:
+            ps = sorted(part, key=lambda p: an.order[p])
+            for p, q in zip(ps, ps[1:]):
+                sign = -1.0 if an.negative[p] else 1.0  # w ascending with the original index
+                add(np.r_[sign * (np.eye(m)[q] - np.eye(m)[p]), 0.0], 0, np.inf)
+    # T = T' - Σ_neg v; |T| and the cost as linear forms (T ≥ 1 exactly when f(0) = 0)
+    t_form = np.r_[-negvec, 1.0]
+    abs_t = -t_form if an.f_zero else t_form
+    cost = np.r_[np.ones(m), 0.0] + abs_t
+    add(abs_t, 0 if an.f_zero else 1, np.inf)
+    terms = [abs_t]
+    for i in sorted(an.order):
+        p = an.order.index(i)
+        terms.append(np.r_[(-1.0 if an.negative[p] else 1.0) * np.eye(m)[p], 0.0])
+
+    def solve(objective: np.ndarray) -> float | None:
+        res = milp(objective, integrality=np.ones(m + 1),
+                   bounds=(np.r_[np.ones(m), -np.inf], np.full(m + 1, np.inf)),
+                   constraints=LinearConstraint(np.array(rows), lb, ub),
+                   options={"mip_rel_gap": 0})
+        if res.status == 2:
+            return None
+        assert res.status == 0, f"ILP ended with status {res.status}: {res.message}"
+        return float(np.round(objective @ np.round(res.x)))
+
+    best = solve(cost)
+    if best is None:
+        return None
+    add(cost, best, best)
+    # the remaining terms all lie in ranges narrower than base = best + 1, so a chunk of
+    # them weighted by powers of base is minimised lexicographically by one integer program
+    base, k = int(best) + 1, 0
+    x = None
+    while k < len(terms):
+        size = 1
+        while k + size < len(terms) and base ** (size + 1) <= _CHUNK_LIMIT:
+            size += 1
+        objective = sum(base ** (size - 1 - j) * terms[k + j] for j in range(size))
+        value = solve(objective)
+        assert value is not None
+        add(objective, value, value)
+        k += size
+    res = milp(np.zeros(m + 1), integrality=np.ones(m + 1),
+               bounds=(np.r_[np.ones(m), -np.inf], np.full(m + 1, np.inf)),
+               constraints=LinearConstraint(np.array(rows), lb, ub))
+    assert res.status == 0, res.message
+    x = np.round(res.x).astype(np.int64)
+    w = [0] * an.n
+    for p, i in enumerate(an.order):
+        w[i] = int(-x[p] if an.negative[p] else x[p])
+    return Realisation(tuple(w), int(x[m] - negvec.astype(np.int64) @ x[:m]))
