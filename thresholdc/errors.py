@@ -40,7 +40,12 @@ class Span:
 
 
 class ThresholdcError(Exception):
-    """Base of every user-facing error; carries an optional source position."""
+    """Base of every user-facing error; carries an optional source position.
+
+    ``exit_code`` is what the command line exits with (2: bad input or usage).
+    """
+
+    exit_code = 2
 
     def __init__(
         self,

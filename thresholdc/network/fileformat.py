@@ -136,7 +136,8 @@ def from_dict(data: Any, file: str = "<network>") -> Network:
     )
     features = data.get("features")
     _expect(
-        features is None or (isinstance(features, list) and all(isinstance(f, dict) for f in features)),
+        features is None
+        or (isinstance(features, list) and all(isinstance(f, dict) for f in features)),
         file,
         '"features" must be a list of objects',
     )
@@ -234,7 +235,8 @@ def check_network(net: Network, file: str = "<network>") -> None:
             _expect(
                 i in layer,
                 file,
-                f"neuron {n.name!r} reads unknown unit {i!r} (units must come before their readers)",
+                f"neuron {n.name!r} reads unknown unit {i!r} "
+                "(units must come before their readers)",
             )
         want = 1 + max((layer[i] for i in n.inputs), default=0)
         _expect(

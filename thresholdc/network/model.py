@@ -21,8 +21,9 @@ with ``W`` of shape ``(n_out, n_in)``.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass, field, replace
-from typing import Any, Sequence
+from typing import Any
 
 import numpy as np
 

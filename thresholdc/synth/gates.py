@@ -33,8 +33,9 @@ AssertionError: gate 'y' reads 'n' before it is defined
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from dataclasses import dataclass, field
-from typing import Any, Iterable
+from typing import Any
 
 import networkx as nx
 import numpy as np
@@ -85,6 +86,7 @@ class GateGraph:
     gates: dict[str, Gate]
     inputs: tuple[str, ...]
     outputs: tuple[tuple[str, str], ...]
+    notes: tuple[str, ...] = ()
 
     @classmethod
     def build(

@@ -1,0 +1,49 @@
+"""thresholdc: compile rule logic into verified threshold neural networks.
+
+>>> import thresholdc
+>>> net = thresholdc.compile_rules("input a, b\\nboth = a and b\\n")
+>>> net.evaluate([[1, 1], [1, 0]]).tolist()
+[[1.0], [0.0]]
+>>> thresholdc.verify(net, "input a, b\\nboth = a and b\\n").result
+'equal'
+"""
+
+from __future__ import annotations
+
+__version__ = "0.1.0"
+
+from .api import load, verify  # noqa: E402
+from .compiler import CompileResult, compile_file, compile_rules, compile_source  # noqa: E402
+from .errors import (  # noqa: E402
+    DataError,
+    NetworkFileError,
+    RuleError,
+    ThresholdcError,
+    UsageError,
+    VerificationUndecided,
+)
+from .network.model import Network, Neuron, Output  # noqa: E402
+from .source import Source, load_source  # noqa: E402
+from .verify.report import Report  # noqa: E402
+
+__all__ = [
+    "__version__",
+    "compile_rules",
+    "compile_source",
+    "compile_file",
+    "CompileResult",
+    "load",
+    "verify",
+    "load_source",
+    "Source",
+    "Network",
+    "Neuron",
+    "Output",
+    "Report",
+    "ThresholdcError",
+    "RuleError",
+    "NetworkFileError",
+    "DataError",
+    "UsageError",
+    "VerificationUndecided",
+]

@@ -1,0 +1,202 @@
+"""``thresholdc compile SOURCE -o NET``: compile, verify, write, and print a summary."""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from typing import Any
+
+from ..compiler import compile_file
+from ..errors import UsageError
+from .common import add_parser, fmt_num, print_json, warn
+
+SUFFIXES = (".json", ".onnx", ".npz")
+
+
+def register(subparsers: Any) -> None:
+    p = add_parser(
+        subparsers,
+        "compile",
+        help="compile a rule file or netlist into a verified threshold network",
+        description=(
+            "Compile a rule file (or an ISCAS .bench / BLIF netlist) into a threshold network, "
+            "verify it against the source, write it, and print a summary. The suffix of -o "
+            f"picks the format ({', '.join(SUFFIXES)}); .npz always holds the strict layered form."
+        ),
+        example="thresholdc compile circuits/greenhouse.rules -o greenhouse.json --layered",
+    )
+    p.add_argument("source", metavar="SOURCE", help="rule file, .bench or .blif netlist")
+    p.add_argument("-o", "--output", metavar="NET", required=True, help="network file to write")
+    p.add_argument("--layered", action="store_true",
+                   help="strict layered form: relays so each layer reads only the previous one")
+    p.add_argument("--activation", choices=("step", "sigmoid", "tanh", "relu"), default="step",
+                   help="activation of the neurons (default: step)")
+    p.add_argument("--gain", type=float, metavar="G",
+                   help="fixed gain for sigmoid/tanh (the resulting error bound is reported)")
+    p.add_argument("--tolerance", type=float, metavar="EPS",
+                   help="certified tolerance for sigmoid/tanh: every output within EPS of the "
+                   "truth table (default 0.01 when no --gain)")
+    p.add_argument("--encoding", choices=("binary", "bipolar"), default="binary",
+                   help="input/output encoding: 0/1 (binary) or -1/+1 (bipolar, for tanh)")
+    p.add_argument("--no-synthesis", action="store_true",
+                   help="map one construction per gate instead of collapsing cones")
+    p.add_argument("--cut-size", type=int, default=6, metavar="K",
+                   help="largest cut (cone inputs) the collapsing pass considers (default 6)")
+    p.add_argument("--max-fan-in", type=int, metavar="N", help="largest fan-in of a neuron")
+    p.add_argument("--max-weight", type=int, metavar="W", help="largest |weight| of a neuron")
+    p.add_argument("--simplify-support", type=int, default=6, metavar="N",
+                   help="simplify definitions reading at most N names with sympy (0: off; "
+                   "default 6)")
+    p.add_argument("--method", choices=("auto", "exhaustive", "local", "sat"), default="auto",
+                   help="verification method (default auto)")
+    p.add_argument("--max-inputs", type=int, default=24, metavar="N",
+                   help="largest number of inputs checked exhaustively (default 24)")
+    p.add_argument("--time-limit", type=float, default=60.0, metavar="S",
+                   help="time budget of the SAT check in seconds (default 60)")
+    p.add_argument("--json", action="store_true", help="print the summary as JSON")
+
+
+def run(args: argparse.Namespace) -> int:
+    suffix = os.path.splitext(args.output)[1].lower()
+    if suffix not in SUFFIXES:
+        raise UsageError(
+            f"unknown output suffix {suffix or '(none)'!r} for {args.output}; "
+            f"supported: {', '.join(SUFFIXES)}"
+        )
+    result = compile_file(
+        args.source,
+        layered=args.layered or suffix == ".npz",
+        activation=args.activation,
+        gain=args.gain,
+        tolerance=args.tolerance,
+        encoding=args.encoding,
+        synthesis=not args.no_synthesis,
+        cut_size=args.cut_size,
+        max_fan_in=args.max_fan_in,
+        max_weight=args.max_weight,
+        simplify_support=args.simplify_support,
+        verify=args.method,
+        max_inputs=args.max_inputs,
+        time_limit=args.time_limit,
+    )
+    net = result.network
+    if suffix == ".json":
+        net.save(args.output)
+    else:
+        from ..export import save_any
+
+        save_any(net, args.output)
+    survived = _certificate_ok(net)
+    summary = summarise(args.source, args.output, result)
+    if args.json:
+        print_json(summary)
+    else:
+        sys.stdout.write(render_summary(summary) + "\n")
+    for w in result.warnings:
+        warn(w)
+    if not survived:
+        warn(
+            f"with gain {fmt_num(args.gain)} the certified output error bound is "
+            f"{fmt_num(net.meta['certificate']['bound'])}, enough to misread an output: the "
+            "soft network may not compute the rules; the file was written, raise the gain or "
+            "use --tolerance"
+        )
+        return 1
+    return 0
+
+
+def _certificate_ok(net: Any) -> bool:
+    """False when a stored certificate's bound lets an output be misread."""
+    if not isinstance(net.meta.get("certificate"), dict):
+        return True
+    from ..network.soften import survives
+
+    return survives(net)
+
+
+def summarise(source: str, output: str, result: Any) -> dict[str, Any]:
+    """The summary as a JSON-ready dict."""
+    net = result.network
+    weights = sum(len(n.weights) for n in net.neurons)
+    report = result.report
+    verification: dict[str, Any] = dict(net.meta.get("verification", {}))
+    if report is not None:
+        verification.update(
+            {
+                "report": report.result,
+                "assignments": report.assignments,
+                "proofs": report.proofs,
+                "notes": report.notes,
+                "seconds": round(result.seconds.get("verify", 0.0), 4),
+            }
+        )
+    cert = net.meta.get("certificate")
+    out: dict[str, Any] = {
+        "source": source,
+        "output": output,
+        "inputs": list(net.inputs),
+        "outputs": [o.name for o in net.outputs],
+        "activation": net.meta.get("options", {}).get("activation", "step"),
+        "layers": [
+            {"layer": L, **counts} for L, counts in net.layer_sizes().items()
+        ],
+        "neurons": len(net.neurons),
+        "parameters": {"weights": weights, "biases": len(net.neurons),
+                       "total": weights + len(net.neurons)},
+        "depth": net.depth,
+        "synthesis": {"before": result.before, "after": result.after},
+        "verification": verification,
+        "compile_seconds": round(result.seconds.get("compile", 0.0), 4),
+        "notes": result.notes,
+        "warnings": result.warnings,
+    }
+    if isinstance(cert, dict):
+        out["certificate"] = {k: cert.get(k) for k in ("tolerance", "margins", "bound")}
+    return out
+
+
+def _names(names: list[str], limit: int = 8) -> str:
+    shown = ", ".join(names[:limit])
+    return shown + (f", … (+{len(names) - limit})" if len(names) > limit else "")
+
+
+def render_summary(s: dict[str, Any]) -> str:
+    """The summary as text, one fact per line."""
+    layers = "; ".join(
+        f"L{e['layer']}: " + ", ".join(
+            f"{e[r]} {r}{'s' if e[r] != 1 else ''}" for r in ("gate", "relay", "extra") if e[r]
+        )
+        for e in s["layers"]
+    )
+    p = s["parameters"]
+    b, a = s["synthesis"]["before"], s["synthesis"]["after"]
+    v = s["verification"]
+    lines = [
+        f"compiled {s['source']} -> {s['output']}",
+        f"  inputs       {len(s['inputs'])} ({_names(s['inputs'])})",
+        f"  outputs      {len(s['outputs'])} ({_names(s['outputs'])})",
+        f"  neurons      {s['neurons']} ({layers or 'none'})",
+        f"  parameters   {p['total']} ({p['weights']} weights + {p['biases']} biases)",
+        f"  depth        {s['depth']}",
+        f"  activation   {s['activation']}",
+    ]
+    if b != a:
+        lines.append(
+            f"  synthesis    {b['neurons']} -> {a['neurons']} neurons, depth {b['depth']} -> "
+            f"{a['depth']}, max fan-in {b['max_fan_in']} -> {a['max_fan_in']}, max |weight| "
+            f"{b['max_weight']} -> {a['max_weight']}"
+        )
+    if "certificate" in s:
+        c = s["certificate"]
+        tol = "fixed gain" if c["tolerance"] is None else f"tolerance {fmt_num(c['tolerance'])}"
+        lines.append(f"  certificate  {tol}, bound {fmt_num(c['bound'])} ({c['margins']} margins)")
+    detail = f"{v.get('assignments', 0)} assignments, " if v.get("method") == "exhaustive" else ""
+    lines.append(
+        f"  verification {v.get('method')}: {v.get('result')} ({detail}"
+        f"{v.get('seconds', 0.0):.3f} s)"
+    )
+    lines.append(f"  compile time {s['compile_seconds']:.3f} s")
+    for note in s["notes"]:
+        lines.append(f"  note: {note}")
+    return "\n".join(lines)
