@@ -86,13 +86,19 @@ def strict_form(net: Network) -> Network:
     """
     if net.is_strict():
         return net
+    # Step relays are exact only in a step network; a soft or ReLU network must be layered
+    # when it is compiled (its relays then get the network's own activation).
+    steps = all(n.activation == "step" for n in net.neurons)
     try:
         from ..network.layering import insert_relays
     except ImportError:
+        steps = False
+    if not steps:
         raise UsageError(
             "this export needs the strict layered form: compile with --layered"
-        ) from None
-    strict = insert_relays(net)
+        )
+    bias = 0.0 if net.encoding == "bipolar" else -0.5  # a ±1 value keeps its sign with bias 0
+    strict = insert_relays(net, relay_weight=1.0, relay_bias=bias)
     assert strict.is_strict(), "insert_relays must give a strict layered network"
     return strict
 
@@ -167,36 +173,32 @@ def _relay_form(net: Network, used: set[str]) -> DenseForm:
 
 
 def check_layers(layers: Sequence[Layer], n_inputs: int | None, n_outputs: int | None,
-                 what: str) -> None:
+                 file: str | None = None) -> None:
     """Raise UsageError naming the first layer whose shape does not fit."""
+
+    def fail(message: str) -> UsageError:
+        return UsageError(message, file=file)
+
     if not layers:
-        raise UsageError(f"{what} has no layers")
+        raise fail("the dense network has no layers")
     width = n_inputs
     for k, (W, b, f) in enumerate(layers, start=1):
         if W.ndim != 2:
-            raise UsageError(f"{what}: layer {k} has a weight array of shape {W.shape}, not 2-D")
+            raise fail(f"layer {k} has a weight array of shape {W.shape}, not 2-D")
         if width is not None and W.shape[1] != width:
             where = "input units" if k == 1 else f"units in layer {k - 1}"
-            raise UsageError(
-                f"{what}: layer {k} reads {W.shape[1]} columns but there are {width} {where}"
-            )
+            raise fail(f"layer {k} reads {W.shape[1]} columns but there are {width} {where}")
         if b.shape != (W.shape[0],):
-            raise UsageError(
-                f"{what}: layer {k} has {W.shape[0]} units but a bias of shape {b.shape}"
-            )
+            raise fail(f"layer {k} has {W.shape[0]} units but a bias of shape {b.shape}")
         if f not in act.ACTIVATIONS:
-            raise UsageError(
-                f"{what}: layer {k} has unknown activation {f!r}; "
-                f"known: {', '.join(act.ACTIVATIONS)}"
-            )
+            raise fail(f"layer {k} has unknown activation {f!r}; "
+                       f"known: {', '.join(act.ACTIVATIONS)}")
         if not (np.all(np.isfinite(W)) and np.all(np.isfinite(b))):
-            raise UsageError(f"{what}: layer {k} has a weight or bias that is not finite")
+            raise fail(f"layer {k} has a weight or bias that is not finite")
         width = W.shape[0]
     if n_outputs is not None and width != n_outputs:
-        raise UsageError(
-            f"{what}: the last layer (layer {len(layers)}) has {width} units "
-            f"but there are {n_outputs} outputs"
-        )
+        raise fail(f"the last layer (layer {len(layers)}) has {width} units "
+                   f"but there are {n_outputs} outputs")
 
 
 def network_from_layers(
@@ -209,7 +211,7 @@ def network_from_layers(
     roles: Sequence[Sequence[str]] | None = None,
     origins: Sequence[Sequence[str | None]] | None = None,
     encoding: str | None = None,
-    what: str = "the dense network",
+    file: str | None = None,
 ) -> Network:
     """Build a dense :class:`Network` from layers ``(W, b, activation)``.
 
@@ -228,8 +230,8 @@ def network_from_layers(
     encoding : str, optional
         ``binary`` or ``bipolar`` when there is no ``like`` (default: bipolar when a layer
         is tanh, else binary).
-    what : str
-        How error messages name the thing being read (e.g. the file name).
+    file : str, optional
+        The file being read, for error messages.
 
     Returns
     -------
@@ -255,16 +257,15 @@ def network_from_layers(
                                    ("outputs", outputs, ref.outputs)):
             if given is not None and tuple(given) != tuple(have):
                 raise UsageError(
-                    f"{what}: its {label} {list(given)} differ from those of the network "
-                    f"it is compared with {list(have)}"
-                )
+                    f"its {label} {list(given)} differ from those of the network it is "
+                    f"compared with {list(have)}", file=file)
         inputs, outputs = ref.inputs, ref.outputs
     if inputs is None:
-        raise UsageError(f"{what}: the input unit names are unknown (give a network to copy "
-                         "them from, --like NET.json)")
+        raise UsageError("the input unit names are unknown (give the network it came from, "
+                         "--like NET.json)", file=file)
     inputs = tuple(inputs)
     outputs = tuple(outputs) if outputs is not None else None
-    check_layers(layers, len(inputs), None if outputs is None else len(outputs), what)
+    check_layers(layers, len(inputs), None if outputs is None else len(outputs), file)
     if outputs is None:
         outputs = tuple(f"y{i + 1}" for i in range(layers[-1][0].shape[0]))
     used: set[str] = set(inputs)  # unit names; output names live apart

@@ -126,7 +126,7 @@ def from_arrays(arrays: Any, *, like: Network | None = None, file: str = "<npz>"
         layers.append((W.astype(float), b.astype(float), acts[k - 1]))
     inputs = _strings(arrays["inputs"], "inputs", file) if "inputs" in keys else None
     outputs = _strings(arrays["outputs"], "outputs", file) if "outputs" in keys else None
-    return network_from_layers(layers, like=like, inputs=inputs, outputs=outputs, what=file)
+    return network_from_layers(layers, like=like, inputs=inputs, outputs=outputs, file=file)
 
 
 def _strings(array: np.ndarray, key: str, file: str) -> list[str]:

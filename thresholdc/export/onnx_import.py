@@ -86,8 +86,8 @@ class _Group:
 class _Reader:
     """The interpreter state: constants, tensor values, units and neuron groups."""
 
-    def __init__(self, model: onnx.ModelProto, what: str) -> None:
-        self.what = what
+    def __init__(self, model: onnx.ModelProto, file: str | None) -> None:
+        self.file = file
         graph = model.graph
         self.consts: dict[str, np.ndarray] = {
             t.name: _array(numpy_helper.to_array(t)) for t in graph.initializer
@@ -112,7 +112,7 @@ class _Reader:
 
     def fail(self, message: str) -> UsageError:
         """A UsageError about this model."""
-        return UsageError(f"{self.what}: {message}")
+        return UsageError(message, file=self.file)
 
     # ------------------------------------------------------------------ operands
     def const(self, name: str, node: onnx.NodeProto) -> np.ndarray:
@@ -272,7 +272,7 @@ class _Reader:
         self.values[out] = self.values.get(node.input[0])
 
 
-def _metadata(model: onnx.ModelProto, what: str) -> dict[str, Any]:
+def _metadata(model: onnx.ModelProto) -> dict[str, Any]:
     """The model's ``metadata_props``, JSON-decoded where they are JSON."""
     meta: dict[str, Any] = {}
     for prop in model.metadata_props:
@@ -294,7 +294,7 @@ def _is_chain(reader: _Reader, out: _Units) -> bool:
 
 
 def from_onnx(model: onnx.ModelProto, like: Network | None = None, *,
-              what: str = "<onnx>") -> Network:
+              file: str | None = None) -> Network:
     """Rebuild a :class:`Network` from an ONNX model (see the module docstring).
 
     Parameters
@@ -305,8 +305,8 @@ def from_onnx(model: onnx.ModelProto, like: Network | None = None, *,
     like : Network, optional
         The compiled network the model came from: names, features and encoding.  Needed for
         models without thresholdc metadata.
-    what : str
-        How error messages name the model (e.g. its file name).
+    file : str, optional
+        The model's file name, for error messages.
 
     Returns
     -------
@@ -324,17 +324,17 @@ def from_onnx(model: onnx.ModelProto, like: Network | None = None, *,
     >>> [n.name for n in from_onnx(to_onnx(net), like=net).neurons]
     ['n']
     """
-    reader = _Reader(model, what)
+    reader = _Reader(model, file)
     out = reader.run()
-    meta = _metadata(model, what)
+    meta = _metadata(model)
     units = meta.get("neurons") if isinstance(meta.get("neurons"), list) else None
     inputs, outputs = meta.get("inputs"), meta.get("outputs")
     if like is None and inputs is None:
-        raise UsageError(f"{what}: this ONNX model has no thresholdc metadata; give the "
-                         "network it came from to name its units (--like NET.json)")
+        raise UsageError("this ONNX model has no thresholdc metadata; give the "
+                         "network it came from to name its units (--like NET.json)", file=file)
     if like is not None and len(like.inputs) != reader.n_inputs:
-        raise UsageError(f"{what}: layer 1 reads {reader.n_inputs} columns but there are "
-                         f"{len(like.inputs)} input units")
+        raise UsageError(f"layer 1 reads {reader.n_inputs} columns but there are "
+                         f"{len(like.inputs)} input units", file=file)
     if _is_chain(reader, out):
         layers = [(g.W, g.b, g.activation) for g in reader.groups]
         names = roles = origins = None
@@ -349,9 +349,9 @@ def from_onnx(model: onnx.ModelProto, like: Network | None = None, *,
                 at += n
         net = network_from_layers(layers, like=like, inputs=inputs, outputs=outputs,
                                   names=names, roles=roles, origins=origins,
-                                  encoding=meta.get("encoding"), what=what)
+                                  encoding=meta.get("encoding"), file=file)
     else:
-        net = _general(reader, out, like, inputs, outputs, units, meta, what)
+        net = _general(reader, out, like, inputs, outputs, units, meta, file)
     if like is None and isinstance(meta.get("features"), list):
         net = Network(net.inputs, net.neurons, net.outputs, net.meta, net.encoding,
                       tuple(meta["features"]))
@@ -359,22 +359,22 @@ def from_onnx(model: onnx.ModelProto, like: Network | None = None, *,
 
 
 def _general(reader: _Reader, out: _Units, like: Network | None, inputs: Any, outputs: Any,
-             units: Any, meta: dict[str, Any], what: str) -> Network:
+             units: Any, meta: dict[str, Any], file: str | None) -> Network:
     """A network of any shape from the interpreted groups (zero weights dropped)."""
     if like is not None:
         for label, given, have in (("inputs", inputs, like.inputs),
                                    ("outputs", outputs, like.output_names)):
             if given is not None and list(given) != list(have):
-                raise UsageError(f"{what}: its {label} {list(given)} differ from those of the "
-                                 f"network it is compared with {list(have)}")
+                raise UsageError(f"its {label} {list(given)} differ from those of the "
+                                 f"network it is compared with {list(have)}", file=file)
         inputs, outputs = list(like.inputs), list(like.output_names)
     inputs, outputs = list(inputs), list(outputs or [])
     if len(out.cols) != len(outputs):
-        raise UsageError(f"{what}: the model has {len(out.cols)} outputs but there are "
-                         f"{len(outputs)} output names")
+        raise UsageError(f"the model has {len(out.cols)} outputs but there are "
+                         f"{len(outputs)} output names", file=file)
     if len(inputs) != reader.n_inputs:
-        raise UsageError(f"{what}: layer 1 reads {reader.n_inputs} columns but there are "
-                         f"{len(inputs)} input units")
+        raise UsageError(f"layer 1 reads {reader.n_inputs} columns but there are "
+                         f"{len(inputs)} input units", file=file)
     total = reader.width - reader.n_inputs
     named = units if units is not None and len(units) == total else None
     used = set(inputs)
@@ -420,4 +420,4 @@ def load_onnx(path: str, like: Network | None = None) -> Network:
     except Exception as exc:  # protobuf raises its own DecodeError types
         raise NetworkFileError(f"not a readable ONNX model ({type(exc).__name__})",
                                file=path) from None
-    return from_onnx(model, like, what=path)
+    return from_onnx(model, like, file=path)

@@ -163,4 +163,4 @@ def from_torch(module: nn.Module, like: Network) -> Network:
     >>> from_torch(to_torch(net), like=net).neurons[0].weights
     (-2.0,)
     """
-    return network_from_layers(layers_of(module), like=like, what="the torch module")
+    return network_from_layers(layers_of(module), like=like)
