@@ -45,9 +45,10 @@ True
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
-from functools import lru_cache
-from typing import Any, Sequence
+from functools import cache, lru_cache
+from typing import Any
 
 import numpy as np
 
@@ -59,6 +60,7 @@ MAX_VARIABLES = 16
 _ENUM_BUDGET = 200_000  # largest number of candidate weight vectors enumerated per round
 _CHUNK_LIMIT = 10**6  # largest objective magnitude of one lexicographic ILP stage
 _CACHE_SIZE = 1 << 18
+_RAW_CACHE_LENGTH = 256  # tables up to this length are also cached by their raw bytes
 
 
 @dataclass(frozen=True, slots=True)
@@ -161,11 +163,35 @@ def is_threshold(truth_table: Sequence[int] | np.ndarray) -> bool:
 
 def _read_table(truth_table: Any) -> tuple[int, int]:
     """Validate a truth table; return ``(n, bits)`` with bit ``k`` of ``bits`` = entry ``k``."""
-    arr = np.asarray(truth_table)
+    try:
+        arr = np.asarray(truth_table)
+    except (ValueError, TypeError) as err:
+        raise ValueError(
+            "Expected a truth table as a 1-D sequence of 0/1 values of length 2**n. "
+            f"Got {type(truth_table).__name__} that is not a flat sequence of numbers "
+            "instead.") from err
     if arr.ndim != 1:
         raise ValueError(
             "Expected a truth table as a 1-D sequence of 0/1 values of length 2**n. "
             f"Got an array of shape {arr.shape} instead.")
+    kind = arr.dtype.kind
+    if kind not in "biuf":
+        raise ValueError(
+            "Expected truth-table values 0 or 1 (ints or bools). "
+            f"Got values of type {arr.dtype} instead.")
+    if arr.shape[0] <= _RAW_CACHE_LENGTH:
+        return _read_raw(arr.dtype.str, arr.tobytes())
+    return _read_array(arr)
+
+
+@lru_cache(maxsize=_CACHE_SIZE)
+def _read_raw(dtype: str, raw: bytes) -> tuple[int, int]:
+    """:func:`_read_array` on a short table, cached by its bytes (a hit skips every check)."""
+    return _read_array(np.frombuffer(raw, dtype=dtype))
+
+
+def _read_array(arr: np.ndarray) -> tuple[int, int]:
+    """Check the length and values of a 1-D numeric array and pack it into an integer."""
     size = arr.shape[0]
     if size == 0 or size & (size - 1):
         raise ValueError(
@@ -177,17 +203,17 @@ def _read_table(truth_table: Any) -> tuple[int, int]:
             f"Expected a truth table of at most {MAX_VARIABLES} variables "
             f"(length ≤ {1 << MAX_VARIABLES}). Got {n} variables (length {size}) instead.")
     kind = arr.dtype.kind
-    if kind != "b":
-        if kind not in "iuf":
-            raise ValueError(
-                "Expected truth-table values 0 or 1 (ints or bools). "
-                f"Got values of type {arr.dtype} instead.")
-        bad = (arr != 0) & (arr != 1)
-        if bad.any():
-            k = int(np.argmax(bad))
-            raise ValueError(
-                f"Expected truth-table values 0 or 1. Got {arr[k]!r} at index {k} instead.")
-    packed = np.packbits(arr.astype(bool, copy=False), bitorder="little")
+    if kind in "iu":
+        ok = not np.count_nonzero(arr >> 1)  # 0 and 1 are the only integers with x >> 1 == 0
+    elif kind == "f":
+        ok = not np.count_nonzero((arr != 0) & (arr != 1))
+    else:
+        ok = True
+    if not ok:
+        k = int(np.flatnonzero((arr != 0) & (arr != 1))[0])
+        raise ValueError(
+            f"Expected truth-table values 0 or 1. Got {arr[k].item()!r} at index {k} instead.")
+    packed = np.packbits(arr if kind in "biu" else arr != 0, bitorder="little")
     return n, int.from_bytes(packed.tobytes(), "little")
 
 
@@ -195,14 +221,14 @@ def _read_table(truth_table: Any) -> tuple[int, int]:
 # Word-parallel helpers on truth tables held as integers
 
 
-@lru_cache(maxsize=None)
+@cache
 def _points(n: int) -> np.ndarray:
     """All inputs of ``n`` variables as an ``(2**n, n)`` 0/1 int64 array, row ``k`` = input k."""
     k = np.arange(1 << n, dtype=np.int64)
     return (k[:, None] >> np.arange(n, dtype=np.int64)) & 1
 
 
-@lru_cache(maxsize=None)
+@cache
 def _masks(n: int) -> tuple[tuple[int, ...], int]:
     """Per variable the integer with bit ``k`` set when ``x_i = 1`` at ``k``; and all-ones."""
     pts = _points(n).astype(bool)
@@ -293,7 +319,7 @@ def _analyse(n: int, bits: int) -> _Analysis | None:
             classes.append([p])
     # the positive form over the canonical positions: entry k' reads f at the original
     # input whose bit order[p] is bit p of k', flipped on the negative variables
-    flip_mask = sum(1 << i for i, ng in zip(relevant, negative) if ng)
+    flip_mask = sum(1 << i for i, ng in zip(relevant, negative, strict=True) if ng)
     index = (_points(m) @ (np.int64(1) << np.asarray(order, dtype=np.int64))) ^ flip_mask
     g_bits = _to_bits(_to_array(n, bits)[index])
     if not _lp_feasible(m, g_bits):
@@ -301,7 +327,7 @@ def _analyse(n: int, bits: int) -> _Analysis | None:
     return _Analysis(n, order, neg, tuple(tuple(c) for c in classes), g_bits, bits & 1)
 
 
-@lru_cache(maxsize=None)
+@lru_cache(maxsize=4096)
 def _extreme_points(m: int, g_bits: int) -> tuple[np.ndarray, np.ndarray]:
     """The minimal true points and maximal false points of a monotone function, as 0/1 rows."""
     g = _to_array(m, g_bits)
@@ -346,7 +372,7 @@ def _identify_key(n: int, bits: int) -> Realisation | None:
     neg_mask = sum(1 << p for p, ng in enumerate(an.negative) if ng)
     reps = _enumerate_optimal(len(an.order), an.g_bits, neg_mask, an.f_zero, parts)
     result = _solve_ilp(an, parts) if reps is None else _lexmin(an, parts, reps)
-    assert result is not None, "the LP found a realisation but the ILP did not"
+    assert result is not None, "the LP found a real realisation but the ILP no integer one"
     assert np.array_equal(result.truth_table().astype(bool), _to_array(n, bits)), result
     return result
 
@@ -409,7 +435,8 @@ def _enumerate_optimal(m: int, g_bits: int, neg_mask: int, f_zero: int,
     best_cost = cost[feasible].min()
     sel = feasible & (cost == best_cost)
     sel &= absT == absT[sel].min()
-    return tuple((tuple(int(x) for x in row), int(t)) for row, t in zip(V[sel], T[sel]))
+    return tuple((tuple(int(x) for x in row), int(t))
+                 for row, t in zip(V[sel], T[sel], strict=True))
 
 
 def _candidates(parts: tuple, m: int, S: int) -> np.ndarray | None:
@@ -462,7 +489,7 @@ def _lexmin(an: _Analysis, parts: tuple, reps: tuple) -> Realisation:
             for part in cls:
                 origs = sorted(an.order[p] for p in part)
                 vals = sorted(v[p] if not an.negative[p] else -v[p] for p in part)
-                for i, x in zip(origs, vals):
+                for i, x in zip(origs, vals, strict=True):
                     w[i] = x
         cand = tuple(w)
         if best is None or cand < best:
@@ -497,7 +524,7 @@ def _solve_ilp(an: _Analysis, parts: tuple) -> Realisation | None:
     for cls in parts:  # the lexicographic optimum has sorted weights inside a part
         for part in cls:
             ps = sorted(part, key=lambda p: an.order[p])
-            for p, q in zip(ps, ps[1:]):
+            for p, q in zip(ps, ps[1:], strict=False):
                 sign = -1.0 if an.negative[p] else 1.0  # w ascending with the original index
                 add(np.r_[sign * (np.eye(m)[q] - np.eye(m)[p]), 0.0], 0, np.inf)
     # T = T' - Σ_neg v; |T| and the cost as linear forms (T ≥ 1 exactly when f(0) = 0)
@@ -510,7 +537,8 @@ def _solve_ilp(an: _Analysis, parts: tuple) -> Realisation | None:
         p = an.order.index(i)
         terms.append(np.r_[(-1.0 if an.negative[p] else 1.0) * np.eye(m)[p], 0.0])
 
-    def solve(objective: np.ndarray) -> float | None:
+    def solve(objective: np.ndarray) -> tuple[int, np.ndarray] | None:
+        """The optimum of one stage and its solution (None when infeasible)."""
         res = milp(objective, integrality=np.ones(m + 1),
                    bounds=(np.r_[np.ones(m), -np.inf], np.full(m + 1, np.inf)),
                    constraints=LinearConstraint(np.array(rows), lb, ub),
@@ -518,31 +546,36 @@ def _solve_ilp(an: _Analysis, parts: tuple) -> Realisation | None:
         if res.status == 2:
             return None
         assert res.status == 0, f"ILP ended with status {res.status}: {res.message}"
-        return float(np.round(objective @ np.round(res.x)))
+        x = np.round(res.x)
+        return int(round(float(objective @ x))), x.astype(np.int64)
 
-    best = solve(cost)
-    if best is None:
+    stage = solve(cost)
+    if stage is None:
         return None
+    best, x = stage
     add(cost, best, best)
-    # the remaining terms all lie in ranges narrower than base = best + 1, so a chunk of
-    # them weighted by powers of base is minimised lexicographically by one integer program
-    base, k = int(best) + 1, 0
-    x = None
+    # every remaining term takes integer values in a range narrower than base = best + 1,
+    # so a chunk of terms weighted by powers of base is minimised lexicographically by one
+    # integer program; the optimum of each chunk is then fixed by an equality
+    base, k = best + 1, 0
     while k < len(terms):
         size = 1
         while k + size < len(terms) and base ** (size + 1) <= _CHUNK_LIMIT:
             size += 1
         objective = sum(base ** (size - 1 - j) * terms[k + j] for j in range(size))
-        value = solve(objective)
-        assert value is not None
+        stage = solve(objective)
+        assert stage is not None, "a lexicographic stage of the ILP became infeasible"
+        value, x = stage
         add(objective, value, value)
         k += size
-    res = milp(np.zeros(m + 1), integrality=np.ones(m + 1),
-               bounds=(np.r_[np.ones(m), -np.inf], np.full(m + 1, np.inf)),
-               constraints=LinearConstraint(np.array(rows), lb, ub))
-    assert res.status == 0, res.message
-    x = np.round(res.x).astype(np.int64)
     w = [0] * an.n
     for p, i in enumerate(an.order):
         w[i] = int(-x[p] if an.negative[p] else x[p])
     return Realisation(tuple(w), int(x[m] - negvec.astype(np.int64) @ x[:m]))
+
+
+def _clear_caches() -> None:
+    """Empty every cache of this module (for benchmarks and tests)."""
+    for fn in (_read_raw, _analyse, _lp_feasible, _extreme_points, _identify_key,
+               _enumerate_optimal):
+        fn.cache_clear()
