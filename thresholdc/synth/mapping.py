@@ -14,6 +14,9 @@ Rules of the mapping
       first, each reading the inputs and the higher bits (the last bit is the parity);
       equal (Σw·x == T): a helper [Σ ≥ T+1] and [Σ − M·helper ≥ T];
       ite(c, t, e): a helper [c + t ≥ 2] and [2·helper + e − c ≥ 1].
+    * ``realcmp`` (``[x > c]`` / ``[x < c]`` on a real unit x) is one first-layer neuron
+      ``z = x − c`` / ``z = c − x`` with a float bias; its negation is folded into readers
+      and never into its own weights (``−(x − c) > 0`` is ``x < c``, not ``x ≤ c``).
     * A neuron computing a signal is named after it; helpers get ``~`` names unique against
       every signal and reserved name.  An output that is a negated unit gets its own neuron.
     * ``meta["cones"]`` records for each neuron named after a signal the leaves its
@@ -54,6 +57,7 @@ class _Mapper:
         self.by_name: dict[str, Neuron] = {}
         self.helpers: set[str] = set()
         self.lit: dict[str, Lit] = {}
+        self.real: set[str] = set()
 
     # ------------------------------------------------------------ neuron building
     def threshold(
@@ -75,8 +79,10 @@ class _Mapper:
         inputs = [u for u, w in coef.items() if w != 0]
         weights = [coef[u] for u in inputs]
         bias = const - T + 0.5
-        if not inputs:
-            return (None, bias > 0)
+        low = bias + sum(w for w in weights if w < 0)
+        high = bias + sum(w for w in weights if w > 0)
+        if low > 0 or high < 0:  # constant over every input (this covers no inputs at all)
+            return (None, low > 0)
         if len(inputs) == 1:
             at0, at1 = bias > 0, weights[0] + bias > 0
             if at0 == at1:
@@ -122,7 +128,19 @@ class _Mapper:
             return self.equal(sig, list(zip(args, g.weights or ())), int(g.threshold or 0), origin)
         if op == "ite":
             return self.ite(sig, args, origin)
+        if op == "realcmp":
+            return self.realcmp(sig, g, origin)
         raise AssertionError(f"unknown gate op {op!r}")
+
+    def realcmp(self, sig: str, g: Gate, origin: str | None) -> Lit:
+        """[x > c] as z = x − c, [x < c] as z = c − x: one neuron reading the real unit."""
+        op, c = g.real_test or (">", 0.0)
+        w, b = (1.0, -float(c)) if op == ">" else (-1.0, float(c))
+        neuron = Neuron(sig, 0, (g.args[0],), (w,), b, "step", "gate", origin)
+        self.neurons.append(neuron)
+        self.by_name[sig] = neuron
+        self.real.add(sig)
+        return (sig, False)
 
     def parity(self, sig: str, args: list[Lit], negate: bool, origin: str | None) -> Lit:
         """xor/xnor: one neuron per bit of the count of true units, highest bit first."""
@@ -146,9 +164,11 @@ class _Mapper:
             if j:
                 self.helpers.add(name)
             terms = [((u, False), 1) for u in units] + higher
+            if j == 0 and negate:  # the last bit read negated: not (S >= 1)  ==  -S >= 0
+                return self.threshold(name, [(t, -w) for t, w in terms], 0, origin, signal=sig)
             lit = self.threshold(name, terms, 1 << j, origin, signal=sig)
             higher.append((lit, -(1 << j)))
-        return _flip(lit) if negate else lit
+        return lit
 
     def equal(self, sig: str, terms: list[tuple[Lit, int]], T: int, origin: str | None) -> Lit:
         """[Σ w·lit == T] with one helper neuron (or one neuron at the ends of the range)."""
@@ -200,7 +220,8 @@ class _Mapper:
             return self._add_output_neuron(name, n)
         if not neg:
             return Output(name, unit)
-        if unit in self.by_name:
+        assert unit != sig, f"signal {sig!r} is carried by its own negation"
+        if unit in self.by_name and unit not in self.real:
             src = self.by_name[unit]
             n = Neuron(sig, 0, src.inputs, tuple(-w for w in src.weights), -src.bias, "step",
                        "gate", origin)
