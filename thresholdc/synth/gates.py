@@ -16,6 +16,8 @@ Gate ops (``args`` are signal names, order matters)::
     threshold weights, T       [Σ weights_i · args_i ≥ T]   (integers)
     equal     weights, T       [Σ weights_i · args_i == T]  (integers)
     ite                        args = (cond, then, else)
+    realcmp  real_test=(op, c) [x > c] or [x < c] on one real input unit x (op ">" or "<";
+                               ``>=``/``<=`` are the negations of ``<``/``>``)
 
 ``origin`` is the rule definition (or netlist signal) the gate belongs to, ``span`` its source
 position when there is one.
@@ -46,7 +48,7 @@ __all__ = ["Gate", "GateGraph", "GATE_OPS"]
 
 GATE_OPS = (
     "input", "const", "buf", "not", "and", "or", "nand", "nor", "xor", "xnor",
-    "threshold", "equal", "ite",
+    "threshold", "equal", "ite", "realcmp",
 )
 
 
@@ -61,8 +63,11 @@ class Gate:
     value: int | None = None
     origin: str | None = field(default=None, compare=False)
     span: Span | None = field(default=None, compare=False)
+    real_test: tuple[str, float] | None = None
 
     def __repr__(self) -> str:
+        if self.op == "realcmp" and self.real_test is not None:
+            return f"[{self.args[0]} {self.real_test[0]} {self.real_test[1]!r}]"
         if self.op == "const":
             return f"const({self.value})"
         if self.op in ("threshold", "equal"):
@@ -73,7 +78,7 @@ class Gate:
 
     def key(self) -> tuple:
         """A hashable key of the gate's function and arguments (for structural hashing)."""
-        return (self.op, self.args, self.weights, self.threshold, self.value)
+        return (self.op, self.args, self.weights, self.threshold, self.value, self.real_test)
 
 
 @dataclass
@@ -118,6 +123,9 @@ class GateGraph:
                 assert not g.args
             elif g.op in ("buf", "not"):
                 assert len(g.args) == 1, name
+            elif g.op == "realcmp":
+                assert len(g.args) == 1 and self.gates[g.args[0]].op == "input", name
+                assert g.real_test is not None and g.real_test[0] in (">", "<"), name
             elif g.op == "ite":
                 assert len(g.args) == 3, name
             elif g.op in ("threshold", "equal"):
@@ -158,15 +166,22 @@ class GateGraph:
     def simulate(self, X: Any, signals: Iterable[str] | None = None) -> np.ndarray:
         """Boolean values, ``(rows, outputs)``, or ``(rows, len(signals))`` for chosen signals.
 
-        ``X`` is ``(rows, inputs)`` of 0/1.  Vectorised over rows; one loop over gates.
+        ``X`` is ``(rows, inputs)`` of 0/1 (a real input unit read by ``realcmp``: its raw
+        value).  Vectorised over rows; one loop over gates.
         """
-        X = np.asarray(X).astype(bool)
+        raw = np.asarray(X, dtype=float)
+        X = raw.astype(bool)
         vals: dict[str, np.ndarray] = {}
         for i, name in enumerate(self.inputs):
             vals[name] = X[:, i]
         rows = X.shape[0]
         for name, g in self.gates.items():
             if g.op == "input":
+                continue
+            if g.op == "realcmp":
+                x = raw[:, self.inputs.index(g.args[0])]
+                op, c = g.real_test or (">", 0.0)
+                vals[name] = x > c if op == ">" else x < c
                 continue
             vals[name] = _gate_value(g, [vals[a] for a in g.args], rows)
         wanted = [s for _, s in self.outputs] if signals is None else list(signals)
