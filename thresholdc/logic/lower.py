@@ -103,7 +103,12 @@ class _Lowerer:
             sig = units[0] if len(units) == 1 else self.emit(Gate("or", units, span=e.span))
             return self.emit(Gate("not", (sig,), span=e.span)) if e.negate else sig
         if isinstance(e, ast.RealTest):
-            raise NotImplementedError("real-valued predicates are lowered by the typed-input pass")
+            # Only strict tests are gates: x >= c is not(x < c), x <= c is not(x > c).
+            from .typed import strict_real_test
+
+            op, c, negate = strict_real_test(e.op, e.value)
+            sig = self.emit(Gate("realcmp", (e.var,), span=e.span, real_test=(op, c)))
+            return self.emit(Gate("not", (sig,), span=e.span)) if negate else sig
         raise AssertionError(f"unknown expression node {e!r}")
 
     def _binop(self, e: ast.BinOp) -> str:
