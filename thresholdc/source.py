@@ -136,7 +136,9 @@ class Source:
 
         assert self.program is not None
         if self.program.is_typed():
-            return reference.evaluate_units(self.program, X, self.inputs)
+            from .logic.typed import evaluate_units
+
+            return evaluate_units(self.program, X, self.inputs)
         return reference.evaluate(self.program, X)
 
 
