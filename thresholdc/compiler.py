@@ -166,6 +166,11 @@ def compile_source(source: Source, **options: Any) -> CompileResult:
     shape, check = _options(options)
     t0 = time.perf_counter()
     mapped, net = _synthesise(source, shape)
+    if source.program is not None and source.program.is_typed():
+        from .logic.typed import network_features
+
+        net = Network(net.inputs, net.neurons, net.outputs, net.meta, net.encoding,
+                      network_features(source.program))
     check_network(net, "<compiled>")
     net = _activate(net, shape)
     check_network(net, "<compiled>")
