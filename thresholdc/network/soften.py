@@ -104,11 +104,16 @@ def _check_step_network(net: Network) -> None:
     half-integer biases (the compiler's output)."""
     if net.encoding != "binary":
         raise UsageError("apply_activation needs a network in the binary encoding")
+    from ..logic.typed import real_units
+
+    real = real_units(net)
     for n in net.neurons:
         if n.activation != "step":
             raise UsageError(
                 f"apply_activation needs a step network; neuron {n.name!r} is {n.activation}"
             )
+        if real.keys() & set(n.inputs):  # a real test z = ±(x − c): float bias by design
+            continue
         if not all(float(w).is_integer() for w in n.weights) or not (
             float(n.bias) - 0.5
         ).is_integer():
@@ -208,8 +213,12 @@ def to_bipolar(net: Network) -> Network:
     ((0.5, 0.5), -0.5, [[-1.0], [1.0]])
     """
     assert net.encoding == "binary"
+    from ..logic.typed import real_units
+
+    real = real_units(net)  # real units carry raw values in both encodings: left as they are
     neurons = tuple(
-        replace(n, weights=tuple(w / 2 for w in n.weights), bias=n.bias + sum(n.weights) / 2)
+        replace(n, weights=tuple(w if i in real else w / 2 for i, w in zip(n.inputs, n.weights)),
+                bias=n.bias + sum(w for i, w in zip(n.inputs, n.weights) if i not in real) / 2)
         for n in net.neurons
     )
     return replace(net, neurons=neurons, encoding="bipolar")
@@ -255,7 +264,9 @@ def neuron_margins(
     k = len(net.inputs)
     count = len(net.neurons)
     if k > max_inputs or _has_real_units(net):
-        return np.full(count, 0.5), "assumed"
+        from ..logic.typed import real_margins  # neurons reading real units: |w|·scale
+
+        return real_margins(net, np.full(count, 0.5)), "assumed"
     margins = np.full(count, np.inf)
     if count == 0:
         return margins, "exhaustive"
