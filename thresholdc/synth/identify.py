@@ -45,6 +45,7 @@ True
 
 from __future__ import annotations
 
+import sys
 from collections.abc import Sequence
 from dataclasses import dataclass
 from functools import cache, lru_cache
@@ -58,9 +59,12 @@ __all__ = ["MAX_VARIABLES", "Realisation", "identify", "is_threshold"]
 MAX_VARIABLES = 16
 
 _ENUM_BUDGET = 200_000  # largest number of candidate weight vectors enumerated per round
+_EVAL_CHUNK = 8192  # candidate rows evaluated per matrix product
 _CHUNK_LIMIT = 10**6  # largest objective magnitude of one lexicographic ILP stage
 _CACHE_SIZE = 1 << 18
 _RAW_CACHE_LENGTH = 256  # tables up to this length are also cached by their raw bytes
+_ASCII01 = bytes.maketrans(b"\x00\x01", b"01")
+_LITTLE = sys.byteorder == "little"
 
 
 @dataclass(frozen=True, slots=True)
@@ -163,6 +167,13 @@ def is_threshold(truth_table: Sequence[int] | np.ndarray) -> bool:
 
 def _read_table(truth_table: Any) -> tuple[int, int]:
     """Validate a truth table; return ``(n, bits)`` with bit ``k`` of ``bits`` = entry ``k``."""
+    if isinstance(truth_table, (list, tuple)) and len(truth_table) <= _RAW_CACHE_LENGTH:
+        try:
+            read = _read_bytes(bytes(truth_table))  # ints in 0..255 only
+        except (TypeError, ValueError):
+            read = None
+        if read is not None:
+            return read
     try:
         arr = np.asarray(truth_table)
     except (ValueError, TypeError) as err:
@@ -179,15 +190,27 @@ def _read_table(truth_table: Any) -> tuple[int, int]:
         raise ValueError(
             "Expected truth-table values 0 or 1 (ints or bools). "
             f"Got values of type {arr.dtype} instead.")
-    if arr.shape[0] <= _RAW_CACHE_LENGTH:
-        return _read_raw(arr.dtype.str, arr.tobytes())
+    if (kind in "biu" and arr.shape[0] <= _RAW_CACHE_LENGTH and _LITTLE
+            and arr.dtype.isnative):
+        raw, width = arr.tobytes(), arr.dtype.itemsize
+        low = raw[::width]
+        # a little-endian integer is 0 or 1 exactly when its low byte is and the rest are 0
+        if width == 1 or raw.count(0) + low.count(1) == len(raw):
+            read = _read_bytes(low)
+            if read is not None:
+                return read
     return _read_array(arr)
 
 
 @lru_cache(maxsize=_CACHE_SIZE)
-def _read_raw(dtype: str, raw: bytes) -> tuple[int, int]:
-    """:func:`_read_array` on a short table, cached by its bytes (a hit skips every check)."""
-    return _read_array(np.frombuffer(raw, dtype=dtype))
+def _read_bytes(raw: bytes) -> tuple[int, int] | None:
+    """``(n, bits)`` for a table of one byte per entry, or None if it is not a valid one."""
+    size = len(raw)
+    if size == 0 or size & (size - 1) or size > 1 << MAX_VARIABLES:
+        return None
+    if raw.translate(None, b"\x00\x01"):
+        return None
+    return size.bit_length() - 1, int(raw.translate(_ASCII01)[::-1], 2)
 
 
 def _read_array(arr: np.ndarray) -> tuple[int, int]:
@@ -390,8 +413,12 @@ def _parts(an: _Analysis) -> tuple[tuple[tuple[int, ...], ...], ...]:
 def _cost_of(V: np.ndarray, ymin: np.ndarray, ymax: np.ndarray, negvec: np.ndarray,
              f_zero: int) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """For candidate rows ``V``: feasible?, cost, |T| and T of the best threshold for each."""
-    tmin = (V @ ymin.T).min(axis=1)
-    fmax = (V @ ymax.T).max(axis=1)
+    tmin = np.empty(len(V), dtype=np.int64)
+    fmax = np.empty(len(V), dtype=np.int64)
+    for start in range(0, len(V), _EVAL_CHUNK):  # chunks keep the products small
+        part = V[start:start + _EVAL_CHUNK]
+        tmin[start:start + _EVAL_CHUNK] = (part @ ymin.T).min(axis=1)
+        fmax[start:start + _EVAL_CHUNK] = (part @ ymax.T).max(axis=1)
     feasible = fmax < tmin
     vn = V @ negvec
     if f_zero:  # T ≤ 0, so the cost Σv - T is smallest at the largest T' = tmin
@@ -576,6 +603,6 @@ def _solve_ilp(an: _Analysis, parts: tuple) -> Realisation | None:
 
 def _clear_caches() -> None:
     """Empty every cache of this module (for benchmarks and tests)."""
-    for fn in (_read_raw, _analyse, _lp_feasible, _extreme_points, _identify_key,
+    for fn in (_read_bytes, _analyse, _lp_feasible, _extreme_points, _identify_key,
                _enumerate_optimal):
         fn.cache_clear()
