@@ -12,7 +12,7 @@ from thresholdc.errors import UsageError
 from thresholdc.network.soften import apply_activation
 
 pytest.importorskip("matplotlib")
-from thresholdc.export.draw import draw, render  # noqa: E402
+from thresholdc.export.drawing import draw, render  # noqa: E402
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"  # PNG specification, section 5.2
 

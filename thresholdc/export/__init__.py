@@ -45,7 +45,7 @@ _LAZY = {
     "to_arrays": ("npz", None), "save_npz": ("npz", None), "load_npz": ("npz", None),
     "to_torch": ("torch", "torch"), "from_torch": ("torch", "torch"), "Step": ("torch", "torch"),
     "dense_form": ("dense", None), "network_from_layers": ("dense", None),
-    "draw": ("draw", "plot"),
+    "draw": ("drawing", "plot"),
 }
 _PACKAGES = {"onnx": "onnx", "torch": "torch", "plot": "matplotlib"}
 
