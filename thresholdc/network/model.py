@@ -23,6 +23,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, field, replace
+from functools import cached_property
 from typing import Any
 
 import numpy as np
@@ -148,25 +149,55 @@ class Network:
                 f"expected an array of shape (rows, {len(self.inputs)}), got {X.shape}"
             )
         rows = X.shape[0]
-        values = np.empty((rows, len(self.inputs) + len(self.neurons)), dtype=float)
-        values[:, : len(self.inputs)] = X
-        index = {name: i for i, name in enumerate(self.inputs)}
-        Z = np.empty((rows, len(self.neurons)), dtype=float)
         base = len(self.inputs)
+        # Units × rows; one sparse product per layer (neurons of a layer are independent).
+        values = np.empty((base + len(self.neurons), rows), dtype=float)
+        values[:base] = X.T
+        Z = np.empty((len(self.neurons), rows), dtype=float)
         bipolar = self.encoding == "bipolar"
+        for idx, W, b, groups in self._layer_plan:
+            z = W @ values
+            z += b[:, None]
+            Z[idx] = z
+            for name, sel in groups:
+                if name == "step":
+                    a = (z[sel] > 0).astype(float)
+                    if bipolar:
+                        a = 2.0 * a - 1.0
+                else:
+                    a = act.get(name).forward(z[sel])
+                values[base + idx[sel]] = a
+        return Z.T, values[base:].T
+
+    @cached_property
+    def _layer_plan(self) -> list[tuple[np.ndarray, Any, np.ndarray, list]]:
+        """Per layer: neuron positions, sparse weights over all units, biases, activations."""
+        from scipy import sparse
+
+        index = {name: i for i, name in enumerate(self.inputs)}
+        base = len(self.inputs)
         for j, n in enumerate(self.neurons):
-            if n.inputs:
-                cols = [index[i] for i in n.inputs]
-                z = values[:, cols] @ np.asarray(n.weights, dtype=float) + n.bias
-            else:
-                z = np.full(rows, float(n.bias))
-            Z[:, j] = z
-            if n.activation == "step" and bipolar:
-                values[:, base + j] = np.where(z > 0, 1.0, -1.0)
-            else:
-                values[:, base + j] = act.get(n.activation).forward(z)
             index[n.name] = base + j
-        return Z, values[:, base:]
+        total = base + len(self.neurons)
+        by_layer: dict[int, list[int]] = {}
+        for j, n in enumerate(self.neurons):
+            by_layer.setdefault(n.layer, []).append(j)
+        plan = []
+        for L in sorted(by_layer):
+            idx = np.array(by_layer[L], dtype=np.int64)
+            rows_, cols_, vals_ = [], [], []
+            for r, j in enumerate(idx):
+                n = self.neurons[j]
+                rows_.extend([r] * len(n.inputs))
+                cols_.extend(index[i] for i in n.inputs)
+                vals_.extend(float(w) for w in n.weights)
+            W = sparse.csr_matrix((vals_, (rows_, cols_)), shape=(len(idx), total))
+            b = np.array([float(self.neurons[j].bias) for j in idx])
+            names = [self.neurons[j].activation for j in idx]
+            groups = [(a, np.array([k for k, x in enumerate(names) if x == a]))
+                      for a in sorted(set(names))]
+            plan.append((idx, W, b, groups))
+        return plan
 
     def unit_values(self, X: Any) -> tuple[np.ndarray, dict[str, int]]:
         """All unit values ``(rows, inputs + neurons)`` and the column of each unit name."""
@@ -183,9 +214,14 @@ class Network:
         >>> net.evaluate([[0], [1]]).tolist()
         [[1.0], [0.0]]
         """
-        values, index = self.unit_values(X)
-        cols = [index[o.source] for o in self.outputs]
-        return values[:, cols]
+        X = np.asarray(X, dtype=float)
+        _, A = self.forward(X)
+        col = {name: i for i, name in enumerate(self.inputs)}
+        pos = {n.name: j for j, n in enumerate(self.neurons)}
+        out = np.empty((X.shape[0], len(self.outputs)))
+        for k, o in enumerate(self.outputs):
+            out[:, k] = A[:, pos[o.source]] if o.source in pos else X[:, col[o.source]]
+        return out
 
     @property
     def decision_threshold(self) -> float:
