@@ -52,11 +52,8 @@ def to_rules(f) -> str:
         return f"({to_rules(f[1])}) {tag} ({to_rules(f[2])})"
     if tag == "atleast":
         return f"atleast({f[1]}, {', '.join(to_rules(a) for a in f[2])})"
-    terms = "".join(
-        f"{' - ' if c < 0 else ' + '}{abs(c)}*{to_rules(v)}" for c, v in f[1]
-    ).removeprefix(" + ").replace(" - ", "-", 1) if f[1][0][0] < 0 else "".join(
-        f"{' - ' if c < 0 else ' + '}{abs(c)}*{to_rules(v)}" for c, v in f[1]
-    ).removeprefix(" + ")
+    parts = [f"{'-' if c < 0 else '+'} {abs(c)}*{to_rules(v)}" for c, v in f[1]]
+    terms = " ".join(parts).removeprefix("+ ").replace("- ", "-", 1 if f[1][0][0] < 0 else 0)
     return f"({terms} >= {f[2]})"
 
 

@@ -133,7 +133,8 @@ def test_empty_program_has_no_position(tmp_path, capsys):
 def test_missing_file(tmp_path, capsys):
     code, _, err = run(capsys, "compile", str(tmp_path / "nope.rules"), "-o",
                        str(tmp_path / "x.json"))
-    assert code == 2 and err.strip() == f"thresholdc: error: {tmp_path / 'nope.rules'}: no such file"
+    missing = tmp_path / "nope.rules"
+    assert code == 2 and err.strip() == f"thresholdc: error: {missing}: no such file"
 
 
 def test_unknown_output_suffix_lists_the_supported_ones(tmp_path, capsys):
