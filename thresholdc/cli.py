@@ -14,7 +14,7 @@ import os
 import sys
 from collections.abc import Sequence
 
-from . import __version__
+from . import __version__, progress
 from .errors import ThresholdcError
 
 __all__ = ["main", "build_parser", "COMMANDS"]
@@ -58,6 +58,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; returns the exit code (also used by ``python -m thresholdc``)."""
     parser = build_parser()
     args = parser.parse_args(argv)
+    progress.enabled(not getattr(args, "json", False))
     try:
         return int(args.run(args))
     except ThresholdcError as err:

@@ -5,10 +5,10 @@ from __future__ import annotations
 import argparse
 import json
 import sys
-from collections.abc import Callable, Sequence
+from collections.abc import Sequence
 from typing import Any
 
-__all__ = ["add_parser", "print_json", "format_table", "progress_bar", "fmt_num", "warn"]
+__all__ = ["add_parser", "print_json", "format_table", "fmt_num", "warn"]
 
 
 def add_parser(
@@ -58,17 +58,3 @@ def format_table(header: Sequence[str], rows: Sequence[Sequence[Any]], *, right:
     out = [line(cells[0]), "  ".join("-" * w for w in widths)]
     out.extend(line(r) for r in cells[1:])
     return "\n".join(out)
-
-
-def progress_bar(total: int, desc: str, *, enabled: bool) -> tuple[Callable[[int], None],
-                                                                   Callable[[], None]]:
-    """``(update, close)`` for a progress bar on a terminal; no-ops when not ``enabled``,
-    when stderr is not a terminal, or when tqdm is not installed."""
-    if not enabled or not sys.stderr.isatty():
-        return (lambda k: None), (lambda: None)
-    try:
-        from tqdm import tqdm
-    except ImportError:
-        return (lambda k: None), (lambda: None)
-    bar = tqdm(total=total, desc=desc, unit="rows", unit_scale=True, leave=False)
-    return bar.update, bar.close

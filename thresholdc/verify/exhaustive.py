@@ -24,6 +24,7 @@ from typing import Any
 
 import numpy as np
 
+from .. import progress
 from ..errors import UsageError, VerificationUndecided
 from ..network.model import Network
 from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
@@ -89,12 +90,12 @@ def verify_exhaustive(
     *,
     max_inputs: int = DEFAULT_MAX_INPUTS,
     chunk: int = _CHUNK,
-    progress: Any = None,
 ) -> Report:
     """Compare ``net`` with ``source`` on every assignment of the input units.
 
     Raises VerificationUndecided when there are more than ``max_inputs`` inputs, UsageError
-    when the names differ.  ``progress`` is an optional callable taking rows done.
+    when the names differ.  Shows a progress bar on a terminal when bars are enabled
+    (:mod:`thresholdc.progress`) and there are more than one chunk of rows.
     """
     check_names(net, source)
     n = len(source.inputs)
@@ -113,6 +114,7 @@ def verify_exhaustive(
     min_margin = np.full(len(net.outputs), np.inf)
     zmin = None
     examples: list[list[Counterexample]] = [[] for _ in net.outputs]
+    shown = progress.bar(total, "verifying", unit="rows") if total > chunk else progress.bar(0, "")
     for start in range(0, total, chunk):
         stop = min(total, start + chunk)
         Xs = assignments(n, start, stop)
@@ -138,8 +140,8 @@ def verify_exhaustive(
                         float(margins[r, k]),
                     )
                 )
-        if progress is not None:
-            progress(stop - start)
+        shown.update(stop - start)
+    shown.close()
     outputs = [
         OutputReport(
             o.name,
