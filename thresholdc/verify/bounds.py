@@ -1,0 +1,516 @@
+"""Complete branch-and-bound verification of any network (step, trained sigmoid, tanh, …).
+
+For networks whose inputs are too many to enumerate, or trained networks with real inputs,
+:func:`verify_bounds` decides agreement with the rules over whole boxes of inputs at a time.
+
+Rules of the algorithm
+    * A *box* fixes some inputs and leaves others free (see :mod:`thresholdc.verify.ternary`).
+      The frontier of boxes is processed in vectorised batches, depth first.
+    * Network bounds: each input unit gets an interval over the box; a neuron's pre-activation
+      interval is ``b + Σ_{w>0} w·[lo] + Σ_{w<0} w·[hi]`` (upper end alike), and since every
+      activation (step, sigmoid, tanh, relu, linear) is non-decreasing its output interval is
+      ``[f(z_lo), f(z_hi)]``.  A categorical input's one-hot units are bounded together
+      (exactly one is 1), as the smallest and largest contribution of its allowed values.
+    * An output is *decided* on a box when its interval lies wholly above the decision
+      threshold (reads 1) or wholly at or below it (reads 0) and the rules' three-valued
+      evaluation is constant on the box: then the network agrees or disagrees on every point
+      of the box at once, and a disagreement counts every discrete assignment in it.
+    * Undecided boxes are split: the first free discrete input in order of influence (total
+      |weight| on its units) is split in two halves of its allowed choices; when only
+      continuous inputs are free, the widest (relative to its scale) is bisected, after the
+      box's centre has been checked for a counterexample.  A box that is a single point is
+      always decided, so on a finite domain the search is complete.
+    * ``min_margin`` is a certified lower bound of the margin over each decided box: ``|z|``
+      of a step output neuron, ``|value − threshold|`` of a soft one.
+    * ``max_nodes`` boxes or ``time_limit`` seconds stop the search: a disagreement already
+      found gives ``different`` (counts then are lower bounds), else VerificationUndecided.
+
+>>> from thresholdc.compiler import compile_rules
+>>> from thresholdc.source import Source
+>>> text = "input a, b, c\\ny = atleast(2, a, b, c)\\n"
+>>> verify_bounds(compile_rules(text, activation="sigmoid"), Source.from_text(text)).result
+'equal'
+"""
+
+from __future__ import annotations
+
+import itertools
+import sys
+import time
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from ..errors import VerificationUndecided
+from ..network import activations as act
+from ..network.model import Network
+from .domain import Domain, network_rows
+from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
+from .ternary import rules_ternary
+
+__all__ = ["verify_bounds", "network_bounds", "DEFAULT_MAX_NODES", "DEFAULT_TIME_LIMIT"]
+
+DEFAULT_MAX_NODES = 2_000_000
+DEFAULT_TIME_LIMIT = 60.0
+_BATCH = 2048
+
+
+class _Bounder:
+    """Interval bounds of every neuron of ``net`` over batches of boxes of ``domain``."""
+
+    def __init__(self, net: Network, domain: Domain) -> None:
+        self.net = net
+        self.domain = domain
+        col = {u: i for i, u in enumerate(net.inputs)}
+        pos = {n.name: j for j, n in enumerate(net.neurons)}
+        bipolar = net.encoding == "bipolar"
+        n_in, n_neu = len(net.inputs), len(net.neurons)
+        W = np.zeros((n_in, n_neu))
+        self.prev: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
+        for j, n in enumerate(net.neurons):
+            idx, ws = [], []
+            for i, w in zip(n.inputs, n.weights):
+                if i in col:
+                    W[col[i], j] += float(w)
+                else:
+                    idx.append(pos[i])
+                    ws.append(float(w))
+            wa = np.array(ws, dtype=float)
+            self.prev.append((np.array(idx, dtype=np.int64), np.maximum(wa, 0), np.minimum(wa, 0)))
+        self.bias = np.array([float(n.bias) for n in net.neurons])
+        # Unit value tables in the network's encoding, per discrete feature.
+        self.tables: list[tuple[list[int], np.ndarray]] = []
+        self.groups: list[tuple[int, np.ndarray]] = []  # (feature, contributions (choices, n))
+        plain = W.copy()
+        for k, f in enumerate(domain.discrete):
+            cols = [col[u] for u in f.units]
+            table = f.table.astype(float)
+            if bipolar and f.kind != "real":
+                table = 2.0 * table - 1.0
+            self.tables.append((cols, table))
+            if len(cols) > 1:
+                self.groups.append((k, table @ W[cols, :]))
+                plain[cols, :] = 0.0
+        self.cont_cols = [col[f.unit] for f in domain.continuous]
+        self.wpos, self.wneg = np.maximum(plain, 0), np.minimum(plain, 0)
+        self.acts = [n.activation for n in net.neurons]
+        self.bipolar = bipolar
+
+    def units(self, masks: list[np.ndarray], lo: np.ndarray | None,
+              hi: np.ndarray | None) -> tuple[np.ndarray, np.ndarray]:
+        """Interval ends of every input unit, each ``(boxes, inputs)``."""
+        B = masks[0].shape[0] if masks else lo.shape[0]  # type: ignore[union-attr]
+        ulo = np.zeros((B, len(self.net.inputs)))
+        uhi = np.zeros_like(ulo)
+        for (cols, table), mask in zip(self.tables, masks):
+            big = np.where(mask[:, :, None], table[None, :, :], np.inf)
+            small = np.where(mask[:, :, None], table[None, :, :], -np.inf)
+            ulo[:, cols] = big.min(axis=1)
+            uhi[:, cols] = small.max(axis=1)
+        for k, c in enumerate(self.cont_cols):
+            ulo[:, c] = lo[:, k]  # type: ignore[index]
+            uhi[:, c] = hi[:, k]  # type: ignore[index]
+        return ulo, uhi
+
+    def bounds(self, masks: list[np.ndarray], lo: np.ndarray | None,
+               hi: np.ndarray | None) -> tuple[np.ndarray, ...]:
+        """``(ulo, uhi, zlo, zhi, alo, ahi)``: units, pre-activations and activations."""
+        ulo, uhi = self.units(masks, lo, hi)
+        zlo = ulo @ self.wpos + uhi @ self.wneg + self.bias
+        zhi = uhi @ self.wpos + ulo @ self.wneg + self.bias
+        for k, contrib in self.groups:
+            m = masks[k][:, :, None]
+            zlo += np.where(m, contrib[None], np.inf).min(axis=1)
+            zhi += np.where(m, contrib[None], -np.inf).max(axis=1)
+        alo = np.empty_like(zlo)
+        ahi = np.empty_like(zhi)
+        for j, (idx, wp, wn) in enumerate(self.prev):
+            if idx.size:
+                zlo[:, j] += alo[:, idx] @ wp + ahi[:, idx] @ wn
+                zhi[:, j] += ahi[:, idx] @ wp + alo[:, idx] @ wn
+            alo[:, j] = self._act(j, zlo[:, j])
+            ahi[:, j] = self._act(j, zhi[:, j])
+        return ulo, uhi, zlo, zhi, alo, ahi
+
+    def _act(self, j: int, z: np.ndarray) -> np.ndarray:
+        """The activation of neuron ``j`` (non-decreasing, so it maps interval ends)."""
+        if self.acts[j] == "step" and self.bipolar:
+            return np.where(z > 0, 1.0, -1.0)
+        return act.get(self.acts[j]).forward(z)
+
+
+def network_bounds(
+    net: Network, domain: Domain, masks: list[np.ndarray], lo: np.ndarray | None = None,
+    hi: np.ndarray | None = None,
+) -> tuple[np.ndarray, np.ndarray]:
+    """Output interval ends ``(vlo, vhi)``, each ``(boxes, outputs)``, over boxes of ``domain``.
+
+    >>> from thresholdc.compiler import compile_rules
+    >>> from thresholdc.source import Source
+    >>> from thresholdc.verify.domain import boolean_or_typed_domain
+    >>> text = "input a, b\\ny = a and b\\n"
+    >>> net, d = compile_rules(text), boolean_or_typed_domain(Source.from_text(text))
+    >>> vlo, vhi = network_bounds(net, d, [np.array([[True, True]]), np.array([[False, True]])])
+    >>> vlo.tolist(), vhi.tolist()
+    ([[0.0]], [[1.0]])
+    """
+    _, _, lo_, hi_ = _output_intervals(_Bounder(net, domain), masks, lo, hi)
+    return lo_, hi_
+
+
+def _output_intervals(bd: _Bounder, masks: list[np.ndarray], lo: Any, hi: Any) -> tuple:
+    """Margin-carrying ends ``(mlo, mhi)`` (z for step outputs) and value ends ``(vlo, vhi)``."""
+    ulo, uhi, zlo, zhi, alo, ahi = bd.bounds(masks, lo, hi)
+    net = bd.net
+    pos = {n.name: j for j, n in enumerate(net.neurons)}
+    col = {u: i for i, u in enumerate(net.inputs)}
+    B = ulo.shape[0]
+    shape = (B, len(net.outputs))
+    vlo, vhi, mlo, mhi = (np.empty(shape) for _ in range(4))
+    thr = net.decision_threshold
+    for k, o in enumerate(net.outputs):
+        if o.source in pos:
+            j = pos[o.source]
+            vlo[:, k], vhi[:, k] = alo[:, j], ahi[:, j]
+            if net.neurons[j].activation == "step":
+                mlo[:, k], mhi[:, k] = zlo[:, j], zhi[:, j]
+            else:
+                mlo[:, k], mhi[:, k] = alo[:, j] - thr, ahi[:, j] - thr
+        else:
+            c = col[o.source]
+            vlo[:, k], vhi[:, k] = ulo[:, c], uhi[:, c]
+            mlo[:, k] = np.where(ulo[:, c] > thr, 0.5, -np.inf)
+            mhi[:, k] = np.where(uhi[:, c] <= thr, -0.5, np.inf)
+    return mlo, mhi, vlo, vhi
+
+
+@dataclass
+class _Batch:
+    """A batch of boxes: discrete masks, continuous ends, outputs already settled."""
+
+    masks: list[np.ndarray]
+    lo: np.ndarray
+    hi: np.ndarray
+    resolved: np.ndarray
+
+    def __len__(self) -> int:
+        return self.resolved.shape[0]
+
+    def take(self, sel: np.ndarray) -> _Batch:
+        return _Batch([m[sel] for m in self.masks], self.lo[sel], self.hi[sel], self.resolved[sel])
+
+    @staticmethod
+    def join(parts: list[_Batch]) -> _Batch:
+        return _Batch(
+            [np.concatenate([p.masks[k] for p in parts]) for k in range(len(parts[0].masks))],
+            np.concatenate([p.lo for p in parts]), np.concatenate([p.hi for p in parts]),
+            np.concatenate([p.resolved for p in parts]),
+        )
+
+
+class _Search:
+    """One branch-and-bound run (see the module docstring)."""
+
+    def __init__(self, net: Network, source: Any, domain: Domain) -> None:
+        self.net, self.source, self.domain = net, source, domain
+        self.bd = _Bounder(net, domain)
+        self.out_index = [list(source.outputs).index(o.name) for o in net.outputs]
+        K = len(net.outputs)
+        self.bad = [0] * K
+        self.unknown = np.zeros(K, dtype=bool)
+        self.min_margin = np.full(K, np.inf)
+        self.examples: list[list[Counterexample]] = [[] for _ in range(K)]
+        self.nodes = 0
+        # Split order of discrete features: most total |weight| on their units first.
+        weight = {u: 0.0 for u in net.inputs}
+        for n in net.neurons:
+            for i, w in zip(n.inputs, n.weights):
+                if i in weight:
+                    weight[i] += abs(float(w))
+        infl = [sum(weight.get(u, 0.0) for u in f.units) for f in domain.discrete]
+        self.split_order = sorted(range(len(domain.discrete)), key=lambda k: (-infl[k], k))
+        total = [sum(b - a for a, b in f.pieces) for f in domain.continuous]
+        self.cont_total = np.array([t if t > 0 else 1.0 for t in total])
+        self.cont_scale = np.array([f.scale for f in domain.continuous], dtype=float)
+
+    # ---------------------------------------------------------------- one batch
+    def weight(self, b: _Batch) -> np.ndarray:
+        """Discrete assignments in each box, times its share of the continuous volume."""
+        w = np.ones(len(b))
+        for m in b.masks:
+            w *= m.sum(axis=1)
+        if self.domain.continuous:
+            w *= np.prod((b.hi - b.lo) / self.cont_total, axis=1)
+        return w
+
+    def counts(self, b: _Batch) -> np.ndarray:
+        """Discrete assignments in each box (continuous inputs count once)."""
+        c = np.ones(len(b), dtype=np.int64)
+        for m in b.masks:
+            c *= m.sum(axis=1)
+        return c
+
+    def rules(self, b: _Batch) -> tuple[np.ndarray, np.ndarray]:
+        """The rules' ``(can0, can1)`` in network output order."""
+        can0, can1 = rules_ternary(self.source, self.domain, b.masks, b.lo, b.hi)
+        return can0[:, self.out_index], can1[:, self.out_index]
+
+    def point(self, b: _Batch, sel: np.ndarray, reals: np.ndarray) -> tuple[np.ndarray, ...]:
+        """Choice indices, source rows and network output values at one point per box."""
+        choice = np.stack([m[sel].argmax(axis=1) for m in b.masks], axis=1) if b.masks else \
+            np.zeros((int(sel.sum()), 0), dtype=np.int64)
+        X = self.domain.unit_rows(choice, reals)
+        values = self.net.evaluate(network_rows(self.net, self.domain, X))
+        return choice, X, values
+
+    def record(self, b: _Batch, k: int, rows: np.ndarray, expected: np.ndarray,
+               reals: np.ndarray) -> None:
+        """Counterexamples for output ``k`` at the given boxes (up to the report's limit)."""
+        room = MAX_COUNTEREXAMPLES - len(self.examples[k])
+        if room <= 0 or not rows.size:
+            return
+        rows = rows[:room]
+        sel = np.zeros(len(b), dtype=bool)
+        sel[rows] = True
+        choice, _, values = self.point(b, sel, reals[rows])
+        thr = self.net.decision_threshold
+        for r in range(len(rows)):
+            v = float(values[r, k])
+            self.examples[k].append(Counterexample(
+                self.domain.assignment(choice[r], reals[rows][r]),
+                self.net.outputs[k].name, bool(expected[r]), v, abs(v - thr),
+            ))
+
+    def step(self, b: _Batch) -> _Batch | None:
+        """Decide what can be decided in ``b``; return the children of the rest."""
+        self.nodes += len(b)
+        mlo, mhi, vlo, vhi = _output_intervals(self.bd, b.masks, b.lo, b.hi)
+        can0, can1 = self.rules(b)
+        thr = self.net.decision_threshold
+        net_one, net_zero = vlo > thr, vhi <= thr
+        decided = (net_one | net_zero) & (can0 ^ can1) & ~b.resolved
+        wrong = decided & (net_one != can1)
+        counts = self.counts(b)
+        mids = (b.lo + b.hi) / 2
+        for k in range(decided.shape[1]):
+            col = decided[:, k]
+            if not col.any():
+                continue
+            margin = np.where(net_one[:, k], mlo[:, k], -mhi[:, k])[col]
+            self.min_margin[k] = min(self.min_margin[k], float(margin.min()))
+            bad_rows = np.nonzero(wrong[:, k])[0]
+            if bad_rows.size:
+                self.bad[k] += int(counts[bad_rows].sum())
+                self.record(b, k, bad_rows, can1[bad_rows, k], mids)
+        resolved = b.resolved | decided
+        discrete_fixed = np.ones(len(b), dtype=bool)
+        for m in b.masks:
+            discrete_fixed &= m.sum(axis=1) == 1
+        open_rows = ~resolved.all(axis=1)
+        if self.domain.continuous:
+            resolved = self._centres(b, resolved, open_rows & discrete_fixed, mids)
+            open_rows = ~resolved.all(axis=1)
+        if not open_rows.any():
+            return None
+        rest = _Batch(b.masks, b.lo, b.hi, resolved).take(open_rows)
+        return self._split(rest, discrete_fixed[open_rows])
+
+    def _centres(self, b: _Batch, resolved: np.ndarray, rows: np.ndarray,
+                 mids: np.ndarray) -> np.ndarray:
+        """Check the centre of each box whose discrete inputs are fixed; a disagreement there
+        settles the output for the box; a box too thin to split is left undecided."""
+        idx = np.nonzero(rows)[0]
+        if not idx.size:
+            return resolved
+        resolved = resolved.copy()
+        sel = np.zeros(len(b), dtype=bool)
+        sel[idx] = True
+        _, X, values = self.point(b, sel, mids[idx])
+        expected = np.asarray(self.source.evaluate(X), dtype=bool)[:, self.out_index]
+        actual = values > self.net.decision_threshold
+        thin = ((b.hi - b.lo)[idx] <= 1e-9 * np.maximum(1.0, np.abs(mids[idx]))).all(axis=1)
+        for k in range(resolved.shape[1]):
+            bad = (actual[:, k] != expected[:, k]) & ~resolved[idx, k]
+            if bad.any():
+                self.bad[k] += int(bad.sum())
+                self.record(b, k, idx[bad], expected[bad, k], mids)
+                resolved[idx[bad], k] = True
+            stuck = thin & ~resolved[idx, k]
+            if stuck.any():
+                self.unknown[k] = True
+                resolved[idx[stuck], k] = True
+        return resolved
+
+    def _split(self, b: _Batch, discrete_fixed: np.ndarray) -> _Batch | None:
+        """Two children per box (see the module docstring for the choice of input)."""
+        if not len(b):
+            return None
+        choice = np.full(len(b), -1, dtype=np.int64)
+        for k in reversed(self.split_order):  # the first free one in order wins
+            choice = np.where(b.masks[k].sum(axis=1) > 1, k, choice)
+        parts: list[_Batch] = []
+        for k in np.unique(choice[choice >= 0]).tolist():
+            sub = b.take(choice == k)
+            m = sub.masks[k]
+            half = m.sum(axis=1, keepdims=True) // 2
+            left = m & (np.cumsum(m, axis=1) <= half)
+            for part in (left, m & ~left):
+                masks = list(sub.masks)
+                masks[k] = part
+                parts.append(_Batch(masks, sub.lo, sub.hi, sub.resolved))
+        cont = choice < 0
+        if cont.any():
+            sub = b.take(cont)
+            width = (sub.hi - sub.lo) / self.cont_scale
+            j = width.argmax(axis=1)
+            r = np.arange(len(sub))
+            mid = (sub.lo[r, j] + sub.hi[r, j]) / 2
+            lo2, hi2 = sub.lo.copy(), sub.hi.copy()
+            hi2[r, j] = mid
+            lo2[r, j] = mid
+            parts.append(_Batch(sub.masks, sub.lo, hi2, sub.resolved))
+            parts.append(_Batch(sub.masks, lo2, sub.hi, sub.resolved))
+        return _Batch.join(parts) if parts else None
+
+    # ---------------------------------------------------------------- the search
+    def roots(self) -> _Batch:
+        """One box per combination of continuous pieces, every discrete choice allowed."""
+        pieces = [f.pieces for f in self.domain.continuous]
+        combos = list(itertools.product(*pieces)) if pieces else [()]
+        n = len(combos)
+        lo = np.array([[p[0] for p in c] for c in combos], dtype=float).reshape(n, len(pieces))
+        hi = np.array([[p[1] for p in c] for c in combos], dtype=float).reshape(n, len(pieces))
+        masks = [np.ones((n, f.size), dtype=bool) for f in self.domain.discrete]
+        return _Batch(masks, lo, hi, np.zeros((n, len(self.net.outputs)), dtype=bool))
+
+    def run(self, max_nodes: int, time_limit: float, progress: bool) -> bool:
+        """Search until done (True) or a limit stops it (False)."""
+        t0 = time.perf_counter()
+        stack = [self.roots()]
+        bar = _bar(progress, float(self.weight(stack[0]).sum()))
+        try:
+            while stack:
+                b = stack.pop()
+                if len(b) > _BATCH:
+                    stack.append(b.take(np.arange(_BATCH, len(b))))
+                    b = b.take(np.arange(_BATCH))
+                if self.nodes >= max_nodes or time.perf_counter() - t0 > time_limit:
+                    return False
+                before = float(self.weight(b).sum())
+                children = self.step(b)
+                if children is not None:
+                    stack.append(children)
+                if bar is not None:
+                    after = float(self.weight(children).sum()) if children is not None else 0.0
+                    bar.update(before - after)
+            return True
+        finally:
+            if bar is not None:
+                bar.close()
+
+
+def _bar(progress: bool, total: float) -> Any:
+    """A tqdm bar over the domain's volume on a terminal, else None."""
+    if not progress or not sys.stderr.isatty():
+        return None
+    try:
+        from tqdm import tqdm
+    except ImportError:
+        return None
+    return tqdm(total=total, desc="bounds", leave=False, unit="pt")
+
+
+def run_bounds(
+    net: Network, source: Any, domain: Domain, *, max_nodes: int = DEFAULT_MAX_NODES,
+    time_limit: float = DEFAULT_TIME_LIMIT, progress: bool = False,
+) -> Report:
+    """Branch-and-bound over an explicit :class:`Domain` (used by the typed verifier)."""
+    t0 = time.perf_counter()
+    search = _Search(net, source, domain)
+    finished = search.run(max_nodes, time_limit, progress)
+    found = any(search.bad)
+    if (not finished or search.unknown.any()) and not found:
+        why = (f"the search stopped at {search.nodes} boxes (limit {max_nodes} boxes, "
+               f"{time_limit:g} s)" if not finished else
+               "some boxes are too thin to split and still undecided (the network sits on "
+               "its decision threshold there)")
+        raise VerificationUndecided(f"branch-and-bound undecided: {why}",
+                                    file=getattr(source, "file", None))
+    outputs = [
+        OutputReport(o.name, search.bad[k] == 0 and not search.unknown[k], search.bad[k],
+                     search.examples[k],
+                     None if not np.isfinite(search.min_margin[k])
+                     else float(search.min_margin[k]))
+        for k, o in enumerate(net.outputs)
+    ]
+    equal = all(o.agrees for o in outputs)
+    what = (f"all {domain.size} discrete assignments" if not domain.continuous
+            else "every box of the domain")
+    report = Report(
+        "equal" if equal else "different", "bounds", domain.size, outputs,
+        proofs=[f"bounds: {what} decided in {search.nodes} boxes"] if equal else [],
+        notes=list(domain.notes), seconds=time.perf_counter() - t0,
+    )
+    report.notes.append("min_margin is a certified lower bound over the decided boxes")
+    if not finished or search.unknown.any():
+        report.notes.append("the search stopped early: disagreement counts are lower bounds")
+    return report
+
+
+def verify_bounds(
+    net: Network,
+    source: Any,
+    *,
+    max_nodes: int = DEFAULT_MAX_NODES,
+    time_limit: float = DEFAULT_TIME_LIMIT,
+    progress: bool = False,
+) -> Report:
+    """Compare ``net`` with ``source`` by branch-and-bound over boxes of inputs.
+
+    Works on any network read with a decision threshold (step, trained sigmoid or tanh,
+    relu): complete on Boolean and categorical inputs; for real inputs see
+    :func:`thresholdc.verify.typed.typed_domain` (cells for step networks, declared ranges
+    less a band of ± scale around each rule threshold for soft ones).
+
+    Parameters
+    ----------
+    net : Network
+    source : Source
+        Same input units and output names as ``net``.
+    max_nodes : int
+        Largest number of boxes examined.
+    time_limit : float
+        Seconds before the search gives up.
+    progress : bool
+        A progress bar (tqdm) on a terminal.
+
+    Returns
+    -------
+    Report
+        Method ``bounds``; per output the exact number of disagreeing discrete assignments,
+        up to five counterexamples and a lower bound of the margin.
+
+    Raises
+    ------
+    VerificationUndecided
+        When a limit stops the search before any disagreement is found.
+    UsageError
+        When the names differ.
+
+    Examples
+    --------
+    >>> from thresholdc.compiler import compile_rules
+    >>> from thresholdc.source import Source
+    >>> net = compile_rules("input a, b\\ny = a or b\\n", activation="sigmoid")
+    >>> r = verify_bounds(net, Source.from_text("input a, b\\ny = a and b\\n"))
+    >>> r.result, r.outputs[0].disagreements
+    ('different', 2)
+    """
+    from .exhaustive import check_names
+    from .typed import typed_domain
+
+    check_names(net, source)
+    domain = typed_domain(net, source)
+    return run_bounds(net, source, domain, max_nodes=max_nodes, time_limit=time_limit,
+                      progress=progress)
