@@ -98,6 +98,11 @@ def verify_exhaustive(
     (:mod:`thresholdc.progress`) and there are more than one chunk of rows.
     """
     check_names(net, source)
+    program = getattr(source, "program", None)
+    if program is not None and program.is_typed():  # valid one-hot patterns, real cells
+        from .typed import verify_typed
+
+        return verify_typed(net, source, max_inputs=max_inputs)
     n = len(source.inputs)
     if n > max_inputs:
         raise VerificationUndecided(
