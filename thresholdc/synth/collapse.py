@@ -1,0 +1,393 @@
+"""The collapsing pass: whole cones of gates become single threshold neurons.
+
+Passes, in order (each returns new objects; the gate graph is not changed):
+
+1. structural hashing (:mod:`~thresholdc.synth.strash`): duplicate gates merge, inverters and
+   buffers become complemented edges, constants fold, and/or/xor chains are flattened;
+2. cut enumeration (:mod:`~thresholdc.synth.cuts`): up to ``cut_size`` leaves per cut, each
+   with its truth table, plus the whole input support of nodes with a small one;
+3. options (:mod:`~thresholdc.synth.options`): a cut whose function is a threshold function is
+   one neuron; symmetric functions get counting constructions (parity of ``n`` in
+   ⌈log2(n+1)⌉ neurons); ``[w·x + u·g ≥ T]`` with another node's neuron ``g`` as a helper;
+   every gate also has its own small construction;
+4. the cover (:mod:`~thresholdc.synth.cover`): fewest neurons, then least depth, under
+   ``max_fan_in`` and ``max_weight``;
+5. the network: one neuron per chosen gadget spec, shared where two specs compute the same
+   function of the same leaves.
+
+Naming and records (shared with :func:`thresholdc.synth.mapping.map_to_neurons`): a neuron that
+computes a gate-graph signal is named after it; helper neurons get ``~`` names unique against
+every signal and every ``reserved`` name, have the origin of the neuron they serve, and lie
+inside its cone.  ``meta["cones"]`` gives, for each neuron named after a signal, the gate-graph
+signal it computes and the leaves (signals carried by input units or named neurons) over which
+its sub-network is closed: evaluating the network from those leaves alone gives that neuron.
+``meta["aliases"]`` records the signals structural hashing merged: ``{SIGNAL: {"signal": REP,
+"negated": BOOL}}`` (the signal equals REP, or its complement) or ``{SIGNAL: {"value": 0|1}}``
+(a constant).  Each alias is one-level checkable: the signal's own gate over its arguments, each
+read through the aliases, computes the same function as REP's gate does over its arguments.
+Cones are stated over representatives: a signal met inside a cone that has an alias takes the
+value of its representative (or constant).
+
+>>> from thresholdc.synth.gates import Gate, GateGraph
+>>> g = GateGraph.build(["a", "b", "c"], [("s", "s"), ("co", "co")], [
+...     ("t", Gate("xor", ("a", "b"))), ("s", Gate("xor", ("t", "c"))),
+...     ("u", Gate("and", ("a", "b"))), ("v", Gate("and", ("t", "c"))),
+...     ("co", Gate("or", ("u", "v")))])
+>>> net = collapse(g)
+>>> [repr(n) for n in net.neurons]
+['co[L1 step](+1*a +1*b +1*c -1.5)', 's[L2 step](+1*a +1*b +1*c -2*co -0.5)']
+"""
+
+from __future__ import annotations
+
+import heapq
+
+from ..errors import UsageError
+from ..network.layering import assign_layers, fresh_name
+from ..network.model import Network, Neuron, Output
+from . import cuts as C
+from . import options as O
+from .cover import Cover
+from .gates import GateGraph
+from .strash import Hashed, hash_gates
+
+__all__ = ["collapse", "SUPPORT_LIMIT"]
+
+#: Nodes whose whole input support has at most this many inputs are also tried as one cut.
+SUPPORT_LIMIT = 10
+
+
+def _check_options(cut_size: object, max_fan_in: object, max_weight: object) -> None:
+    """Refuse option values outside their ranges (one clear message each)."""
+    if not isinstance(cut_size, int) or isinstance(cut_size, bool) or not 2 <= cut_size <= 10:
+        raise UsageError(
+            f"The 'cut_size' option of collapse must be an integer from 2 to 10. "
+            f"Got {cut_size!r} instead."
+        )
+    if max_fan_in is not None and (
+        not isinstance(max_fan_in, int) or isinstance(max_fan_in, bool) or max_fan_in < 2
+    ):
+        raise UsageError(
+            f"The 'max_fan_in' option of collapse must be an integer of at least 2 or None. "
+            f"Got {max_fan_in!r} instead."
+        )
+    if max_weight is not None and (
+        not isinstance(max_weight, int) or isinstance(max_weight, bool) or max_weight < 1
+    ):
+        raise UsageError(
+            f"The 'max_weight' option of collapse must be an integer of at least 1 or None. "
+            f"Got {max_weight!r} instead."
+        )
+
+
+def collapse(
+    gates: GateGraph,
+    *,
+    cut_size: int = 6,
+    max_fan_in: int | None = None,
+    max_weight: int | None = None,
+    reserved: set[str] | frozenset[str] = frozenset(),
+) -> Network:
+    """A step network computing ``gates``, with cones of gates collapsed into neurons.
+
+    Parameters
+    ----------
+    gates : GateGraph
+        The gate graph (not changed).
+    cut_size : int
+        The most leaves a cut may have (2 to 10; 6 to 8 is the useful range, larger is slower).
+    max_fan_in : int or None
+        The most inputs any neuron may read (at least 2).
+    max_weight : int or None
+        The largest |weight| any neuron may have (at least 1).
+    reserved : set of str
+        Names helper neurons must avoid besides the graph's signals (the source's names).
+
+    Returns
+    -------
+    Network
+        Integer weights, half-integer biases, ``|z| ≥ ½`` on every 0/1 input; neurons in
+        topological order with their layers; ``meta["cones"]`` and ``meta["aliases"]`` as the
+        module docstring says.
+
+    Raises
+    ------
+    UsageError
+        For an option out of range, or a gate no construction can build within the limits.
+
+    Examples
+    --------
+    >>> from thresholdc.synth.gates import Gate, GateGraph
+    >>> g = GateGraph.build(["a", "b", "c"], [("y", "y")], [
+    ...     ("t", Gate("or", ("b", "c"))), ("y", Gate("and", ("a", "t")))])
+    >>> net = collapse(g)
+    >>> net.neurons
+    (y[L1 step](+2*a +1*b +1*c -2.5),)
+    >>> net.meta["cones"]
+    {'y': {'root': 'y', 'leaves': ['a', 'b', 'c']}}
+    """
+    _check_options(cut_size, max_fan_in, max_weight)
+    limits = O.Limits(max_fan_in, max_weight)
+    h = hash_gates(gates)
+    found = C.enumerate_cuts(h, cut_size)
+    support = C.support_cuts(h, cut_size, max(cut_size, SUPPORT_LIMIT))
+    N = len(h.op)
+    options: list[list[O.Option]] = [[] for _ in range(N)]
+    for v in range(1, N):
+        if h.op[v] != "input":
+            options[v] = O.node_options(h, v, found[v], support.get(v), limits)
+    _add_helper_options(h, found, options, limits)
+    roots = []
+    for _, sig in gates.outputs:
+        x = h.lit_of[sig] >> 1
+        if x and h.op[x] != "input":
+            roots.append(x)
+    cover = Cover(N, options, roots, h.fanouts())
+    cover.run()
+    return _build(gates, h, cover, set(reserved))
+
+
+# ------------------------------------------------------------------------------ helper options
+
+_HELPER_CUTS = 6  # non-threshold cuts per node tried with a helper
+_HELPER_CANDIDATES = 4  # helpers tried per cut
+
+
+def _add_helper_options(h: Hashed, found: list[list[C.Cut]], options: list[list[O.Option]],
+                        limits: O.Limits) -> None:
+    """Two-neuron options ``[w·x + u·g ≥ T]`` where ``g`` is a threshold function that some
+    other node computes over the same leaves (or all but one of them)."""
+    by_mask: dict[int, list[tuple[int, C.Cut, tuple[int, ...], int]]] = {}
+    for v in range(1, len(h.op)):
+        for c in found[v]:
+            if len(c.leaves) < 2:
+                continue
+            cls = O.classify(c.tt, len(c.leaves))
+            if cls is not None and cls[0] == "thr":
+                by_mask.setdefault(c.mask, []).append((v, c, cls[1], cls[2]))
+    for v in range(1, len(h.op)):
+        tried = 0
+        for c in found[v]:
+            n = len(c.leaves)
+            if n < 2:
+                continue
+            cls = O.classify(c.tt, n)
+            if cls is not None and cls[0] != "sym":
+                continue
+            tried += 1
+            if tried > _HELPER_CUTS:
+                break
+            cands = list(by_mask.get(c.mask, ()))
+            if n > 2:
+                for x in c.leaves:
+                    cands.extend(by_mask.get(c.mask & ~(1 << x), ()))
+            got = 0
+            seen: set[tuple[int, int]] = set()
+            for u, gc, gw, gT in cands:
+                if u == v or (gc.mask, gc.tt) in seen:
+                    continue
+                seen.add((gc.mask, gc.tt))
+                o = O.helper_options(c, gc, gw, gT, limits)
+                if o is not None:
+                    options[v].append(o)
+                    got += 1
+                    if got >= _HELPER_CANDIDATES:
+                        break
+
+
+# ------------------------------------------------------------------------------ the network
+
+
+class _Unit:
+    """A neuron to build: spec ``spec`` of option ``opt`` of node ``node``, output complemented
+    relative to that spec when ``neg``."""
+
+    __slots__ = ("name", "node", "opt", "spec", "neg", "order")
+
+    def __init__(self, name: str, node: int, opt: O.Option, spec: int, neg: int,
+                 order: int) -> None:
+        self.name, self.node, self.opt, self.spec, self.neg, self.order = (
+            name, node, opt, spec, neg, order)
+
+
+def _build(gates: GateGraph, h: Hashed, cover: Cover, reserved: set[str]) -> Network:
+    """The network of the chosen cover."""
+    taken = set(gates.gates) | reserved
+    needed = cover.needed()
+    chosen = {v: cover.options[v][cover.choice[v]] for v in needed}
+    # the node that owns each root key (the first needed node with that root function)
+    owner: dict = {}
+    for v in needed:
+        k = chosen[v].keys()[-1][0]
+        if k is not None and k not in owner:
+            owner[k] = v
+    units: list[_Unit] = []
+    by_key: dict = {}  # key -> (unit index, complement flag of the unit w.r.t. the key)
+    spec_unit: dict[tuple[int, int], tuple[int, int]] = {}  # (node, spec) -> (unit, read neg)
+
+    def origin(v: int) -> str | None:
+        rep = h.rep[v]
+        return h.origin[v] if h.origin[v] is not None else rep
+
+    root_unit: dict[int, int] = {}
+    for v in needed:
+        o = chosen[v]
+        keys = o.keys()
+        last = len(o.gadget) - 1
+        for j in range(last + 1):
+            k, kflag = keys[j]
+            if j == last:
+                idx = len(units)
+                units.append(_Unit(h.rep[v], v, o, j, h.rep_neg[v], idx))
+                root_unit[v] = idx
+                # the unit outputs node ^ rep_neg = spec ^ rep_neg; as a key: canon ^ kflag ^ ..
+                if k is not None and owner.get(k) == v:
+                    by_key[k] = (idx, kflag ^ h.rep_neg[v])
+                continue
+            if k is not None and k in owner:
+                continue  # resolved after every root unit exists
+            if k is not None and k in by_key:
+                continue
+            idx = len(units)
+            name = fresh_name(f"{h.rep[v]}~h", taken)
+            units.append(_Unit(name, v, o, j, 0, idx))
+            if k is not None:
+                by_key[k] = (idx, kflag)
+            else:
+                spec_unit[(v, j)] = (idx, 0)
+    # resolve every helper ref of every chosen gadget to a unit and a read polarity
+    for v in needed:
+        o = chosen[v]
+        keys = o.keys()
+        for j in range(len(o.gadget) - 1):
+            k, kflag = keys[j]
+            if k is None:
+                continue
+            idx, uflag = by_key[k]
+            spec_unit[(v, j)] = (idx, kflag ^ uflag)
+    name_of = {x: h.rep[x] for x in needed}
+    for x in h.inputs:
+        name_of[x] = h.rep[x]
+    neurons: list[Neuron] = []
+    deps: list[list[int]] = []
+    unit_index = {u.name: u.order for u in units}
+    for u in units:
+        o = chosen[u.node]
+        s = o.gadget[u.spec]
+        coef: dict[str, int] = {}
+        T = s.T
+        for r, w in zip(s.refs, s.weights):
+            if r >= 0:
+                x = o.leaves[r]
+                name, neg = name_of[x], h.rep_neg[x]
+            else:
+                idx, neg = spec_unit[(u.node, -r - 1)]
+                name = units[idx].name
+            if neg:
+                w, T = -w, T - w
+            coef[name] = coef.get(name, 0) + w
+        ins = [n for n in coef if coef[n] != 0]
+        ws = [coef[n] for n in ins]
+        if u.neg:
+            ws = [-w for w in ws]
+            T = 1 - T
+        role_origin = origin(u.node)
+        neurons.append(Neuron(u.name, 0, tuple(ins), tuple(float(w) for w in ws),
+                              -T + 0.5, "step", "gate", role_origin))
+        deps.append([unit_index[n] for n in ins if n in unit_index])
+    order = _topological(deps)
+    neurons = [neurons[i] for i in order]
+    cones: dict[str, dict[str, object]] = {}
+    for v in needed:
+        cones[h.rep[v]] = {"root": h.rep[v], "leaves": [name_of[x] for x in chosen[v].leaves]}
+    real_neurons(h, needed, neurons)
+    outputs, extra = _outputs(gates, h, chosen, neurons, cones)
+    neurons.extend(extra)
+    layered = assign_layers(neurons, gates.inputs)
+    net = Network(gates.inputs, tuple(layered), tuple(outputs))
+    cones = {n.name: cones[n.name] for n in layered if n.name in cones}
+    return net.with_meta(cones=cones, aliases=dict(h.aliases))
+
+
+def real_neurons(h: Hashed, needed: list[int], neurons: list[Neuron]) -> None:
+    """Give ``real`` nodes (comparisons on a real input) their own weights and bias."""
+    index = {n.name: i for i, n in enumerate(neurons)}
+    for v in needed:
+        if h.op[v] != "real":
+            continue
+        op, c = h.real[v] or (">", 0.0)
+        i = index[h.rep[v]]
+        n = neurons[i]
+        x = h.rep[h.fanins[v][0] >> 1]
+        w, b = (1.0, -float(c)) if op == ">" else (-1.0, float(c))
+        neurons[i] = Neuron(n.name, 0, (x,), (w,), b, "step", "gate", n.origin)
+
+
+def _topological(deps: list[list[int]]) -> list[int]:
+    """A topological order of units (``deps[i]``: the units unit ``i`` reads), earliest first
+    among the ready ones."""
+    n = len(deps)
+    indeg = [len(set(d)) for d in deps]
+    readers: list[list[int]] = [[] for _ in range(n)]
+    for i, d in enumerate(deps):
+        for j in set(d):
+            readers[j].append(i)
+    ready = [i for i in range(n) if indeg[i] == 0]
+    heapq.heapify(ready)
+    out = []
+    while ready:
+        i = heapq.heappop(ready)
+        out.append(i)
+        for r in readers[i]:
+            indeg[r] -= 1
+            if indeg[r] == 0:
+                heapq.heappush(ready, r)
+    assert len(out) == n, "the chosen neurons read each other in a cycle"
+    return out
+
+
+def _outputs(gates: GateGraph, h: Hashed, chosen: dict[int, O.Option], neurons: list[Neuron],
+             cones: dict[str, dict[str, object]]) -> tuple[list[Output], list[Neuron]]:
+    """The outputs, and the neurons an output needs of its own (a constant, or a signal that
+    is the complement of a unit)."""
+    by_name = {n.name: n for n in neurons}
+    outputs = []
+    extra: list[Neuron] = []
+    made: set[str] = set()
+    for name, sig in gates.outputs:
+        lit = h.lit_of[sig]
+        x, neg = lit >> 1, lit & 1
+        g = gates.gates[sig]
+        origin = g.origin if g.origin is not None else sig
+        if x == 0 or h.op[x] == "input":
+            if x and not neg:
+                outputs.append(Output(name, h.rep[x]))
+                continue
+            if sig not in made:
+                made.add(sig)
+                if x == 0:
+                    extra.append(Neuron(sig, 0, (), (), 0.5 if neg else -0.5, "step", "gate",
+                                        origin))
+                    cones[sig] = {"root": sig, "leaves": []}
+                else:
+                    extra.append(Neuron(sig, 0, (h.rep[x],), (-1.0,), 0.5, "step", "gate",
+                                        origin))
+                    cones[sig] = {"root": sig, "leaves": [h.rep[x]]}
+            outputs.append(Output(name, sig))
+            continue
+        rep = h.rep[x]
+        if not (neg ^ h.rep_neg[x]):
+            outputs.append(Output(name, rep))
+            continue
+        if sig not in made:
+            made.add(sig)
+            src = by_name[rep]
+            if chosen[x].cost == 1 and h.op[x] != "real":
+                extra.append(Neuron(sig, 0, src.inputs, tuple(-w for w in src.weights),
+                                    -src.bias, "step", "gate", origin))
+                cones[sig] = {"root": sig, "leaves": list(cones[rep]["leaves"])}
+            else:
+                extra.append(Neuron(sig, 0, (rep,), (-1.0,), 0.5, "step", "gate", origin))
+                cones[sig] = {"root": sig, "leaves": [rep]}
+        outputs.append(Output(name, sig))
+    return outputs, extra

@@ -1,0 +1,247 @@
+"""k-feasible cuts of a hashed graph, each with the truth table of its node over its leaves.
+
+Rules
+    * A *cut* of node ``v`` is a set of nodes (its *leaves*) such that every path from an input
+      to ``v`` passes through a leaf; it is *k-feasible* with at most ``k`` leaves.  The cuts of
+      ``v`` are the unions of one cut (or the node itself) per argument of ``v``.
+    * Each cut carries the function of ``v`` over its leaves (leaves in increasing node order,
+      leaf ``i`` being variable ``i`` of the table).  Leaves the function does not depend on are
+      dropped, so a cut is always its function's support.
+    * At most ``limit`` partial unions are kept while merging the arguments of a node, and at
+      most ``keep`` cuts per node are passed on to its readers: the smallest, then those whose
+      leaves lie deepest (a fixed order, so the result is deterministic).  Every candidate of a
+      node (before the ``keep`` pruning) is returned for synthesis.
+    * Graph walks are loops over the topological order (no recursion).
+    * *Support cuts*: a node whose whole support (the inputs it depends on) is larger than ``k``
+      but at most ``support_limit`` also gets that support as a cut, evaluated over the inputs,
+      so a function written as a wide sum of products is still seen whole.
+
+>>> from thresholdc.synth.gates import Gate, GateGraph
+>>> from thresholdc.synth.strash import hash_gates
+>>> g = GateGraph.build(["a", "b", "c"], [("y", "y")], [("t", Gate("or", ("b", "c"))),
+...     ("y", Gate("and", ("a", "t")))])
+>>> h = hash_gates(g)
+>>> cands = enumerate_cuts(h, 4)
+>>> [(c.leaves, bin(c.tt)) for c in cands[h.lit_of["y"] >> 1]]
+[((1, 4), '0b10'), ((1, 2, 3), '0b10101000')]
+"""
+
+from __future__ import annotations
+
+from functools import cache
+from typing import NamedTuple
+
+from . import ttable
+from .strash import Hashed
+
+__all__ = ["Cut", "enumerate_cuts", "node_table", "support_cuts", "MAX_LOCAL"]
+
+#: Nodes with more arguments than this get no enumerated cuts (only their own fan-in).
+MAX_LOCAL = 12
+
+
+class Cut(NamedTuple):
+    """Leaves as a bit mask over node ids and as a sorted tuple, and the node's table."""
+
+    mask: int
+    leaves: tuple[int, ...]
+    tt: int
+
+
+@cache
+def _trivial(v: int) -> Cut:
+    """The cut ``{v}`` of ``v`` itself."""
+    return Cut(1 << v, (v,), 0b10)
+
+
+def _bits(mask: int) -> tuple[int, ...]:
+    """The set bits of ``mask`` in increasing order."""
+    out = []
+    while mask:
+        low = mask & -mask
+        out.append(low.bit_length() - 1)
+        mask ^= low
+    return tuple(out)
+
+
+def _local(h: Hashed, v: int) -> int:
+    """The table of a ``thr``/``eq`` node over its own arguments."""
+    ws = h.weights[v] or ()
+    T = h.threshold[v]
+    k = len(ws)
+    out = 0
+    for r in range(1 << k):
+        s = sum(w for i, w in enumerate(ws) if (r >> i) & 1)
+        if (s >= T) if h.op[v] == "thr" else (s == T):
+            out |= 1 << r
+    return out
+
+
+def node_table(h: Hashed, v: int, args: list[int], n: int, local: dict[int, int]) -> int:
+    """The table of node ``v`` over ``n`` variables from its argument tables (polarity
+    applied)."""
+    op = h.op[v]
+    if op == "and":
+        out = args[0]
+        for a in args[1:]:
+            out &= a
+        return out
+    if op == "xor":
+        out = args[0]
+        for a in args[1:]:
+            out ^= a
+        return out
+    if op == "ite":
+        c, t, e = args
+        return (c & t) | (~c & ttable.full(n) & e)
+    if op in ("thr", "eq"):
+        tab = local.get(v)
+        if tab is None:
+            tab = local[v] = _local(h, v)
+        return ttable.compose(tab, len(args), args, n)
+    raise AssertionError(f"no table for op {op!r}")
+
+
+def enumerate_cuts(h: Hashed, k: int, *, limit: int = 24, keep: int = 10) -> list[list[Cut]]:
+    """Every node's candidate cuts (see the module docstring); inputs and ``real`` nodes have
+    none.
+
+    Parameters
+    ----------
+    h : Hashed
+        The hashed graph.
+    k : int
+        The largest number of leaves.
+    limit : int
+        Partial unions kept while merging a node's arguments.
+    keep : int
+        Cuts per node passed on to its readers.
+
+    Returns
+    -------
+    list of list of Cut
+        Indexed by node.
+    """
+    N = len(h.op)
+    level = [0] * N
+    passed: list[list[Cut]] = [[] for _ in range(N)]
+    found: list[list[Cut]] = [[] for _ in range(N)]
+    local: dict[int, int] = {}
+    full = ttable.full
+    for v in range(1, N):
+        op = h.op[v]
+        fans = h.fanins[v]
+        if fans:
+            level[v] = 1 + max(level[lit >> 1] for lit in fans)
+        if op in ("input", "real", "const") or len(fans) > MAX_LOCAL:
+            continue
+        partial: dict[int, tuple[Cut, ...]] = {0: ()}
+        for lit in fans:
+            f = lit >> 1
+            choices = (_trivial(f), *passed[f])
+            new: dict[int, tuple[Cut, ...]] = {}
+            for mask, ch in partial.items():
+                for c in choices:
+                    m2 = mask | c.mask
+                    if m2 in new or m2.bit_count() > k:
+                        continue
+                    new[m2] = ch + (c,)
+            if len(new) > limit:
+                order = sorted(new, key=lambda m: (m.bit_count(), m))[:limit]
+                new = {m: new[m] for m in order}
+            partial = new
+        out: dict[int, Cut] = {}
+        for mask, ch in partial.items():
+            leaves = _bits(mask)
+            n = len(leaves)
+            pos = {leaf: i for i, leaf in enumerate(leaves)}
+            args = []
+            for lit, c in zip(fans, ch):
+                t = ttable.expand(c.tt, tuple(pos[x] for x in c.leaves), n)
+                if lit & 1:
+                    t ^= full(n)
+                args.append(t)
+            tt = node_table(h, v, args, n, local)
+            sup = ttable.support(tt, n)
+            if len(sup) < n:
+                tt = ttable.shrink(tt, n, sup)
+                leaves = tuple(leaves[i] for i in sup)
+                mask = 0
+                for x in leaves:
+                    mask |= 1 << x
+            if mask not in out:
+                out[mask] = Cut(mask, leaves, tt)
+        cands = sorted(out.values(), key=lambda c: (len(c.leaves), -sum(level[x] for x in c.leaves),
+                                                    c.mask))
+        found[v] = cands
+        kept: list[Cut] = []
+        for c in cands:
+            if any(d.mask & c.mask == d.mask for d in kept):
+                continue  # dominated by a smaller kept cut
+            kept.append(c)
+            if len(kept) >= keep:
+                break
+        passed[v] = kept
+    return found
+
+
+def support_cuts(h: Hashed, k: int, support_limit: int, *, cone_limit: int = 400
+                 ) -> dict[int, Cut]:
+    """For each node whose input support has more than ``k`` and at most ``support_limit``
+    inputs (and whose cone has at most ``cone_limit`` nodes), the cut of its whole support."""
+    N = len(h.op)
+    sup: list[int | None] = [0] * N
+    for v in range(1, N):
+        op = h.op[v]
+        if op == "input":
+            sup[v] = 1 << v
+            continue
+        s = 0
+        for lit in h.fanins[v]:
+            t = sup[lit >> 1]
+            if t is None:
+                s = None
+                break
+            s |= t
+        if s is not None and (s.bit_count() > support_limit or op == "real"):
+            s = None
+        sup[v] = s
+    out: dict[int, Cut] = {}
+    local: dict[int, int] = {}
+    for v in range(1, N):
+        s = sup[v]
+        if s is None or h.op[v] in ("input", "real") or s.bit_count() <= k:
+            continue
+        # the cone of v down to its inputs, in increasing node order (topological)
+        cone = {v}
+        stack = [v]
+        while stack and len(cone) <= cone_limit:
+            u = stack.pop()
+            for lit in h.fanins[u]:
+                x = lit >> 1
+                if x not in cone and h.op[x] != "input":
+                    cone.add(x)
+                    stack.append(x)
+        if len(cone) > cone_limit or any(
+            h.op[u] in ("thr", "eq") and len(h.fanins[u]) > MAX_LOCAL for u in cone
+        ):
+            continue
+        leaves = _bits(s)
+        n = len(leaves)
+        val = {x: ttable.var(n, i) for i, x in enumerate(leaves)}
+        full = ttable.full(n)
+        for u in sorted(cone):
+            args = [val[lit >> 1] ^ (full if lit & 1 else 0) for lit in h.fanins[u]]
+            val[u] = node_table(h, u, args, n, local)
+        tt = val[v]
+        sp = ttable.support(tt, n)
+        if len(sp) < n:
+            tt = ttable.shrink(tt, n, sp)
+            leaves = tuple(leaves[i] for i in sp)
+        if len(leaves) <= k:
+            continue
+        mask = 0
+        for x in leaves:
+            mask |= 1 << x
+        out[v] = Cut(mask, leaves, tt)
+    return out

@@ -1,0 +1,327 @@
+"""The implementations a node of the hashed graph may get, each a gadget over some leaves.
+
+Rules
+    * A cut whose function is a threshold function is one neuron (weights from
+      :func:`thresholdc.synth.identify.identify`, the smallest realisation).
+    * A cut whose function is symmetric (a function of how many literals are true) gets every
+      counting construction of :mod:`thresholdc.synth.gadgets` that keeps within the limits.
+    * A cut whose function is ``[Σ w·x + u·g ≥ T]`` for a threshold function ``g`` of the same
+      leaves that another node computes over them gets a two-neuron gadget; when that node is
+      implemented by the same neuron, the helper is shared (the cover counts it once).
+    * Every node also has the gadget of its own gate over its arguments, and a flattened
+      ``and``/``xor`` chain its gate over all the chain's arguments; fan-in and weight limits
+      are met by trees.  An option breaking a limit is dropped.
+    * A function is classified once per truth table (cached).
+
+>>> from thresholdc.synth.gates import Gate, GateGraph
+>>> from thresholdc.synth.strash import hash_gates
+>>> from thresholdc.synth.cuts import enumerate_cuts
+>>> g = GateGraph.build(["a", "b", "c"], [("y", "y")], [("t", Gate("or", ("b", "c"))),
+...     ("y", Gate("and", ("a", "t")))])
+>>> h = hash_gates(g)
+>>> v = h.lit_of["y"] >> 1
+>>> opts = node_options(h, v, enumerate_cuts(h, 6)[v], None, Limits(None, None))
+>>> min(o.cost for o in opts)
+1
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import lru_cache
+
+import numpy as np
+
+from ..errors import UsageError
+from . import gadgets as G
+from . import ttable
+from .cuts import Cut
+from .gadgets import Gadget, Spec
+from .strash import Hashed
+
+__all__ = ["Option", "Limits", "classify", "node_options", "helper_options", "KEY_LIMIT"]
+
+#: Gadgets over at most this many leaves carry truth-table keys (so neurons can be shared).
+KEY_LIMIT = 10
+
+
+@dataclass(frozen=True, slots=True)
+class Limits:
+    """The largest fan-in and |weight| allowed (None: no limit)."""
+
+    fan_in: int | None
+    weight: int | None
+
+    def fits(self, g: Gadget) -> bool:
+        return G.fits(g, self.fan_in, self.weight)
+
+
+class Option:
+    """A gadget for a node over its leaves (node ids, increasing), computing ``tt`` over them
+    (``tt`` is None when there are too many leaves for a table)."""
+
+    __slots__ = ("leaves", "gadget", "tt", "cost", "depth", "_keys")
+
+    def __init__(self, leaves: tuple[int, ...], gadget: Gadget, tt: int | None) -> None:
+        self.leaves = leaves
+        self.gadget = gadget
+        self.tt = tt
+        self.cost = len(gadget)
+        self.depth = G.depth(gadget)
+        self._keys: tuple | None = None
+
+    def keys(self) -> tuple:
+        """Per spec ``(key, complemented)``: ``key = (leaves, table)`` over the leaves the spec
+        reads (directly or through earlier specs), the table in its canonical polarity (the
+        smaller of it and its complement); ``(None, 0)`` for gadgets too wide for tables."""
+        if self._keys is None:
+            n = len(self.leaves)
+            if n > KEY_LIMIT:
+                self._keys = tuple((None, 0) for _ in self.gadget)
+            else:
+                tabs = G.spec_tables(self.gadget, n)
+                if self.tt is not None:
+                    assert tabs[-1] == self.tt, "a gadget disagrees with its cut's function"
+                out = []
+                reach: list[tuple[int, ...]] = []
+                for s, t in zip(self.gadget, tabs):
+                    r: set[int] = set()
+                    for x in s.refs:
+                        r.update((x,) if x >= 0 else reach[-x - 1])
+                    pos = tuple(sorted(r))
+                    reach.append(pos)
+                    t = ttable.shrink(t, n, pos)
+                    c = ttable.full(len(pos)) ^ t
+                    leaves = tuple(self.leaves[i] for i in pos)
+                    out.append(((leaves, t), 0) if t <= c else ((leaves, c), 1))
+                self._keys = tuple(out)
+        return self._keys
+
+    def __repr__(self) -> str:
+        return f"Option(leaves={self.leaves}, gadget={self.gadget})"
+
+
+# ------------------------------------------------------------------------------ classification
+
+_IDENTIFY = None
+
+
+def _identify(tt: int, n: int):
+    """``identify`` on a table held as an integer (imported on first use)."""
+    global _IDENTIFY
+    if _IDENTIFY is None:
+        from .identify import identify
+
+        _IDENTIFY = identify
+    return _IDENTIFY(np.array(ttable.to_list(tt, n), dtype=np.uint8))
+
+
+@lru_cache(maxsize=1 << 16)
+def classify(tt: int, n: int) -> tuple | None:
+    """``("const", v)``, ``("thr", weights, T)``, ``("sym", polarity, values)`` or None."""
+    if n == 0:
+        return ("const", tt & 1)
+    if ttable.unateness(tt, n) is not None:
+        r = _identify(tt, n)
+        if r is not None:
+            return ("thr", tuple(int(w) for w in r.weights), int(r.threshold))
+        return None
+    s = ttable.symmetry(tt, n)
+    if s is not None:
+        return ("sym", s[0], s[1])
+    return None
+
+
+def _cut_options(c: Cut, limits: Limits) -> list[Option]:
+    """The options a cut gives by its function alone."""
+    n = len(c.leaves)
+    cls = classify(c.tt, n)
+    if cls is None:
+        return []
+    if cls[0] == "const":
+        return [Option((), (Spec((), (), 1 - cls[1]),), c.tt)]
+    if cls[0] == "thr":
+        g = G.threshold(cls[1], cls[2])
+        return [Option(c.leaves, g, c.tt)] if limits.fits(g) else []
+    sigma = tuple(-1 if p else 1 for p in cls[1])
+    return [Option(c.leaves, g, c.tt) for g in G.symmetric(sigma, cls[2]) if limits.fits(g)]
+
+
+# ------------------------------------------------------------------------------ structural options
+
+
+def _polarise(g: Gadget, neg: tuple[int, ...]) -> Gadget:
+    """``g`` with leaf ``i`` read complemented where ``neg[i]``: ``w·(1 − x) = −w·x + w``."""
+    out = []
+    for s in g:
+        ws = []
+        T = s.T
+        for r, w in zip(s.refs, s.weights):
+            if r >= 0 and neg[r]:
+                ws.append(-w)
+                T -= w
+            else:
+                ws.append(w)
+        out.append(Spec(s.refs, tuple(ws), T))
+    return tuple(out)
+
+
+def _gate_gadget(h: Hashed, v: int, lits: tuple[int, ...], limits: Limits) -> Gadget | None:
+    """The gadget of node ``v``'s own gate over the literals ``lits`` (sorted by node; the
+    gadget's leaf ``i`` is node ``lits[i] >> 1``)."""
+    op = h.op[v]
+    n = len(lits)
+    neg = tuple(lit & 1 for lit in lits)
+    F, W = limits.fan_in, limits.weight
+    if op == "and":
+        return G.and_tree(tuple(-1 if x else 1 for x in neg), F if F is not None else n)
+    if op == "xor":
+        g = G.parity_tree(n, F, W)
+        return None if g is None else _polarise(g, neg)
+    if op in ("thr", "eq"):
+        ws = h.weights[v] or ()
+        g = (G.threshold(ws, h.threshold[v]) if op == "thr" else G.equal(ws, h.threshold[v]))
+        g = _polarise(g, neg)
+        if limits.fits(g):
+            return g
+        if n <= KEY_LIMIT:  # a smaller realisation of the same function may fit
+            tt = G.evaluate(g, n)
+            for o in _cut_options(Cut(0, tuple(range(n)), tt), limits):
+                return o.gadget
+        return None
+    if op == "ite":
+        g = _polarise(G.ite(F), neg)
+        return g if limits.fits(g) else None
+    raise AssertionError(f"no gate gadget for op {op!r}")
+
+
+def _sorted_lits(h: Hashed, v: int, lits: tuple[int, ...]) -> tuple[tuple[int, ...], list[int]]:
+    """Literals sorted by node, and for each original position its index in the sorted list."""
+    order = sorted(range(len(lits)), key=lambda i: lits[i] >> 1)
+    where = [0] * len(lits)
+    for k, i in enumerate(order):
+        where[i] = k
+    return tuple(lits[i] for i in order), where
+
+
+def _remap(g: Gadget, where: list[int]) -> Gadget:
+    """``g`` with leaf ``i`` renumbered ``where[i]``."""
+    return tuple(Spec(tuple(where[r] if r >= 0 else r for r in s.refs), s.weights, s.T)
+                 for s in g)
+
+
+def _gate_option(h: Hashed, v: int, lits: tuple[int, ...], limits: Limits) -> Option | None:
+    """The option of ``v``'s gate over ``lits`` (any order), with leaves sorted."""
+    g = _gate_gadget(h, v, lits, limits)
+    if g is None:
+        return None
+    srt, where = _sorted_lits(h, v, lits)
+    leaves = tuple(lit >> 1 for lit in srt)
+    tt = G.evaluate(_remap(g, where), len(leaves)) if len(leaves) <= KEY_LIMIT else None
+    return Option(leaves, _remap(g, where), tt)
+
+
+def real_option(h: Hashed, v: int) -> Option:
+    """The option of a ``real`` node: it reads its real input (built specially)."""
+    o = Option((h.fanins[v][0] >> 1,), (Spec((0,), (1,), 1),), None)
+    o._keys = ((None, 0),)
+    return o
+
+
+def node_options(h: Hashed, v: int, cuts: list[Cut], support: Cut | None,
+                 limits: Limits) -> list[Option]:
+    """Every option of node ``v``: from its cuts, its support cut, its flattened chain and its
+    own gate.  Raises UsageError when no option keeps within the limits."""
+    if h.op[v] == "real":
+        return [real_option(h, v)]
+    out: list[Option] = []
+    seen: set[tuple] = set()
+
+    def add(o: Option | None) -> None:
+        if o is None:
+            return
+        key = (o.leaves, o.gadget)
+        if key not in seen:
+            seen.add(key)
+            out.append(o)
+
+    for c in cuts:
+        for o in _cut_options(c, limits):
+            add(o)
+    if support is not None:
+        for o in _cut_options(support, limits):
+            add(o)
+    flat = h.flat.get(v)
+    if flat is not None:
+        add(_gate_option(h, v, flat, limits))
+    add(_gate_option(h, v, h.fanins[v], limits))
+    if not out:
+        raise UsageError(
+            f"signal {h.rep[v]!r} cannot be built within the limits "
+            f"(max_fan_in={limits.fan_in}, max_weight={limits.weight})"
+        )
+    return out
+
+
+# ------------------------------------------------------------------------------ helper options
+
+
+@lru_cache(maxsize=1 << 14)
+def _with_helper(tt: int, g_tt: int, n: int) -> tuple[tuple[int, ...], int, int] | None:
+    """Integer ``(w, u, T)`` of least ``Σ|w| + |u| + |T|`` with ``f = [w·x + u·g ≥ T]`` on
+    every row, or None (an ILP with HiGHS)."""
+    from scipy.optimize import Bounds, LinearConstraint, milp
+
+    rows = 1 << n
+    r = np.arange(rows)
+    X = ((r[:, None] >> np.arange(n)) & 1).astype(float)
+    f = np.array([(tt >> i) & 1 for i in range(rows)], dtype=bool)
+    gcol = np.array([(g_tt >> i) & 1 for i in range(rows)], dtype=float)
+    m = n + 2  # w (n), u, T ; then |.| bounds t (m)
+    A = np.zeros((rows, 2 * m))
+    A[:, :n] = X
+    A[:, n] = gcol
+    A[:, n + 1] = -1.0
+    lo = np.where(f, 0.0, -np.inf)
+    hi = np.where(f, np.inf, -1.0)
+    cons = [LinearConstraint(A, lo, hi)]
+    eye = np.eye(m)
+    P = np.hstack([eye, -eye])   # v - t <= 0
+    Q = np.hstack([-eye, -eye])  # -v - t <= 0
+    cons.append(LinearConstraint(np.vstack([P, Q]), -np.inf, 0.0))
+    big = 4 * (1 << n)
+    c = np.concatenate([np.zeros(m), np.ones(m)])
+    res = milp(c, constraints=cons, integrality=np.ones(2 * m),
+               bounds=Bounds(np.concatenate([-big * np.ones(m), np.zeros(m)]),
+                             big * np.ones(2 * m)),
+               options={"time_limit": 2.0})
+    if res.x is None or res.status not in (0,):
+        return None
+    x = np.rint(res.x[:m]).astype(int)
+    w = tuple(int(a) for a in x[:n])
+    u, T = int(x[n]), int(x[n + 1])
+    # check exactly on every row
+    z = X @ np.array(w, dtype=float) + u * gcol
+    if not np.array_equal(z >= T, f) or u == 0:
+        return None
+    return w, u, T
+
+
+def helper_options(c: Cut, g_cut: Cut, g_weights: tuple[int, ...], g_T: int,
+                   limits: Limits) -> Option | None:
+    """The two-neuron option ``[w·x + u·g ≥ T]`` of cut ``c`` with the helper ``g`` (a
+    threshold function whose cut ``g_cut`` has leaves among ``c``'s)."""
+    n = len(c.leaves)
+    pos = {x: i for i, x in enumerate(c.leaves)}
+    g_tt = ttable.expand(g_cut.tt, tuple(pos[x] for x in g_cut.leaves), n)
+    found = _with_helper(c.tt, g_tt, n)
+    if found is None:
+        return None
+    w, u, T = found
+    gw = [0] * n
+    for x, wx in zip(g_cut.leaves, g_weights):
+        gw[pos[x]] = wx
+    gadget = G.helper(tuple(gw), g_T, w, u, T)
+    if not limits.fits(gadget):
+        return None
+    return Option(c.leaves, gadget, c.tt)
