@@ -61,6 +61,7 @@ class CompileResult:
     notes: list[str] = field(default_factory=list)
     warnings: list[str] = field(default_factory=list)
     seconds: dict[str, float] = field(default_factory=dict)
+    survives: bool = True
 
 
 def network_stats(net: Network) -> dict[str, int]:
@@ -157,6 +158,15 @@ def _verify(net: Network, source: Source, check: dict[str, Any]) -> Report | Non
     )
 
 
+def _survives(net: Network) -> bool:
+    """False when a soft network's certificate lets an output be misread."""
+    if not isinstance(net.meta.get("certificate"), dict):
+        return True
+    from .network.soften import survives
+
+    return survives(net)
+
+
 def compile_source(source: Source, **options: Any) -> CompileResult:
     """Compile a parsed source; see :data:`DEFAULTS` for the options.
 
@@ -172,10 +182,11 @@ def compile_source(source: Source, **options: Any) -> CompileResult:
         net = Network(net.inputs, net.neurons, net.outputs, net.meta, net.encoding,
                       network_features(source.program))
     check_network(net, "<compiled>")
+    synthesised = network_stats(net)
     net = _activate(net, shape)
     check_network(net, "<compiled>")
     t1 = time.perf_counter()
-    result = CompileResult(net, None, network_stats(mapped), network_stats(net))
+    result = CompileResult(net, None, network_stats(mapped), synthesised)
     result.seconds["compile"] = t1 - t0
     result.notes.extend(source.gates(shape["simplify_support"]).notes)
     if source.program is not None and source.program.unused:
@@ -188,7 +199,16 @@ def compile_source(source: Source, **options: Any) -> CompileResult:
         report = Report("undecided", check["verify"], 0, [], notes=[err.message])
     result.seconds["verify"] = time.perf_counter() - t1
     result.report = report
-    if report is not None and report.result == "different":
+    result.survives = _survives(net)
+    gain_too_small = shape["gain"] is not None and not result.survives
+    if gain_too_small:
+        bound = net.meta["certificate"]["bound"]
+        result.warnings.append(
+            f"with gain {shape['gain']:g} the certified output error bound is {bound:g}, enough "
+            "to misread an output: the soft network may not compute the rules (the file is "
+            "written; raise the gain or use a tolerance)"
+        )
+    if report is not None and report.result == "different" and not gain_too_small:
         raise CompileError(
             "internal error: the compiled network differs from its source "
             f"({len(report.counterexamples)} counterexample(s)); nothing was written",

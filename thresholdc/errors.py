@@ -83,6 +83,8 @@ class ThresholdcError(Exception):
 
     def render(self) -> str:
         """The text printed on stderr: one line, plus source line and caret where known."""
+        if self.file is None and self.line is None:
+            return f"thresholdc: error: {self.message}"
         head = f"thresholdc: error: {self.location()}: {self.message}"
         if self.line is None or self.column is None or self.source_line is None:
             return head

@@ -87,7 +87,6 @@ def run(args: argparse.Namespace) -> int:
         from ..export import save_any
 
         save_any(net, args.output)
-    survived = _certificate_ok(net)
     summary = summarise(args.source, args.output, result)
     if args.json:
         print_json(summary)
@@ -95,24 +94,7 @@ def run(args: argparse.Namespace) -> int:
         sys.stdout.write(render_summary(summary) + "\n")
     for w in result.warnings:
         warn(w)
-    if not survived:
-        warn(
-            f"with gain {fmt_num(args.gain)} the certified output error bound is "
-            f"{fmt_num(net.meta['certificate']['bound'])}, enough to misread an output: the "
-            "soft network may not compute the rules; the file was written, raise the gain or "
-            "use --tolerance"
-        )
-        return 1
-    return 0
-
-
-def _certificate_ok(net: Any) -> bool:
-    """False when a stored certificate's bound lets an output be misread."""
-    if not isinstance(net.meta.get("certificate"), dict):
-        return True
-    from ..network.soften import survives
-
-    return survives(net)
+    return 0 if result.survives else 1
 
 
 def summarise(source: str, output: str, result: Any) -> dict[str, Any]:

@@ -85,7 +85,10 @@ def atomic_write(path: str, data: bytes | str) -> None:
     so a failure never leaves a half-written file."""
     folder = os.path.dirname(os.path.abspath(path))
     fd, tmp = tempfile.mkstemp(dir=folder, prefix=".thresholdc-", suffix=".tmp")
+    umask = os.umask(0)
+    os.umask(umask)
     try:
+        os.fchmod(fd, 0o666 & ~umask)  # the permissions a plain open() would give
         with os.fdopen(fd, "wb") as fh:
             fh.write(data.encode("utf-8") if isinstance(data, str) else data)
         os.replace(tmp, path)
