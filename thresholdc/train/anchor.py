@@ -36,6 +36,7 @@ __all__ = ["ANCHOR_GRID", "FOLDS", "FALLBACK_ANCHOR", "AnchorChoice", "choose_an
 ANCHOR_GRID = (0.0, 0.001, 0.003, 0.01, 0.03, 0.1)
 FOLDS = 3
 FALLBACK_ANCHOR = 0.01  # used when there are too few rows to cross-validate
+_ONE_SE = True
 
 
 @dataclass(frozen=True)
@@ -120,6 +121,6 @@ def choose_anchor(
         if bar is not None:
             bar.close()
     best = min(range(len(scores)), key=lambda i: (scores[i][1], i))
-    limit = scores[best][1] + scores[best][2]
+    limit = scores[best][1] + (scores[best][2] if _ONE_SE else 0.0)
     chosen = max((s for s in scores if s[1] <= limit), key=lambda s: s[0])
     return AnchorChoice(chosen[0], "cross-validation", tuple(scores))

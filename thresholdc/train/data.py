@@ -215,7 +215,7 @@ def _booleans(table: Table, cells: np.ndarray, what: str, hint: str = "") -> np.
     bad = ~(true | np.isin(low, _FALSE))
     if bad.any():
         r = _first_bad(table, bad)
-        raise table.fail(f"{what}: expected 0/1 or true/false, got {cells[r]!r}{hint}", r)
+        raise table.fail(f"{what}: expected 0/1 or true/false, got {str(cells[r])!r}{hint}", r)
     return true.astype(float)
 
 
@@ -233,12 +233,12 @@ def _reals(table: Table, cells: np.ndarray, what: str) -> np.ndarray:
             except ValueError:
                 bad_rows.append(r)
         r = min(bad_rows)
-        got = f"{cells[r]!r}" if cells[r] else "an empty cell"
+        got = repr(str(cells[r])) if cells[r] else "an empty cell"
         raise table.fail(f"{what}: expected a number, got {got}", r) from None
     bad = ~np.isfinite(values)
     if bad.any():
         r = _first_bad(table, bad)
-        raise table.fail(f"{what}: expected a finite number, got {cells[r]!r}", r)
+        raise table.fail(f"{what}: expected a finite number, got {str(cells[r])!r}", r)
     return values
 
 
@@ -252,7 +252,7 @@ def _categories(table: Table, cells: np.ndarray, values: Sequence[str], what: st
     if not found.all():
         r = _first_bad(table, ~found)
         listed = ", ".join(known.tolist())
-        raise table.fail(f"{what}: unknown category {cells[r]!r} (known: {listed})", r)
+        raise table.fail(f"{what}: unknown category {str(cells[r])!r} (known: {listed})", r)
     return order[pos]
 
 

@@ -1,0 +1,231 @@
+"""Training: loss goes down, runs are reproducible, freeze/widen/anchor/init do what they say."""
+
+import itertools
+
+import numpy as np
+import pytest
+
+from thresholdc.errors import UsageError
+from thresholdc.network.model import Network, Neuron, Output
+from thresholdc.train.fit import train
+from thresholdc.train.warmstart import LINK_SCALE, prepare_start
+
+# y = (a and b) or c, as a two-layer step network; z = not d reads only d.
+RULES = Network(
+    ("a", "b", "c", "d"),
+    (
+        Neuron("ab", 1, ("a", "b"), (1, 1), -1.5, origin="y"),
+        Neuron("y", 2, ("ab", "c"), (1, 1), -0.5, origin="y"),
+        Neuron("z", 1, ("d",), (-1,), 0.5, origin="z"),
+    ),
+    (Output("y", "y"), Output("z", "z")),
+)
+ALL = np.array(list(itertools.product([0, 1], repeat=4)), dtype=float)
+
+
+def _truth(X):
+    a, b, c, d = X.T
+    return np.column_stack([(a * b + c > 0), 1 - d]).astype(float)
+
+
+def _data(rows=64, seed=0, noise=0.0):
+    rng = np.random.default_rng(seed)
+    X = rng.integers(0, 2, size=(rows, 4)).astype(float)
+    y = _truth(X)
+    flip = rng.random(y.shape) < noise
+    return X, np.where(flip, 1 - y, y)
+
+
+def _mse(net, X, y):
+    # the documented loss, computed from Network.evaluate (not from the training code)
+    return float(np.mean(np.sum((net.evaluate(X) - y) ** 2, axis=1)))
+
+
+def _params(net):
+    return [(n.name, n.inputs, n.weights, n.bias) for n in net.neurons]
+
+
+def test_training_reduces_the_loss_from_wrong_rules():
+    # the rules say y = (a and b) or c, the data says y = a or c
+    X, _ = _data()
+    y = np.column_stack([np.maximum(X[:, 0], X[:, 2]), 1 - X[:, 3]])
+    for optimizer in ("adam", "sgd"):
+        r = train(RULES, X, y, epochs=60, seed=0, validation=0, anchor=0.0, optimizer=optimizer)
+        before, after = _mse(r.start, X, y), _mse(r.network, X, y)
+        assert before > 0.05  # (a and b) or c differs from a or c on an eighth of the rows
+        assert after < 0.5 * before
+        assert r.history[0].loss == pytest.approx(before)
+        assert r.history[-1].loss == pytest.approx(after)
+        assert np.array_equal(r.network.decide(ALL)[:, 0], (ALL[:, 0] + ALL[:, 2]) > 0)
+
+
+def test_cross_entropy_reduces_its_loss():
+    X, _ = _data(seed=1)
+    y = np.column_stack([np.maximum(X[:, 0], X[:, 2]), 1 - X[:, 3]])
+    r = train(RULES, X, y, epochs=40, seed=0, validation=0, anchor=0.0, loss="cross-entropy")
+    P = np.clip(r.network.evaluate(X), 1e-12, 1 - 1e-12)
+    ce = float(np.mean(np.sum(-(y * np.log(P) + (1 - y) * np.log(1 - P)), axis=1)))
+    assert ce == pytest.approx(r.history[-1].loss, rel=1e-6)
+    assert r.history[-1].loss < 0.5 * r.history[0].loss
+
+
+def test_warm_start_computes_the_rules_before_training():
+    s = prepare_start(RULES, rng=np.random.default_rng(0), tolerance=0.01)
+    net = s.network()
+    assert np.array_equal(net.decide(ALL), _truth(ALL) > 0.5)
+    # every unit reads every unit of the previous layer
+    sizes = net.layer_sizes()
+    for n in net.neurons:
+        want = 4 if n.layer == 1 else sum(sizes[n.layer - 1].values())
+        assert len(n.inputs) == want
+    # links the rules do not use are small; rule links carry the certified gain
+    z = net.neuron("z")
+    w = dict(zip(z.inputs, z.weights))
+    assert abs(w["a"]) < 5 * LINK_SCALE and w["d"] < -5
+
+
+def test_same_seed_same_parameters_other_seed_differs():
+    X, y = _data(noise=0.1)
+    kw = dict(epochs=15, validation=0.25, anchor=0.01, widen=1)
+    one = train(RULES, X, y, seed=7, **kw)
+    two = train(RULES, X, y, seed=7, **kw)
+    three = train(RULES, X, y, seed=8, **kw)
+    assert one.network.to_json() == two.network.to_json()
+    assert _params(one.network) != _params(three.network)
+
+
+def test_freeze_keeps_the_frozen_neurons_exactly():
+    X, _ = _data()
+    y = np.column_stack([np.maximum(X[:, 0], X[:, 2]), X[:, 3]])  # both outputs disagree
+    r = train(RULES, X, y, epochs=60, seed=0, validation=0, anchor=0.0, freeze=["y"], widen=2,
+              lr=0.1)
+    assert set(r.frozen) >= {"y", "ab"}
+    assert "z" not in r.frozen
+    start = {n.name: n for n in r.start.neurons}
+    for n in r.network.neurons:
+        if n.name in r.frozen:
+            assert (n.inputs, n.weights, n.bias) == (
+                start[n.name].inputs, start[n.name].weights, start[n.name].bias)
+    # the frozen output still computes its rule on every input; the free one was retrained
+    dec = r.network.decide(ALL)
+    assert np.array_equal(dec[:, 0], _truth(ALL)[:, 0] > 0.5)
+    assert np.array_equal(dec[:, 1], ALL[:, 3] > 0.5)
+    with pytest.raises(UsageError, match="no neuron named 'nope'"):
+        train(RULES, X, y, epochs=1, freeze=["nope"])
+    with pytest.raises(UsageError, match="needs --init rules"):
+        train(RULES, X, y, epochs=1, freeze=["y"], init="random")
+
+
+def test_widen_adds_extra_units_to_every_hidden_layer():
+    s = prepare_start(RULES, rng=np.random.default_rng(0), widen=3)
+    net = s.network()
+    for layer, counts in net.layer_sizes().items():
+        assert counts["extra"] == (3 if layer < net.depth else 0)
+    extras = [n for n in net.neurons if n.role == "extra"]
+    assert all(n.origin is None and "~" in n.name for n in extras)
+    assert max(abs(w) for n in extras for w in n.weights) < 5 * LINK_SCALE
+    # the start still computes the rules
+    assert np.array_equal(net.decide(ALL), _truth(ALL) > 0.5)
+
+
+def test_widen_adds_a_hidden_layer_when_there_is_none():
+    flat = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5, origin="y"),),
+                   (Output("y", "y"),))
+    X = np.array([[0, 0], [0, 1], [1, 0], [1, 1]] * 4, dtype=float)
+    r = train(flat, X, X[:, :1] * X[:, 1:], epochs=3, validation=0, anchor=0.0, widen=2)
+    assert r.network.depth == 2
+    assert r.network.layer_sizes()[1] == {"gate": 1, "relay": 0, "extra": 2}
+    assert r.network.layer_sizes()[2] == {"gate": 0, "relay": 1, "extra": 0}
+    assert r.network.decide(X[:4]).ravel().tolist() == [False, False, False, True]
+
+
+def _distance(a, b):
+    return sum(
+        np.sum((np.array(x.weights) - np.array(y.weights)) ** 2) + (x.bias - y.bias) ** 2
+        for x, y in zip(a.neurons, b.neurons)
+    )
+
+
+def test_anchor_pulls_toward_the_start():
+    X, y = _data(noise=0.2, seed=3)
+    kw = dict(epochs=40, seed=0, validation=0)
+    free = train(RULES, X, y, anchor=0.0, **kw)
+    held = train(RULES, X, y, anchor=1.0, **kw)
+    assert _distance(held.network, held.start) < 0.1 * _distance(free.network, free.start)
+    assert np.array_equal(held.network.decide(ALL), _truth(ALL) > 0.5)
+    assert held.history[-1].penalty > 0 and free.history[-1].penalty == 0
+
+
+def test_random_init_same_architecture_and_anchor_is_weight_decay():
+    X, y = _data()
+    warm = train(RULES, X, y, epochs=1, seed=0, validation=0, anchor=0.0)
+    cold = train(RULES, X, y, epochs=30, seed=0, validation=0, anchor=0.0, init="random")
+    assert [n.name for n in cold.network.neurons] == [n.name for n in warm.network.neurons]
+    assert [n.inputs for n in cold.network.neurons] == [n.inputs for n in warm.network.neurons]
+    decayed = train(RULES, X, y, epochs=30, seed=0, validation=0, anchor=5.0, init="random")
+    zero = Network(cold.network.inputs,
+                   tuple(Neuron(n.name, n.layer, n.inputs, (0.0,) * len(n.inputs), 0.0)
+                         for n in cold.network.neurons), cold.network.outputs)
+    assert _distance(decayed.network, zero) < _distance(cold.network, zero)
+
+
+def test_early_stopping_keeps_the_best_validation_epoch():
+    X, y = _data(rows=80, noise=0.25, seed=4)
+    r = train(RULES, X, y, epochs=200, seed=0, validation=0.25, anchor=0.0, patience=5, lr=0.05)
+    losses = [e.validation_loss for e in r.history]
+    assert r.best_epoch == int(np.argmin(losses))
+    assert len(r.history) - 1 == r.best_epoch + 5 < 200 + 1
+    assert r.network.meta["training"]["validation_rows"] == 20
+
+
+def test_auto_anchor_reports_its_choice():
+    X, y = _data(rows=48, noise=0.05)
+    r = train(RULES, X, y, epochs=8, seed=0)
+    grid = [s[0] for s in r.anchor.scores]
+    assert r.anchor.method == "cross-validation" and r.anchor.value in grid
+    assert r.network.meta["training"]["anchor"]["value"] == r.anchor.value
+
+
+def test_trained_meta_records_options_not_certificate():
+    X, y = _data(rows=16)
+    net = RULES.with_meta(tool="thresholdc test", verification={"result": "equal"})
+    r = train(net, X, y, epochs=2, seed=3, validation=0, anchor=0.0)
+    meta = r.network.meta
+    assert meta["tool"] == "thresholdc test"
+    assert "verification" not in meta and "certificate" not in meta
+    assert meta["training"]["options"]["seed"] == 3
+    assert meta["training"]["options"]["optimizer"] == "adam"
+
+
+@pytest.mark.parametrize(
+    "options,message",
+    [
+        ({"epochs": -1}, "'epochs' option of train must be a whole number"),
+        ({"lr": 0}, "'lr' option of train must be a positive number"),
+        ({"validation": 1.0}, "'validation' option of train must be a fraction"),
+        ({"anchor": "strong"}, "'anchor' option of train must be 'auto' or a number"),
+        ({"tolerance": 0.5}, "'tolerance' option of train must be between 0 and 0.5"),
+        ({"optimizer": "rmsprop"}, "'optimizer' option of train must be one of sgd, adam"),
+        ({"outputs": ["nope"]}, "unknown output 'nope'"),
+    ],
+)
+def test_bad_options(options, message):
+    X, y = _data(rows=8)
+    with pytest.raises(UsageError, match=message):
+        train(RULES, X, y, **{"epochs": 1, **options})
+
+
+def test_bad_arrays():
+    X, y = _data(rows=8)
+    with pytest.raises(UsageError, match="labels in y must be 0 or 1"):
+        train(RULES, X, y * 2, epochs=1)
+    with pytest.raises(UsageError, match="y must have shape"):
+        train(RULES, X, y[:, :1], epochs=1)
+    with pytest.raises(UsageError, match="X must have shape"):
+        train(RULES, X[:, :3], y, epochs=1)
+
+
+def test_subset_of_outputs():
+    X, y = _data(rows=16)
+    r = train(RULES, X, y[:, 1:], outputs=["z"], epochs=3, validation=0, anchor=0.0)
+    assert r.outputs == ("z",)
