@@ -154,7 +154,7 @@ class RuleLexer(Lexer):
             elif kind in _CLOSE and opened:
                 opened.pop()
             history.append(tok)
-            if len(history) > 4:
+            if len(history) > 8:
                 del history[0]
             prev_type = kind
             yield tok

@@ -132,6 +132,13 @@ def _syntax_error(err: UnexpectedInput) -> RuleError:
         func = history[-3].value
         return _at(f"{func} needs the integer k as its first argument, found {_show(tok)}", tok)
     message = _message(tok, expected, prev)
+    if tok.type == "CMP" and "CMP" not in expected:
+        message += (
+            ": a comparison has the weighted sum on its left and an integer on its right, "
+            "as in 'a + 2*b >= 2'"
+        )
+    elif tok.type in ("PLUS", "MINUS", "STAR") and any(t.type == "CMP" for t in history[-4:-1]):
+        message += ": the right side of a comparison is a single integer"
     opened = open_brackets()
     if opened and tok.line > opened[-1].line and message.startswith("unexpected"):
         first = opened[-1]
