@@ -59,6 +59,7 @@ __all__ = ["MAX_VARIABLES", "Realisation", "identify", "is_threshold"]
 MAX_VARIABLES = 16
 
 _ENUM_BUDGET = 200_000  # largest number of candidate weight vectors enumerated per round
+_WORK_BUDGET = 30_000_000  # largest candidates × extreme points evaluated per round
 _EVAL_CHUNK = 8192  # candidate rows evaluated per matrix product
 _CHUNK_LIMIT = 10**6  # largest objective magnitude of one lexicographic ILP stage
 _CACHE_SIZE = 1 << 18
@@ -345,34 +346,79 @@ def _analyse(n: int, bits: int) -> _Analysis | None:
     flip_mask = sum(1 << i for i, ng in zip(relevant, negative, strict=True) if ng)
     index = (_points(m) @ (np.int64(1) << np.asarray(order, dtype=np.int64))) ^ flip_mask
     g_bits = _to_bits(_to_array(n, bits)[index])
-    if not _lp_feasible(m, g_bits):
+    class_parts = tuple((tuple(c),) for c in classes)  # symmetric classes, sorted weights
+    if not _lp_feasible(m, g_bits, class_parts):
         return None
     return _Analysis(n, order, neg, tuple(tuple(c) for c in classes), g_bits, bits & 1)
 
 
+def _order_pairs(parts: tuple) -> list[tuple[int, int]]:
+    """Every ``(p, q)`` for which the order rules enforce ``v_p ≥ v_q``.
+
+    ``parts`` lists the classes, largest weight first; each class is a tuple of parts and
+    each part lists its positions in the order of ascending weight.
+    """
+    pairs = []
+    seen: list[int] = []
+    for cls in parts:
+        members = [p for part in cls for p in part]
+        pairs += [(p, q) for p in seen for q in members]  # strict dominance
+        for part in cls:
+            pairs += [(q, p) for a, p in enumerate(part) for q in part[a + 1:]]
+        seen += members
+    return pairs
+
+
+def _order_rows(m: int, parts: tuple) -> list[tuple[np.ndarray, float]]:
+    """The order rules as rows ``coef·(v, T') ≥ bound`` (few rows: neighbours only)."""
+    eye = np.eye(m + 1)
+    rows = []
+    for cls, below in zip(parts, parts[1:], strict=False):  # min of a class > max below
+        for a in cls:
+            for b in below:
+                rows.append((eye[a[0]] - eye[b[-1]], 1.0))
+    for cls in parts:
+        for part in cls:
+            rows += [(eye[q] - eye[p], 0.0) for p, q in zip(part, part[1:], strict=False)]
+    return rows
+
+
 @lru_cache(maxsize=4096)
-def _extreme_points(m: int, g_bits: int) -> tuple[np.ndarray, np.ndarray]:
-    """The minimal true points and maximal false points of a monotone function, as 0/1 rows."""
+def _system(m: int, g_bits: int, parts: tuple) -> tuple[np.ndarray, np.ndarray]:
+    """The true and false points whose constraints imply all others under the order rules.
+
+    Rules: with ``v ≥ 0`` only minimal true and maximal false points matter.  When the order
+    rules enforce ``v_p ≥ v_q``, a true point ``y`` with ``y_p = 1, y_q = 0`` is implied by
+    the point with that one moved from ``p`` to ``q`` if that point is true (its sum is no
+    larger); a false point with ``y_p = 0, y_q = 1`` by the point with the one moved from
+    ``q`` to ``p`` if that point is false.  Moves strictly lower ``Σ rank``, so every chain of
+    implications ends at a kept point.
+    """
     g = _to_array(m, g_bits)
     pts = _points(m).astype(bool)
     k = np.arange(1 << m)
     nb = k[:, None] ^ (1 << np.arange(m))  # the neighbours across each variable
-    has_true_below = (g[nb] & pts).any(axis=1)
-    has_false_above = (~g[nb] & ~pts).any(axis=1)
-    ymin = pts[g & ~has_true_below].astype(np.int64)
-    ymax = pts[~g & ~has_false_above].astype(np.int64)
-    return ymin, ymax
+    keep_true = g & ~(g[nb] & pts).any(axis=1)
+    keep_false = ~g & ~(~g[nb] & ~pts).any(axis=1)
+    for p, q in _order_pairs(parts):
+        moved = g[k ^ ((1 << p) | (1 << q))]
+        keep_true &= ~(pts[:, p] & ~pts[:, q] & moved)
+        keep_false &= ~(~pts[:, p] & pts[:, q] & ~moved)
+    return pts[keep_true].astype(np.int64), pts[keep_false].astype(np.int64)
 
 
 @lru_cache(maxsize=_CACHE_SIZE)
-def _lp_feasible(m: int, g_bits: int) -> bool:
-    """Whether ``v·y ≥ T'`` on minimal true and ``v·y ≤ T' - 1`` on maximal false points holds."""
+def _lp_feasible(m: int, g_bits: int, parts: tuple) -> bool:
+    """Whether ``v·y ≥ T'`` on true and ``v·y ≤ T' - 1`` on false points can hold (LP)."""
     from scipy.optimize import linprog
 
-    ymin, ymax = _extreme_points(m, g_bits)
+    ymin, ymax = _system(m, g_bits, parts)
+    order = _order_rows(m, parts)
     A = np.vstack([np.hstack([-ymin, np.ones((len(ymin), 1))]),
-                   np.hstack([ymax, -np.ones((len(ymax), 1))])])
-    b = np.concatenate([np.zeros(len(ymin)), -np.ones(len(ymax))])
+                   np.hstack([ymax, -np.ones((len(ymax), 1))])]
+                  + [-coef[None, :] for coef, _ in order])
+    b = np.concatenate([np.zeros(len(ymin)), -np.ones(len(ymax))]
+                       + [[-bound] for _, bound in order])
     res = linprog(np.r_[np.ones(m), 0.0], A_ub=A, b_ub=b,
                   bounds=[(1, None)] * m + [(None, None)], method="highs")
     assert res.status in (0, 2), f"LP ended with status {res.status}: {res.message}"
@@ -401,11 +447,13 @@ def _identify_key(n: int, bits: int) -> Realisation | None:
 
 
 def _parts(an: _Analysis) -> tuple[tuple[tuple[int, ...], ...], ...]:
-    """Each symmetry class split into its positive and negative positions (in that order)."""
+    """Each symmetry class split into its positive and negative parts (ascending weight)."""
+    # positions inside a class are in original-index order; the lexicographic optimum has
+    # w ascending along it, so v ascending on positive and descending on negative parts
     out = []
     for cls in an.classes:
         pos = tuple(p for p in cls if not an.negative[p])
-        neg = tuple(p for p in cls if an.negative[p])
+        neg = tuple(reversed([p for p in cls if an.negative[p]]))
         out.append(tuple(part for part in (pos, neg) if part))
     return tuple(out)
 
@@ -413,12 +461,14 @@ def _parts(an: _Analysis) -> tuple[tuple[tuple[int, ...], ...], ...]:
 def _cost_of(V: np.ndarray, ymin: np.ndarray, ymax: np.ndarray, negvec: np.ndarray,
              f_zero: int) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """For candidate rows ``V``: feasible?, cost, |T| and T of the best threshold for each."""
+    # float products use BLAS and are exact: every sum is an integer far below 2**53
     tmin = np.empty(len(V), dtype=np.int64)
     fmax = np.empty(len(V), dtype=np.int64)
+    ymin_t, ymax_t = ymin.T.astype(np.float64), ymax.T.astype(np.float64)
     for start in range(0, len(V), _EVAL_CHUNK):  # chunks keep the products small
-        part = V[start:start + _EVAL_CHUNK]
-        tmin[start:start + _EVAL_CHUNK] = (part @ ymin.T).min(axis=1)
-        fmax[start:start + _EVAL_CHUNK] = (part @ ymax.T).max(axis=1)
+        part = V[start:start + _EVAL_CHUNK].astype(np.float64)
+        tmin[start:start + _EVAL_CHUNK] = (part @ ymin_t).min(axis=1)
+        fmax[start:start + _EVAL_CHUNK] = (part @ ymax_t).max(axis=1)
     feasible = fmax < tmin
     vn = V @ negvec
     if f_zero:  # T ≤ 0, so the cost Σv - T is smallest at the largest T' = tmin
@@ -440,12 +490,13 @@ def _enumerate_optimal(m: int, g_bits: int, neg_mask: int, f_zero: int,
     Cost ≥ Σv + (1 if f(0) = 0 else 0), so once every vector with Σv ≤ best cost - that
     offset has been seen, the best cost and all vectors reaching it are known exactly.
     """
-    ymin, ymax = _extreme_points(m, g_bits)
+    ymin, ymax = _system(m, g_bits, parts)
     negvec = np.array([(neg_mask >> p) & 1 for p in range(m)], dtype=np.int64)
     offset = 1 - f_zero
+    limit = min(_ENUM_BUDGET, _WORK_BUDGET // (len(ymin) + len(ymax)))
     S = 2 * m
     while True:
-        V = _candidates(parts, m, S)
+        V = _candidates(parts, m, S, limit)
         if V is None:
             return None
         feasible, cost, absT, T = _cost_of(V, ymin, ymax, negvec, f_zero)
@@ -453,7 +504,7 @@ def _enumerate_optimal(m: int, g_bits: int, neg_mask: int, f_zero: int,
             need = int(cost[feasible].min()) - offset
             if need > S:
                 S = need
-                V = _candidates(parts, m, S)
+                V = _candidates(parts, m, S, limit)
                 if V is None:
                     return None
                 feasible, cost, absT, T = _cost_of(V, ymin, ymax, negvec, f_zero)
@@ -466,7 +517,7 @@ def _enumerate_optimal(m: int, g_bits: int, neg_mask: int, f_zero: int,
                  for row, t in zip(V[sel], T[sel], strict=True))
 
 
-def _candidates(parts: tuple, m: int, S: int) -> np.ndarray | None:
+def _candidates(parts: tuple, m: int, S: int, limit: int) -> np.ndarray | None:
     """Every weight vector allowed by the order rules with ``Σv ≤ S`` (None: too many)."""
     # Classes are stored largest weight first; build from the smallest class up.  Each
     # variable of class c needs at least base_c (one more than the largest weight of the
@@ -490,7 +541,7 @@ def _candidates(parts: tuple, m: int, S: int) -> np.ndarray | None:
                 hi = S - total - later * base - above_extra
                 cnt = np.maximum(hi - lo + 1, 0)
                 count = int(cnt.sum())
-                if count > _ENUM_BUDGET:
+                if count > limit:
                     return None
                 idx = np.repeat(np.arange(len(rows)), cnt)
                 val = lo[idx] + np.arange(count) - np.repeat(np.cumsum(cnt) - cnt, cnt)
@@ -530,7 +581,7 @@ def _solve_ilp(an: _Analysis, parts: tuple) -> Realisation | None:
     from scipy.optimize import LinearConstraint, milp
 
     m = len(an.order)
-    ymin, ymax = _extreme_points(m, an.g_bits)
+    ymin, ymax = _system(m, an.g_bits, parts)
     negvec = np.array(an.negative, dtype=np.float64)
     rows, lb, ub = [], [], []
 
@@ -539,21 +590,14 @@ def _solve_ilp(an: _Analysis, parts: tuple) -> Realisation | None:
         lb.append(lo)
         ub.append(hi)
 
-    # variables: v_0 … v_{m-1} (canonical positions), T'
+    # variables: v_0 … v_{m-1} (canonical positions), T'.  The order rules hold in every
+    # realisation (strict dominance) or in the lexicographic optimum (sorted parts).
     for y in ymin:
         add(np.r_[y, -1.0], 0, np.inf)
     for y in ymax:
         add(np.r_[y, -1.0], -np.inf, -1)
-    for c in range(len(parts) - 1):  # strict dominance between neighbouring classes
-        for p in (q for part in parts[c] for q in part):
-            for q in (q for part in parts[c + 1] for q in part):
-                add(np.r_[np.eye(m)[p] - np.eye(m)[q], 0.0], 1, np.inf)
-    for cls in parts:  # the lexicographic optimum has sorted weights inside a part
-        for part in cls:
-            ps = sorted(part, key=lambda p: an.order[p])
-            for p, q in zip(ps, ps[1:], strict=False):
-                sign = -1.0 if an.negative[p] else 1.0  # w ascending with the original index
-                add(np.r_[sign * (np.eye(m)[q] - np.eye(m)[p]), 0.0], 0, np.inf)
+    for coef, bound in _order_rows(m, parts):
+        add(coef, bound, np.inf)
     # T = T' - Σ_neg v; |T| and the cost as linear forms (T ≥ 1 exactly when f(0) = 0)
     t_form = np.r_[-negvec, 1.0]
     abs_t = -t_form if an.f_zero else t_form
@@ -603,6 +647,6 @@ def _solve_ilp(an: _Analysis, parts: tuple) -> Realisation | None:
 
 def _clear_caches() -> None:
     """Empty every cache of this module (for benchmarks and tests)."""
-    for fn in (_read_bytes, _analyse, _lp_feasible, _extreme_points, _identify_key,
+    for fn in (_read_bytes, _analyse, _lp_feasible, _system, _identify_key,
                _enumerate_optimal):
         fn.cache_clear()
