@@ -106,3 +106,15 @@ def test_long_chains_of_every_connective(n):
             expr = expr.right if op == "->" else expr.left
             depth += 1
         assert depth == n - 1, op
+
+
+def test_long_cycle_is_found_without_recursion():
+    from thresholdc.errors import RuleError
+
+    lines = ["input x"] + [f"d{i} = d{i + 1} and x" for i in range(1999)] + ["d1999 = not d0"]
+    with pytest.raises(RuleError) as info:
+        parse("\n".join(lines))
+    err = info.value
+    assert (err.line, err.column) == (2, 1)
+    names = err.message.removeprefix("cyclic definition: ").split(" -> ")
+    assert names == [f"d{i}" for i in range(2000)] + ["d0"]
