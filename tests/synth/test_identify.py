@@ -319,3 +319,39 @@ def test_all_permutations_of_a_function():
         assert r.cost == base.cost and sorted(r.weights) == sorted(base.weights)
         np.testing.assert_array_equal(table_of(r.weights, r.threshold),
                                       table_of(w, base.threshold))
+
+
+def plain_lp_is_threshold(table: np.ndarray) -> bool:
+    """A second formulation: an LP over every point of the table, with no filters at all."""
+    from scipy.optimize import linprog
+
+    n = int(np.log2(len(table)))
+    X = points(n).astype(float)
+    t = np.asarray(table).astype(bool)
+    A = np.vstack([np.hstack([-X[t], np.ones((t.sum(), 1))]),
+                   np.hstack([X[~t], -np.ones(((~t).sum(), 1))])])
+    b = np.r_[np.zeros(t.sum()), -np.ones((~t).sum())]
+    res = linprog(np.zeros(n + 1), A_ub=A, b_ub=b, bounds=[(None, None)] * (n + 1),
+                  method="highs")
+    return res.status == 0
+
+
+def test_is_threshold_agrees_with_a_plain_lp_on_unate_functions():
+    # random monotone sums of products, with random inputs negated: unate, so only the
+    # later steps (dominance, reduced constraints, LP) can tell threshold functions apart
+    rng = np.random.default_rng(11)
+    seen = {True: 0, False: 0}
+    for _ in range(80):
+        n = int(rng.integers(5, 8))
+        X = points(n).astype(bool)
+        f = np.zeros(1 << n, dtype=bool)
+        for _ in range(int(rng.integers(1, 5))):
+            f |= X[:, rng.random(n) < rng.uniform(0.2, 0.6)].all(axis=1)
+        f = f[np.arange(1 << n) ^ int(rng.integers(0, 1 << n))]
+        expected = plain_lp_is_threshold(f)
+        seen[expected] += 1
+        assert is_threshold(f) == expected, f.astype(int).tolist()
+        if expected:
+            r = identify(f)
+            np.testing.assert_array_equal(table_of(r.weights, r.threshold), f)
+    assert seen[True] and seen[False]  # both kinds were exercised
