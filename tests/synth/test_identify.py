@@ -355,3 +355,9 @@ def test_is_threshold_agrees_with_a_plain_lp_on_unate_functions():
             r = identify(f)
             np.testing.assert_array_equal(table_of(r.weights, r.threshold), f)
     assert seen[True] and seen[False]  # both kinds were exercised
+
+
+def test_docstring_examples_hold():
+    import doctest
+
+    assert doctest.testmod(ident).failed == 0
