@@ -86,7 +86,7 @@ _CLOSE = frozenset({"RPAR", "RSQB", "RBRACE"})
 # Longer symbols first, so that "<->" is not read as "<" "-" ">".
 _SYMBOL_RE = "|".join(re.escape(s) for s in sorted(_SYMBOLS, key=len, reverse=True))
 _TOKEN_RE = re.compile(
-    r"(?P<WS>[ \t\f\r]+)"
+    r"(?P<WS>[ \t\f\r\ufeff]+)"
     r"|(?P<NL>\n)"
     r"|(?P<COMMENT>\#[^\n]*)"
     r"|(?P<NAME>[A-Za-z_][A-Za-z0-9_]*)"
@@ -146,7 +146,7 @@ class RuleLexer(Lexer):
             elif kind == "SYMBOL":
                 kind = _SYMBOLS[value]
             elif kind == "BAD":
-                shown = value if value.isprintable() else repr(value)
+                shown = value if value.isprintable() else repr(value)[1:-1]
                 raise RuleError(f"unexpected character '{shown}'", line=line, column=column)
             tok = Token(kind, value, start, tok_line, column, tok_line, column + len(value), end)
             if kind in _OPEN:
