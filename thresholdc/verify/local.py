@@ -1,0 +1,589 @@
+"""Local verification: each neuron against the gate cone it replaced, by exhaustion.
+
+The compiler records in ``meta.cones`` which part of the gate graph each neuron computes:
+``{NEURON: {"root": SIGNAL, "leaves": [SIGNAL, …]}}``.  This check rebuilds the gate graph
+from the source and proves, for every listed neuron, that on all 2^|leaves| values of its
+leaves
+
+    (a) the root signal computed by the gate-graph region between the leaves and the root, and
+    (b) the neuron computed by the sub-network from the leaf units to it (the neuron and the
+        unlisted helper neurons it reads inside its cone)
+
+agree.  With the structural checks — every neuron is listed, a helper inside a listed cone,
+or a relay (a one-input neuron repeating or negating a unit); each leaf is a unit of the
+network that carries that signal; each output reads the unit carrying its source signal —
+this proves by induction over the network's order that every unit computes its signal, so
+the network equals the gate graph.
+
+Signals are compared up to structural hashing, recomputed here from the gate graph: ``buf``
+and double negation are transparent and the same op on the same arguments is the same signal,
+so a compiler that merged duplicate gates is checked too.  A cone with more leaves than
+``max_leaves`` is proved by a small SAT miter instead.
+
+For a netlist the gate graph is the netlist, so this decides alone.  For rules, the step from
+the rules to the gate graph is checked too: exhaustively for at most 16 inputs, else by a SAT
+miter between the rule AST and the gate graph (or exhaustively up to ``max_inputs`` without
+python-sat).
+
+>>> from thresholdc.compiler import compile_rules
+>>> from thresholdc.source import Source
+>>> text = "input a, b, c\\ny = a and (b or not c)\\n"
+>>> report = verify_local(compile_rules(text, synthesis=False), Source.from_text(text, "t.rules"))
+>>> report.result, report.method
+('equal', 'local')
+"""
+
+from __future__ import annotations
+
+import time
+from typing import Any
+
+import numpy as np
+
+from ..network.model import Network, Neuron
+from ..synth.gates import Gate, GateGraph
+from .exhaustive import assignments, check_names
+from .report import OutputReport, Report
+from .sat import confirm_counterexample, gates_side, miter_summary, source_side
+from .sat_encode import check_step_network, integer_threshold
+from .sat_miter import prove_equivalent
+
+__all__ = ["verify_local", "structural_classes", "LOCAL_MAX_LEAVES", "RULES_EXHAUSTIVE_MAX"]
+
+LOCAL_MAX_LEAVES = 16
+RULES_EXHAUSTIVE_MAX = 16
+_CHUNK = 1 << 16
+_RANDOM_ROWS = 1024
+
+Cls = tuple[int, bool]  # (class id, negated)
+
+
+# ---------------------------------------------------------------------- structural classes
+def structural_classes(graph: GateGraph) -> dict[str, Cls]:
+    """Each signal's structural class: signals with the same class id compute the same
+    function (or its complement when the flags differ).
+
+    Rules: ``buf`` is its argument, ``not`` flips the flag; ``or``/``nand``/``nor`` are
+    written as (negated) ``and`` of (negated) arguments; xor/xnor fold argument negations
+    into the flag; threshold and equal gates fold negated arguments into the threshold;
+    ``ite`` with a negated condition swaps its branches; arguments of commutative ops are
+    sorted.  Equal keys get equal ids.
+
+    >>> g = GateGraph.build(["a", "b"], [("y", "y")], [("x", Gate("and", ("a", "b"))),
+    ...     ("n", Gate("nand", ("b", "a"))), ("y", Gate("not", ("n",)))])
+    >>> c = structural_classes(g); c["x"] == c["y"], c["n"] == (c["x"][0], True)
+    (True, True)
+    """
+    table: dict[tuple, int] = {}
+    cls: dict[str, Cls] = {}
+
+    def cid(key: tuple) -> int:
+        return table.setdefault(key, len(table))
+
+    for name, g in graph.gates.items():
+        op = g.op
+        args = [cls[a] for a in g.args]
+        if op == "input":
+            cls[name] = (cid(("input", name)), False)
+        elif op == "const":
+            cls[name] = (cid(("const",)), not g.value)
+        elif op == "buf":
+            cls[name] = args[0]
+        elif op == "not":
+            cls[name] = (args[0][0], not args[0][1])
+        elif op in ("and", "nand", "or", "nor"):
+            inverted = op in ("or", "nor")
+            lits = sorted({(i, n != inverted) for i, n in args})
+            if len(lits) == 1:
+                c = lits[0]
+            else:
+                c = (cid(("and", tuple(lits))), False)
+            cls[name] = (c[0], c[1] != (op in ("nand", "or")))
+        elif op in ("xor", "xnor"):
+            odd: dict[int, int] = {}
+            flip = op == "xnor"
+            for i, n in args:
+                flip ^= n
+                odd[i] = odd.get(i, 0) ^ 1
+            ids = tuple(sorted(i for i, k in odd.items() if k))
+            if not ids:
+                cls[name] = (cid(("const",)), not flip)
+            elif len(ids) == 1:
+                cls[name] = (ids[0], flip)
+            else:
+                cls[name] = (cid(("xor", ids)), flip)
+        elif op in ("threshold", "equal"):
+            coef: dict[int, int] = {}
+            t = int(g.threshold or 0)
+            for (i, n), w in zip(args, g.weights or ()):
+                if n:
+                    t -= w
+                    coef[i] = coef.get(i, 0) - w
+                else:
+                    coef[i] = coef.get(i, 0) + w
+            terms = tuple(sorted((i, w) for i, w in coef.items() if w))
+            cls[name] = (cid((op, terms, t)), False)
+        elif op == "ite":
+            c, t, e = args
+            if c[1]:
+                t, e = e, t
+            cls[name] = (cid(("ite", c[0], t, e)), False)
+        else:
+            cls[name] = (cid(("opaque", name)), False)
+    return cls
+
+
+# ---------------------------------------------------------------------- evaluation
+def _gate_value(g: Gate, args: list[np.ndarray], rows: int) -> np.ndarray:
+    """One gate's value over all rows (the gate graph's semantics, written out here)."""
+    op = g.op
+    if op == "const":
+        return np.full(rows, bool(g.value))
+    if op == "buf":
+        return args[0]
+    if op == "not":
+        return ~args[0]
+    if op in ("and", "nand", "or", "nor"):
+        v = np.all(args, axis=0) if op in ("and", "nand") else np.any(args, axis=0)
+        return ~v if op in ("nand", "nor") else v
+    if op in ("xor", "xnor"):
+        v = np.bitwise_xor.reduce(args)
+        return ~v if op == "xnor" else v
+    if op == "ite":
+        return np.where(args[0], args[1], args[2])
+    total = np.zeros(rows, dtype=np.int64)
+    for w, a in zip(g.weights or (), args):
+        total += int(w) * a
+    t = int(g.threshold or 0)
+    return total >= t if op == "threshold" else total == t
+
+
+def _step(W: list[int], K: int, vals: list[np.ndarray], rows: int) -> np.ndarray:
+    """A step neuron's output on all rows, exactly: Σ W·x ≥ K in integers."""
+    if not W:
+        return np.full(rows, K <= 0)
+    M = np.stack(vals).astype(np.int64)
+    if max(abs(x) for x in W + [K]) * (len(W) + 1) < 2**62:
+        return np.asarray(W, dtype=np.int64) @ M >= K
+    return np.asarray(np.asarray(W, dtype=object) @ M.astype(object) >= K, dtype=bool)
+
+
+def _abs_z(n: Neuron, vals: list[np.ndarray], rows: int) -> np.ndarray:
+    """|pre-activation| of a neuron on all rows (floating point, for margins)."""
+    if not vals:
+        return np.full(rows, abs(float(n.bias)))
+    return np.abs(np.asarray(n.weights, dtype=float) @ np.stack(vals).astype(float) + n.bias)
+
+
+class _Local:
+    """The state of one local check."""
+
+    def __init__(self, net: Network, graph: GateGraph, max_leaves: int, deadline: float) -> None:
+        self.net = net
+        self.deadline = deadline
+        self.input_set = set(net.inputs)
+        self.graph = graph
+        self.max_leaves = max_leaves
+        self.cls = structural_classes(graph)
+        self.order = {name: i for i, name in enumerate(graph.gates)}
+        self.neurons = {n.name: n for n in net.neurons}
+        self.problems: list[str] = []
+        self.mismatch: list[str] = []
+        self.assignments = 0
+        self.margins: dict[str, float] = {}
+        self.sat_cones = 0
+        self.position = {n.name: j for j, n in enumerate(net.neurons)}
+        self.helpers: set[str] = set()
+        self._integer: dict[str, tuple[list[int], int]] = {}
+        self.read_by_outputs = {self.resolve_output(o.source) for o in net.outputs}
+
+    def resolve_output(self, unit: str) -> str:
+        """The unit an output reads through its relays (aliases are not known yet: the
+        relay chain is followed by the one-input identity/negation rule directly)."""
+        seen = set()
+        while unit in self.neurons and unit not in seen:
+            seen.add(unit)
+            n = self.neurons[unit]
+            if len(n.inputs) == 1 and (n.bias <= 0 < n.weights[0] + n.bias
+                                       or n.weights[0] + n.bias <= 0 < n.bias):
+                unit = n.inputs[0]
+            else:
+                break
+        return unit
+
+    def integer(self, name: str) -> tuple[list[int], int]:
+        """The neuron's exact integer form Σ W·x ≥ K (cached)."""
+        if name not in self._integer:
+            n = self.neurons[name]
+            self._integer[name] = integer_threshold(n.weights, n.bias)
+        return self._integer[name]
+
+    # -- units and what they carry
+    def setup(self, cones: dict[str, Any]) -> bool:
+        """Read the cone records; resolve relays; the class each unit carries."""
+        self.cones: dict[str, tuple[str, list[str]]] = {}
+        for name in sorted(cones):
+            entry = cones[name]
+            root = entry.get("root") if isinstance(entry, dict) else None
+            leaves = entry.get("leaves") if isinstance(entry, dict) else None
+            if name not in self.neurons or not isinstance(root, str) or not (
+                isinstance(leaves, list) and all(isinstance(x, str) for x in leaves)
+            ):
+                self.problems.append(f"malformed cone record for {name!r}")
+                continue
+            unknown = [s for s in [root] + leaves if s not in self.cls]
+            if unknown:
+                self.problems.append(
+                    f"the cone of {name!r} names signal(s) not in the gate graph: "
+                    f"{', '.join(unknown[:3])}"
+                )
+                continue
+            self.cones[name] = (root, leaves)
+        self.alias: dict[str, tuple[str, bool]] = {}
+        self.carried: dict[str, Cls] = {u: self.cls[u] for u in self.net.inputs if u in self.cls}
+        for n in self.net.neurons:
+            if n.name in self.cones:
+                self.carried[n.name] = self.cls[self.cones[n.name][0]]
+            elif len(n.inputs) == 1:
+                copy = n.bias <= 0 < n.weights[0] + n.bias
+                negate = n.weights[0] + n.bias <= 0 < n.bias
+                if copy or negate:
+                    base, neg = self.resolve(n.inputs[0])
+                    self.alias[n.name] = (base, neg != negate)
+                    if base in self.carried:
+                        i, f = self.carried[base]
+                        self.carried[n.name] = (i, f != (neg != negate))
+        return not self.problems
+
+    def resolve(self, unit: str) -> tuple[str, bool]:
+        """The unit a relay chain starts from, and whether it is negated on the way."""
+        return self.alias.get(unit, (unit, False))
+
+    # -- one cone
+    def check_cone(self, name: str) -> bool:
+        """Check one listed neuron (its helpers are added to ``helpers``)."""
+        root, leaves = self.cones[name]
+        leaf_ids = sorted({self.cls[s][0] for s in leaves})
+        index = {i: k for k, i in enumerate(leaf_ids)}
+        # the gate-graph region from the root back to the leaves
+        region: list[str] = []
+        seen: set[str] = set()
+        stack = [root]
+        while stack:
+            s = stack.pop()
+            if s in seen:
+                continue
+            seen.add(s)
+            if self.cls[s][0] in index:
+                continue
+            g = self.graph.gates[s]
+            if g.op == "input":
+                self.problems.append(
+                    f"the cone of {name!r} is not closed by its leaves: it reaches input {s!r}"
+                )
+                return False
+            region.append(s)
+            stack.extend(g.args)
+        # the sub-network from the leaf units to the neuron
+        sub: list[str] = []
+        seen = set()
+        stack = [name]
+        while stack:
+            u = stack.pop()
+            if u in seen:
+                continue
+            seen.add(u)
+            base, _ = self.resolve(u)
+            if u != name and (base in self.cones or base in self.input_set):
+                c = self.carried.get(base)
+                if c is None or c[0] not in index:
+                    self.problems.append(
+                        f"{name!r} reads unit {u!r}, which is not a leaf of its cone"
+                    )
+                    return False
+                continue
+            if base not in self.neurons:
+                self.problems.append(f"{name!r} reads unit {u!r}, which carries no signal")
+                return False
+            sub.append(base)
+            stack.extend(self.neurons[base].inputs)
+        self.helpers.update(u for u in sub if u != name)
+        if len(leaf_ids) > self.max_leaves:
+            return self._check_cone_sat(name, root, leaves, sub)
+        m = len(leaf_ids)
+        rows = 1 << m
+        k = np.arange(rows, dtype=np.int64)
+        cols = [((k >> j) & 1).astype(bool) for j in range(m)]
+        val: dict[str, np.ndarray] = {}
+
+        def signal(s: str) -> np.ndarray:
+            if s in val:
+                return val[s]
+            i, neg = self.cls[s]
+            return ~cols[index[i]] if neg else cols[index[i]]
+
+        for s in sorted(region, key=self.order.__getitem__):
+            g = self.graph.gates[s]
+            val[s] = _gate_value(g, [signal(a) for a in g.args], rows)
+        want = signal(root)
+        units: dict[str, np.ndarray] = {}
+
+        def unit(u: str) -> np.ndarray:
+            base, neg = self.resolve(u)
+            if base in units:
+                v = units[base]
+            else:
+                i, f = self.carried[base]
+                v = ~cols[index[i]] if f else cols[index[i]]
+            return ~v if neg else v
+
+        for u in sorted(sub, key=self.position.__getitem__):
+            n = self.neurons[u]
+            W, K = self.integer(u)
+            vals = [unit(i) for i in n.inputs]
+            units[u] = _step(W, K, vals, rows)
+            if u == name and name in self.read_by_outputs:
+                self.margins[name] = float(_abs_z(n, vals, rows).min())
+        self.assignments += rows
+        if not np.array_equal(units[name], want):
+            bad = int(np.nonzero(units[name] != want)[0][0])
+            example = ", ".join(
+                f"{self._leaf_name(leaves, i)}={int(cols[index[i]][bad])}" for i in leaf_ids
+            )
+            self.mismatch.append(
+                f"{name!r} differs from its cone (root {root!r}) at {example}"
+            )
+            return False
+        return True
+
+    def _leaf_name(self, leaves: list[str], i: int) -> str:
+        return next(s for s in leaves if self.cls[s][0] == i)
+
+    def _check_cone_sat(self, name: str, root: str, leaves: list[str], sub: list[str]) -> bool:
+        """A cone with many leaves: a miter between its region and its sub-network."""
+        reps = {}
+        for s in leaves:
+            reps.setdefault(self.cls[s][0], s)
+        names = [reps[i] for i in sorted(reps)]
+        graph, cls, position = self.graph, self.cls, self.position
+
+        def leaf_lit(ins: dict[str, int], c: Cls) -> int:
+            lit = ins[reps[c[0]]]
+            return -lit if c[1] else lit
+
+        def side_gates(c: Any, ins: dict[str, int]) -> dict[str, int]:
+            from .sat_encode import encode_gates
+
+            # a graph whose inputs are the cone's leaves
+            lit: dict[str, int] = {}
+            stack, order = [root], []
+            seen: set[str] = set()
+            while stack:
+                s = stack.pop()
+                if s in seen:
+                    continue
+                seen.add(s)
+                if cls[s][0] in reps:
+                    lit[s] = leaf_lit(ins, cls[s])
+                else:
+                    order.append(s)
+                    stack.extend(graph.gates[s].args)
+            part = {s: graph.gates[s] for s in sorted(order, key=self.order.__getitem__)}
+            sub_graph = GateGraph({**{s: Gate("input") for s in lit}, **part}, tuple(lit),
+                                  ((root, root),))
+            got = encode_gates(c, sub_graph, lit)
+            return {"y": got[root]}
+
+        def side_net(c: Any, ins: dict[str, int]) -> dict[str, int]:
+            lit: dict[str, int] = {}
+
+            def unit(u: str) -> int:
+                base, neg = self.resolve(u)
+                v = lit[base] if base in lit else leaf_lit(ins, self.carried[base])
+                return -v if neg else v
+
+            for u in sorted(sub, key=position.__getitem__):
+                W, K = self.integer(u)
+                lit[u] = c.geq(W, [unit(i) for i in self.neurons[u].inputs], K)
+            return {"y": lit[name]}
+
+        outcome = prove_equivalent(names, ["y"], side_gates, side_net,
+                                   time_limit=max(self.deadline - time.perf_counter(), 0.1))
+        self.sat_cones += 1
+        if outcome.status != "equal":
+            what = "differs from" if outcome.status == "different" else "was not proven equal to"
+            self.mismatch.append(f"{name!r} {what} its cone (root {root!r}, {len(names)} leaves)")
+            return False
+        return True
+
+
+def _undecided(notes: list[str], t0: float) -> Report:
+    return Report("undecided", "local", 0, [], notes=notes, seconds=time.perf_counter() - t0)
+
+
+def _random_counterexample(net: Network, source: Any) -> list:
+    """Counterexamples found by simulating both sides on random rows (may be none)."""
+    n = len(source.inputs)
+    rng = np.random.default_rng(0)
+    X = rng.integers(0, 2, size=(_RANDOM_ROWS, n)).astype(np.uint8)
+    perm = [list(source.inputs).index(u) for u in net.inputs]
+    expected = np.asarray(source.evaluate(X), dtype=bool)
+    got = net.decide(X[:, perm].astype(float))
+    order = [list(source.outputs).index(o.name) for o in net.outputs]
+    diff = np.nonzero((got != expected[:, order]).any(axis=1))[0]
+    if not len(diff):
+        return []
+    assignment = {u: int(X[diff[0], i]) for i, u in enumerate(source.inputs)}
+    return confirm_counterexample(net, source, assignment)
+
+
+def _rules_to_gates(source: Any, graph: GateGraph, time_limit: float,
+                    max_inputs: int) -> tuple[str, str, dict[str, int] | None]:
+    """Check the gate graph against the rules: (status, what was shown, a differing
+    assignment or None)."""
+    program = source.program
+    if program.is_typed():
+        return "undecided", "typed inputs: the rules-to-gates step is not checked locally", None
+    inputs, outputs = list(source.inputs), list(source.outputs)
+    n = len(inputs)
+    try:
+        import pysat  # noqa: F401
+
+        have_sat = True
+    except ImportError:
+        have_sat = False
+    if n <= RULES_EXHAUSTIVE_MAX or (not have_sat and n <= max_inputs):
+        sig = dict(graph.outputs)
+        total = 1 << n
+        for start in range(0, total, _CHUNK):
+            X = assignments(n, start, min(total, start + _CHUNK))
+            ref = np.asarray(source.evaluate(X), dtype=bool)
+            got = graph.simulate(X, [sig[o] for o in outputs])
+            bad = np.nonzero((ref != got).any(axis=1))[0]
+            if len(bad):
+                return "different", "", {u: int(X[bad[0], i]) for i, u in enumerate(inputs)}
+        return "equal", f"the gate graph equals the rules on all {total} assignments", None
+    if not have_sat:
+        return "undecided", (f"{n} inputs and no python-sat: the rules-to-gates step is not "
+                             "checked"), None
+    outcome = prove_equivalent(inputs, outputs, source_side(source), gates_side(graph),
+                               time_limit=time_limit)
+    if outcome.status == "equal":
+        return "equal", f"the gate graph equals the rules (sat: {miter_summary(outcome)})", None
+    if outcome.differing:
+        return "different", "", next(iter(outcome.differing.values()))
+    return "undecided", "the rules-to-gates miter: " + "; ".join(outcome.notes), None
+
+
+def verify_local(
+    net: Network,
+    source: Any,
+    *,
+    max_leaves: int = LOCAL_MAX_LEAVES,
+    max_inputs: int = 24,
+    time_limit: float = 60.0,
+) -> Report:
+    """Prove ``net`` equal to ``source`` neuron by neuron from ``meta.cones``.
+
+    Parameters
+    ----------
+    net
+        A step network with ``meta.cones`` (soft networks are a UsageError).
+    source
+        A :class:`~thresholdc.source.Source`; its gate graph is rebuilt with the options in
+        ``net.meta``.
+    max_leaves
+        Cones with more leaves are proved by a small SAT miter instead of exhaustively.
+    max_inputs, time_limit
+        Bounds of the rules-to-gates step (exhaustive up to 16 inputs, else SAT within
+        ``time_limit`` seconds, or exhaustive up to ``max_inputs`` without python-sat).
+
+    Returns
+    -------
+    Report
+        ``equal`` with the proofs, ``different`` with counterexamples re-simulated on both
+        sides, or ``undecided`` with what could not be shown (method ``local``).
+
+    Examples
+    --------
+    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.source import Source
+    >>> src = Source.from_text("INPUT(a)\\nINPUT(b)\\nOUTPUT(y)\\ny = NOR(a, b)\\n", "t.bench")
+    >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (-1, -1), 0.5),),
+    ...               (Output("y", "y"),), {"cones": {"y": {"root": "y", "leaves": ["a", "b"]}}})
+    >>> verify_local(net, src).proofs[0]
+    'local: each of 1 neuron(s) equals its gate cone (4 assignments, at most 2 leaves)'
+    """
+    t0 = time.perf_counter()
+    check_step_network(net)
+    check_names(net, source)
+    cones = net.meta.get("cones")
+    if not isinstance(cones, dict):
+        return _undecided(["the network records no gate cones (meta.cones)"], t0)
+    graph = source.gates_like(net) if hasattr(source, "gates_like") else source.gates()
+    loc = _Local(net, graph, max_leaves, t0 + time_limit)
+    if not loc.setup(cones):
+        return _undecided(loc.problems[:5], t0)
+    for n in net.neurons:
+        if n.name in loc.cones:
+            loc.check_cone(n.name)
+    covered = set(loc.cones) | set(loc.alias) | loc.helpers
+    stray = [n.name for n in net.neurons if n.name not in covered]
+    if stray:
+        loc.problems.append(f"neuron(s) in no recorded cone: {', '.join(stray[:5])}")
+    out_sig = dict(graph.outputs)
+    for o in net.outputs:
+        base, neg = loc.resolve(o.source)
+        c = loc.carried.get(base)
+        want = loc.cls.get(out_sig.get(o.name, ""))
+        if c is None or want is None or (c[0], c[1] != neg) != want:
+            loc.problems.append(
+                f"output {o.name!r} reads unit {o.source!r}, which does not carry its signal "
+                f"{out_sig.get(o.name)!r}"
+            )
+    if loc.mismatch or loc.problems:
+        found = _random_counterexample(net, source)
+        notes = (loc.mismatch + loc.problems)[:8]
+        if found:
+            return _report_different(net, found, notes, t0)
+        return _undecided(notes, t0)
+    widest = max((len({loc.cls[s][0] for s in leaves}) for _, leaves in loc.cones.values()),
+                 default=0)
+    proofs = [
+        f"local: each of {len(loc.cones)} neuron(s) equals its gate cone "
+        f"({loc.assignments} assignments, at most {widest} leaves"
+        + (f"; {loc.sat_cones} wide cone(s) by SAT" if loc.sat_cones else "") + ")"
+    ]
+    if getattr(source, "program", None) is not None:
+        status, shown, assignment = _rules_to_gates(
+            source, graph, max(time_limit - (time.perf_counter() - t0), 0.0), max_inputs
+        )
+        if status == "different":
+            found = confirm_counterexample(net, source, assignment or {})
+            if found:
+                return _report_different(net, found, [], t0)
+            return _undecided(["the gate graph differs from the rules, but the network does "
+                               "not reproduce it (internal error)"], t0)
+        if status != "equal":
+            return Report("undecided", "local", loc.assignments, [], proofs=proofs,
+                          notes=[shown], seconds=time.perf_counter() - t0)
+        proofs.append(f"local: {shown}")
+    else:
+        proofs.append("local: the gate graph is the netlist itself")
+    outputs = []
+    for o in net.outputs:
+        base, _ = loc.resolve(o.source)
+        outputs.append(OutputReport(o.name, True, 0, [], loc.margins.get(base, 0.5)))
+    return Report("equal", "local", loc.assignments, outputs, proofs=proofs,
+                  seconds=time.perf_counter() - t0)
+
+
+def _report_different(net: Network, found: list, notes: list[str], t0: float) -> Report:
+    """A ``different`` report from confirmed counterexamples."""
+    by_output: dict[str, list] = {}
+    for c in found:
+        by_output.setdefault(c.output, []).append(c)
+    outputs = [OutputReport(o.name, o.name not in by_output, len(by_output.get(o.name, [])),
+                            by_output.get(o.name, []), None) for o in net.outputs]
+    return Report("different", "local", 0, outputs, notes=notes,
+                  seconds=time.perf_counter() - t0)

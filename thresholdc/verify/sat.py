@@ -1,0 +1,196 @@
+"""SAT verification: a miter between a source (rules or netlist) and a step network.
+
+The source side is encoded straight from the rule AST (or from the netlist's gates), the
+network side neuron by neuron as y ↔ [Σ w·x + b > 0] (see :mod:`.sat_encode`), and the two
+are compared by :func:`~thresholdc.verify.sat_miter.prove_equivalent` — structural hashing,
+simulation-guided matching proved on small cuts, then python-sat in a child process ended at
+the time limit.  Every counterexample is re-simulated on both sides (``Network.decide`` and
+``Source.evaluate``) before it is reported.
+
+>>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.source import Source
+>>> src = Source.from_text("input a, b\\ny = a and b\\n", "t.rules")
+>>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -0.5),), (Output("y", "y"),))
+>>> r = verify_sat(net, src, time_limit=10)
+>>> r.result, r.counterexamples[0].assignment in ({"a": 1, "b": 0}, {"a": 0, "b": 1})
+('different', True)
+"""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Callable
+from typing import Any
+
+import numpy as np
+
+from ..errors import UsageError
+from ..network.model import Network
+from .exhaustive import check_names
+from .report import Counterexample, OutputReport, Report
+from .sat_circuit import Circuit
+from .sat_encode import check_step_network, encode_gates, encode_network, encode_program
+from .sat_miter import MiterOutcome, prove_equivalent
+
+__all__ = ["verify_sat", "source_side", "network_side", "gates_side", "confirm_counterexample",
+           "miter_summary"]
+
+
+def source_side(source: Any) -> Callable[[Circuit, dict[str, int]], dict[str, int]]:
+    """A miter side for the source: its rule AST, or its netlist's gates."""
+    program = getattr(source, "program", None)
+    if program is not None:
+        def build(c: Circuit, ins: dict[str, int]) -> dict[str, int]:
+            lits = encode_program(c, program, ins)
+            return {name: lits[name] for name in source.outputs}
+        return build
+    return gates_side(source.gates())
+
+
+def gates_side(graph: Any) -> Callable[[Circuit, dict[str, int]], dict[str, int]]:
+    """A miter side for a gate graph."""
+    def build(c: Circuit, ins: dict[str, int]) -> dict[str, int]:
+        lits = encode_gates(c, graph, ins)
+        return {name: lits[sig] for name, sig in graph.outputs}
+    return build
+
+
+def network_side(net: Network) -> Callable[[Circuit, dict[str, int]], dict[str, int]]:
+    """A miter side for a step network."""
+    def build(c: Circuit, ins: dict[str, int]) -> dict[str, int]:
+        lits = encode_network(c, net, ins)
+        return {o.name: lits[o.source] for o in net.outputs}
+    return build
+
+
+def confirm_counterexample(
+    net: Network, source: Any, assignment: dict[str, int]
+) -> list[Counterexample]:
+    """The outputs on which ``net`` and ``source`` really differ at ``assignment``, found by
+    simulating both (an empty list when they agree there)."""
+    xs = np.array([[assignment[u] for u in source.inputs]], dtype=np.uint8)
+    expected = np.asarray(source.evaluate(xs), dtype=bool)[0]
+    xn = np.array([[assignment[u] for u in net.inputs]], dtype=float)
+    Z, _ = net.forward(xn)
+    values = net.evaluate(xn)[0]
+    decided = net.decide(xn)[0]
+    pos = {n.name: j for j, n in enumerate(net.neurons)}
+    out_index = {name: k for k, name in enumerate(source.outputs)}
+    found = []
+    for k, o in enumerate(net.outputs):
+        want = bool(expected[out_index[o.name]])
+        if bool(decided[k]) != want:
+            margin = abs(float(Z[0, pos[o.source]])) if o.source in pos else 0.5
+            found.append(Counterexample(dict(assignment), o.name, want, float(values[k]), margin))
+    return found
+
+
+def miter_summary(outcome: MiterOutcome) -> str:
+    """A short account of how a miter was decided, for a report's proofs or notes."""
+    st = outcome.stats
+    parts = []
+    if "candidates" in st:
+        parts.append(f"{st.get('matched', 0)} of {st.get('nodes_b', 0)} node(s) matched on "
+                     "small cuts")
+    if st.get("solver"):
+        parts.append(f"{st['solver']}, {st.get('vars', 0)} variables, "
+                     f"{st.get('clauses', 0)} clauses")
+        if st.get("sweep_tried"):
+            parts.append(f"{st.get('swept', 0)} of {st['sweep_tried']} more proved by sweeping")
+    else:
+        parts.append("no solver call needed")
+    return "; ".join(parts)
+
+
+def verify_sat(
+    net: Network, source: Any, *, time_limit: float, solver: str | None = None
+) -> Report:
+    """Prove ``net`` equal to ``source`` with a SAT miter, or find counterexamples.
+
+    Parameters
+    ----------
+    net
+        A step network with the binary encoding (a soft network is a UsageError).
+    source
+        A :class:`~thresholdc.source.Source` (rule file or netlist) with Boolean inputs.
+    time_limit
+        Seconds for the whole check; the solver runs in a child process ended at the limit
+        (the report is then ``undecided``).
+    solver
+        A python-sat back end name (default: the strongest incremental one available).
+
+    Returns
+    -------
+    Report
+        ``equal`` (proven), ``different`` (counterexamples re-simulated on both sides) or
+        ``undecided``; method ``sat``.
+
+    Examples
+    --------
+    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.source import Source
+    >>> src = Source.from_text("input a, b\\ny = a or b\\n", "t.rules")
+    >>> net = Network(("b", "a"), (Neuron("y", 1, ("a", "b"), (1, 1), -0.5),),
+    ...               (Output("y", "y"),))
+    >>> verify_sat(net, src, time_limit=10).result
+    'equal'
+    """
+    t0 = time.perf_counter()
+    check_step_network(net)
+    check_names(net, source)
+    try:
+        import pysat  # noqa: F401
+    except ImportError:
+        raise UsageError(
+            "SAT verification needs python-sat (pip install 'thresholdc[sat]')"
+        ) from None
+    kind = "rules" if getattr(source, "program", None) is not None else "netlist"
+    outcome = prove_equivalent(
+        source.inputs,
+        source.outputs,
+        source_side(source),
+        network_side(net),
+        time_limit=time_limit,
+        solver=solver,
+    )
+    report = _report(net, source, outcome, kind)
+    report.seconds = time.perf_counter() - t0
+    return report
+
+
+def _report(net: Network, source: Any, outcome: MiterOutcome, kind: str) -> Report:
+    """The Report of a network-versus-source miter, counterexamples re-simulated."""
+    found: dict[str, list[Counterexample]] = {}
+    unconfirmed = []
+    for name, assignment in outcome.differing.items():
+        real = confirm_counterexample(net, source, assignment)
+        if not any(c.output == name for c in real):
+            unconfirmed.append(name)
+        for c in real:
+            found.setdefault(c.output, [])
+            if all(c.assignment != d.assignment for d in found[c.output]):
+                found[c.output].append(c)
+    notes = list(outcome.notes)
+    if unconfirmed:
+        notes.append(
+            f"the solver reported a difference on {', '.join(sorted(unconfirmed))} that "
+            "re-simulation does not reproduce (floating-point evaluation of the network "
+            "differs from exact arithmetic, or an encoding error); not counted"
+        )
+    proven = set(outcome.proven)
+    outputs = [
+        OutputReport(o.name, o.name not in found, len(found.get(o.name, [])),
+                     found.get(o.name, []), None)
+        for o in net.outputs
+    ]
+    if found:
+        undecided = [o.name for o in net.outputs if o.name not in found and o.name not in proven]
+        if undecided:
+            notes.append(f"not proven either way: {', '.join(undecided)}")
+        return Report("different", "sat", 0, outputs, notes=notes)
+    if outcome.status == "equal" and not unconfirmed:
+        proof = f"sat: the network equals the {kind} on every input ({miter_summary(outcome)})"
+        return Report("equal", "sat", 0, outputs, proofs=[proof], notes=notes)
+    if proven:
+        notes.append(f"proven equal: {', '.join(o for o in source.outputs if o in proven)}")
+    return Report("undecided", "sat", 0, [], notes=notes)

@@ -1,0 +1,241 @@
+"""Encoders into the SAT circuit IR: a gate graph, a step network, and a rule program.
+
+Each encoder takes a :class:`~thresholdc.verify.sat_circuit.Circuit` and the literals of the
+primary inputs (by name) and returns the literal of every named signal, unit or definition.
+
+* :func:`encode_gates`: one node per gate; ``threshold``/``equal`` gates use the circuit's
+  automatic encoding (exact clauses or a BDD).
+* :func:`encode_network`: each step neuron y ↔ [Σ w·x + b > 0].  Weights and bias are read as
+  exact rationals (every float is one), scaled to integers, so the encoding is exact for any
+  stored value; the automatic encoding applies.
+* :func:`encode_program`: straight from the rule AST, sharing no code with the lowering to
+  gates: connectives by Tseitin nodes, counting calls by a unary totalizer, weighted
+  comparisons by a binary adder and comparator — encodings different from the network's, so
+  the two sides of a miter do not share an encoding of the same constraint.
+
+Unsupported inputs raise :class:`~thresholdc.errors.UsageError` (soft or bipolar networks,
+typed inputs).
+
+>>> from thresholdc.verify.sat_circuit import Circuit
+>>> from thresholdc.network.model import Network, Neuron, Output
+>>> c = Circuit()
+>>> ins = {"a": c.new_input(), "b": c.new_input()}
+>>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),), (Output("y", "y"),))
+>>> encode_network(c, net, ins)["y"] == c.and_([ins["a"], ins["b"]])
+True
+"""
+
+from __future__ import annotations
+
+import math
+from fractions import Fraction
+from typing import Any
+
+from ..errors import UsageError
+from ..network.model import Network
+from ..syntax import ast
+from ..synth.gates import GateGraph
+from .sat_circuit import FALSE, TRUE, Circuit
+
+__all__ = ["encode_gates", "encode_network", "encode_program", "check_step_network"]
+
+
+def encode_gates(c: Circuit, graph: GateGraph, inputs: dict[str, int]) -> dict[str, int]:
+    """The literal of every signal of ``graph`` (one loop over the gates, in order)."""
+    lit: dict[str, int] = {}
+    for name, g in graph.gates.items():
+        op = g.op
+        args = [lit[a] for a in g.args]
+        if op == "input":
+            lit[name] = inputs[name]
+        elif op == "const":
+            lit[name] = TRUE if g.value else FALSE
+        elif op == "buf":
+            lit[name] = args[0]
+        elif op == "not":
+            lit[name] = -args[0]
+        elif op in ("and", "nand"):
+            v = c.and_(args)
+            lit[name] = -v if op == "nand" else v
+        elif op in ("or", "nor"):
+            v = c.or_(args)
+            lit[name] = -v if op == "nor" else v
+        elif op in ("xor", "xnor"):
+            v = c.xor_(args)
+            lit[name] = -v if op == "xnor" else v
+        elif op == "threshold":
+            lit[name] = c.geq(g.weights or (), args, int(g.threshold or 0))
+        elif op == "equal":
+            w, t = g.weights or (), int(g.threshold or 0)
+            lit[name] = c.and_([c.geq(w, args, t), -c.geq(w, args, t + 1)])
+        elif op == "ite":
+            lit[name] = c.ite(*args)
+        else:
+            raise UsageError(
+                f"SAT verification cannot encode the gate op {op!r} (signal {name!r}); "
+                "use the exhaustive method"
+            )
+    return lit
+
+
+def check_step_network(net: Network) -> None:
+    """Raise UsageError unless ``net`` is a binary step network with Boolean inputs."""
+    soft = sorted({n.activation for n in net.neurons if n.activation != "step"})
+    if soft:
+        raise UsageError(
+            f"SAT and local verification need a step network; this one has {', '.join(soft)} "
+            "neurons (verify a soft network exhaustively, or check its certificate)"
+        )
+    if net.encoding != "binary":
+        raise UsageError(
+            f"SAT and local verification need the binary encoding, not {net.encoding!r}"
+        )
+    if net.features is not None:
+        raise UsageError(
+            "SAT and local verification handle Boolean inputs only; this network has typed "
+            "inputs (verify it exhaustively)"
+        )
+
+
+def integer_threshold(weights: Any, bias: float) -> tuple[list[int], int]:
+    """Integers (W, K) with Σ w·x + b > 0  ⇔  Σ W·x ≥ K on 0/1 inputs, exactly.
+
+    >>> integer_threshold((1, 1), -1.5)
+    ([2, 2], 4)
+    """
+    ws = [float(w) for w in weights]
+    b2 = 2.0 * float(bias)
+    if all(w.is_integer() and abs(w) < 2**52 for w in ws) and b2.is_integer() and abs(b2) < 2**52:
+        # the usual case: integer weights, integer or half-integer bias (exact in floats)
+        if float(bias).is_integer():
+            return [int(w) for w in ws], 1 - int(bias)
+        return [2 * int(w) for w in ws], 1 - int(b2)
+    fr = [Fraction(w) for w in weights]
+    fb = Fraction(bias)
+    den = 1
+    for f in fr + [fb]:
+        den = den * f.denominator // math.gcd(den, f.denominator)
+    W = [int(f * den) for f in fr]
+    B = int(fb * den)
+    return W, 1 - B
+
+
+def encode_network(c: Circuit, net: Network, inputs: dict[str, int]) -> dict[str, int]:
+    """The literal of every unit of a step network (inputs by name, then each neuron)."""
+    check_step_network(net)
+    lit: dict[str, int] = {name: inputs[name] for name in net.inputs}
+    for n in net.neurons:
+        W, K = integer_threshold(n.weights, n.bias)
+        lit[n.name] = c.geq(W, [lit[i] for i in n.inputs], K)
+    return lit
+
+
+def _children(e: ast.Expr) -> tuple[ast.Expr, ...]:
+    """The sub-expressions of ``e`` whose literals its own encoding needs."""
+    if isinstance(e, ast.Not):
+        return (e.operand,)
+    if isinstance(e, ast.BinOp):
+        return (e.left, e.right)
+    if isinstance(e, ast.Ite):
+        return (e.cond, e.then, e.other)
+    if isinstance(e, ast.Call):
+        return tuple(e.args)
+    if isinstance(e, ast.Compare):
+        return tuple(t.operand for t in e.terms)
+    return ()
+
+
+def _count(c: Circuit, args: list[int], k: int) -> int:
+    """[at least k of args] with the totalizer encoding."""
+    return c.geq([1] * len(args), args, k, enc="totalizer")
+
+
+def _combine(c: Circuit, e: ast.Expr, kids: list[int], names: dict[str, int]) -> int:
+    """The literal of ``e`` from the literals of its children."""
+    if isinstance(e, ast.Name):
+        return names[e.id]
+    if isinstance(e, ast.Const):
+        return TRUE if e.value else FALSE
+    if isinstance(e, ast.Not):
+        return -kids[0]
+    if isinstance(e, ast.BinOp):
+        a, b = kids
+        if e.op == "and":
+            return c.and_([a, b])
+        if e.op == "or":
+            return c.or_([a, b])
+        if e.op == "xor":
+            return c.xor_([a, b])
+        if e.op == "implies":
+            return c.or_([-a, b])
+        if e.op == "iff":
+            return -c.xor_([a, b])
+    if isinstance(e, ast.Ite):
+        return c.ite(*kids)
+    if isinstance(e, ast.Call):
+        n = len(kids)
+        if e.func == "atleast":
+            return _count(c, kids, int(e.k or 0))
+        if e.func == "atmost":
+            return -_count(c, kids, int(e.k or 0) + 1)
+        if e.func == "exactly":
+            k = int(e.k or 0)
+            return c.and_([_count(c, kids, k), -_count(c, kids, k + 1)])
+        if e.func == "majority":
+            return _count(c, kids, n // 2 + 1)
+        if e.func == "nand":
+            return -c.and_(kids)
+        if e.func == "nor":
+            return -c.or_(kids)
+        if e.func == "parity":
+            return c.xor_(kids)
+    if isinstance(e, ast.Compare):
+        w = [t.coef for t in e.terms]
+        r = e.rhs
+
+        def at_least(bound: int) -> int:
+            return c.geq(w, kids, bound, enc="adder")
+
+        if e.op == ">=":
+            return at_least(r)
+        if e.op == ">":
+            return at_least(r + 1)
+        if e.op == "<=":
+            return -at_least(r + 1)
+        if e.op == "<":
+            return -at_least(r)
+        eq = c.and_([at_least(r), -at_least(r + 1)])
+        return eq if e.op == "==" else -eq
+    raise UsageError(
+        f"SAT verification cannot encode {type(e).__name__} expressions (typed inputs); "
+        "use the exhaustive method"
+    )
+
+
+def encode_program(c: Circuit, program: ast.Program, inputs: dict[str, int]) -> dict[str, int]:
+    """The literal of every input and needed definition of a Boolean rule program.
+
+    Expressions are walked with an explicit stack (long chains do not recurse).
+    """
+    if program.is_typed():
+        raise UsageError(
+            "SAT verification handles Boolean inputs only; this rule file has typed inputs "
+            "(use the exhaustive method)"
+        )
+    names: dict[str, int] = {v.name: inputs[v.name] for v in program.inputs}
+    for dname in program.order:
+        root = program.definitions[dname].expr
+        done: dict[int, int] = {}
+        stack: list[tuple[ast.Expr, bool]] = [(root, False)]
+        while stack:
+            e, expanded = stack.pop()
+            if id(e) in done:
+                continue
+            kids = _children(e)
+            if not expanded and kids:
+                stack.append((e, True))
+                stack.extend((k, False) for k in kids if id(k) not in done)
+                continue
+            done[id(e)] = _combine(c, e, [done[id(k)] for k in kids], names)
+        names[dname] = done[id(root)]
+    return names
