@@ -24,6 +24,7 @@ from .errors import (  # noqa: E402
 )
 from .network.model import Network, Neuron, Output  # noqa: E402
 from .source import Source, load_source  # noqa: E402
+from .synth.identify import MAX_VARIABLES, Realisation, identify, is_threshold  # noqa: E402
 from .verify.report import Report  # noqa: E402
 
 __all__ = [
@@ -35,6 +36,10 @@ __all__ = [
     "load",
     "verify",
     "load_source",
+    "identify",
+    "is_threshold",
+    "Realisation",
+    "MAX_VARIABLES",
     "Source",
     "Network",
     "Neuron",
