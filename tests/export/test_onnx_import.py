@@ -130,6 +130,34 @@ def test_pytorch_exporter_output_is_read(tmp_path):
     np.testing.assert_allclose(back.evaluate(X), net.evaluate(X), atol=1e-6)
 
 
+def test_gather_and_concat_on_columns_are_read():
+    # inputs (a, b, c) -> h = sigmoid(W1 [c, a] + b1) -> y = relu(W2 [a, b, c, h] + b2)
+    rng = np.random.default_rng(4)
+    W1, b1 = rng.normal(size=(2, 2)), rng.normal(size=2)
+    W2, b2 = rng.normal(size=(2, 5)), rng.normal(size=2)
+    inits = [numpy_helper.from_array(np.array([2, 0], dtype=np.int64), "cols"),
+             numpy_helper.from_array(W1.astype(np.float32), "W1"),
+             numpy_helper.from_array(b1.astype(np.float32), "b1"),
+             numpy_helper.from_array(W2.astype(np.float32), "W2"),
+             numpy_helper.from_array(b2.astype(np.float32), "b2")]
+    nodes = [helper.make_node("Gather", ["x", "cols"], ["g"], axis=1),
+             helper.make_node("Gemm", ["g", "W1", "b1"], ["z1"], transB=1),
+             helper.make_node("Sigmoid", ["z1"], ["h"]),
+             helper.make_node("Concat", ["x", "h"], ["v"], axis=1),
+             helper.make_node("Gemm", ["v", "W2", "b2"], ["z2"], transB=1),
+             helper.make_node("Relu", ["z2"], ["y"])]
+    graph = helper.make_graph(
+        nodes, "g", [helper.make_tensor_value_info("x", TensorProto.FLOAT, ["n", 3])],
+        [helper.make_tensor_value_info("y", TensorProto.FLOAT, ["n", 2])], initializer=inits)
+    net = from_onnx(helper.make_model(graph), like=full_adder())
+    X = all_rows(3)
+    r = lambda a: a.astype(np.float32).astype(float)  # noqa: E731
+    h = 1 / (1 + np.exp(-(X[:, [2, 0]] @ r(W1).T + r(b1))))
+    want = np.maximum(np.hstack([X, h]) @ r(W2).T + r(b2), 0)
+    np.testing.assert_allclose(net.evaluate(X), want, atol=1e-12)
+    assert [n.layer for n in net.neurons] == [1, 1, 2, 2]
+
+
 def test_foreign_model_without_like_is_refused():
     with pytest.raises(UsageError, match="--like"):
         from_onnx(mlp_model(trained_layers(), n_in=3))

@@ -6,13 +6,14 @@ Two graph shapes, both exact:
 - **dense** (a strict layered network whose layers each have one activation): the plain MLP
   chain ``Gemm → activation → Gemm → …`` of :mod:`thresholdc.export.dense`, whose last layer
   rows are the outputs in order.  Training frameworks and ONNX converters read it as an MLP.
-- **general** (any other network, e.g. with direct connections across layers): a running value
-  matrix ``V`` (batch × units so far, starting with the inputs).  Rules: the neurons of one
-  layer are grouped by activation (activations in order of first appearance, neurons in file
-  order); each group gathers the columns of ``V`` it reads (sorted), applies one ``Gemm``
-  with the group's weights (zero where a neuron does not read a gathered column) and its
-  activation; the groups of a layer are appended to ``V`` with one ``Concat``.  The output
-  gathers the output sources' columns of the final ``V``.
+- **general** (any other network, e.g. with direct connections across layers).  Rules: the
+  neurons of one layer are grouped by activation (activations in order of first appearance,
+  neurons in file order), and each group is one tensor (batch × its neurons).  A group's
+  pre-activation is a sum of one ``Gemm`` per earlier tensor it reads (the input or an earlier
+  group), with the weights on that tensor's columns (zero where a neuron does not read a
+  column); the first ``Gemm`` adds the biases, a ``Sum`` joins several.  The output is the
+  same kind of sum with 0/1 selection matrices, which is exact.  (No ``Gather`` or ``Concat``:
+  onnxruntime copies columns slowly.)
 
 A step is ``Greater(z, 0)`` then ``Cast`` to float (in the bipolar encoding ``Where(…, 1, −1)``);
 sigmoid, tanh and relu are the ONNX operators of those names; linear is the ``Gemm`` alone.
@@ -39,7 +40,7 @@ import onnx
 from onnx import TensorProto, helper, numpy_helper
 
 from ..network.fileformat import atomic_write
-from ..network.model import Network, Neuron
+from ..network.model import Network
 from .dense import dense_form
 
 __all__ = ["OPSET", "IR_VERSION", "INPUT", "OUTPUT", "to_onnx", "onnx_bytes", "save_onnx"]
@@ -86,15 +87,24 @@ class _Graph:
         self.nodes.append(helper.make_node(op, inputs, [output], name=f"{output}_{op}", **attrs))
         return output
 
-    def affine(self, tag: str, x: str, W: np.ndarray, b: np.ndarray, activation: str,
-               out: str | None = None) -> str:
-        """``activation(x @ W.T + b)`` as Gemm plus the activation's nodes."""
-        w = self.const(f"{tag}_W", W)
-        bias = self.const(f"{tag}_b", b)
+    def affine(self, tag: str, terms: list[tuple[str, np.ndarray]], b: np.ndarray,
+               activation: str, out: str | None = None) -> str:
+        """``activation(Σ x_k @ W_k.T + b)``: one Gemm per term (the first adds the bias),
+        a Sum when there are several, then the activation's nodes."""
         final = out or f"{tag}_a"
+        parts = []
+        for k, (x, W) in enumerate(terms):
+            name = f"{tag}_W" if len(terms) == 1 else f"{tag}_W{k + 1}"
+            ins = [x, self.const(name, W)] + ([self.const(f"{tag}_b", b)] if k == 0 else [])
+            last = len(terms) == 1 and activation == "linear"
+            target = final if last else f"{tag}_z" if len(terms) == 1 else f"{tag}_t{k + 1}"
+            parts.append(self.node("Gemm", ins, target, transB=1))
+        if len(terms) == 1:
+            z = parts[0]
+        else:
+            z = self.node("Sum", parts, final if activation == "linear" else f"{tag}_z")
         if activation == "linear":
-            return self.node("Gemm", [x, w, bias], final, transB=1)
-        z = self.node("Gemm", [x, w, bias], f"{tag}_z", transB=1)
+            return z
         if activation in _OPS:
             return self.node(_OPS[activation], [z], final)
         assert activation == "step", activation
@@ -120,7 +130,7 @@ def _build_dense(net: Network, g: _Graph) -> list[dict[str, Any]]:
     units = []
     for k, (W, b, f) in enumerate(form.layers, start=1):
         last = k == len(form.layers)
-        x = g.affine(f"L{k}", x, W, b, f, out=OUTPUT if last else None)
+        x = g.affine(f"L{k}", [(x, W)], b, f, out=OUTPUT if last else None)
         units += [{"name": n, "role": r, "origin": o}
                   for n, r, o in zip(form.names[k - 1], form.roles[k - 1],
                                      form.origins[k - 1], strict=True)]
@@ -128,41 +138,41 @@ def _build_dense(net: Network, g: _Graph) -> list[dict[str, Any]]:
 
 
 def _build_general(net: Network, g: _Graph) -> list[dict[str, Any]]:
-    """The running-value-matrix graph; returns the created units' metadata."""
-    col = {name: i for i, name in enumerate(net.inputs)}
-    width = len(net.inputs)
-    V = INPUT
+    """The graph of any network (see the module docstring); returns the units' metadata."""
+    tensors: list[tuple[str, int]] = [(INPUT, len(net.inputs))]
+    where = {name: (0, j) for j, name in enumerate(net.inputs)}  # unit -> (tensor, column)
     units = []
     for L in range(1, net.depth + 1):
         layer = [n for n in net.neurons if n.layer == L]
-        acts = list(dict.fromkeys(n.activation for n in layer))
-        parts = [V]
-        for a_index, f in enumerate(acts):
+        for a_index, f in enumerate(dict.fromkeys(n.activation for n in layer)):
             group = [n for n in layer if n.activation == f]
-            tag = f"L{L}g{a_index + 1}"
-            read = sorted({col[i] for n in group for i in n.inputs}) or [0]
-            W = _group_matrix(group, read, col)
-            idx = g.const(f"{tag}_cols", np.asarray(read, dtype=np.int64), np.int64)
-            x = g.node("Gather", [V, idx], f"{tag}_x", axis=1)
-            parts.append(g.affine(tag, x, W, np.array([n.bias for n in group]), f))
-            for n in group:
-                col[n.name] = width
-                width += 1
+            blocks: dict[int, np.ndarray] = {}
+            for r, n in enumerate(group):
+                for i, w in zip(n.inputs, n.weights, strict=True):
+                    t, j = where[i]
+                    if t not in blocks:
+                        blocks[t] = np.zeros((len(group), tensors[t][1]))
+                    blocks[t][r, j] += w
+            if not blocks:  # constant neurons: zero weights on the inputs give the batch size
+                blocks[0] = np.zeros((len(group), tensors[0][1]))
+            terms = [(tensors[t][0], blocks[t]) for t in sorted(blocks)]
+            out = g.affine(f"L{L}g{a_index + 1}", terms, np.array([n.bias for n in group]), f)
+            for r, n in enumerate(group):
+                where[n.name] = (len(tensors), r)
                 units.append({"name": n.name, "role": n.role, "origin": n.origin})
-        V = g.node("Concat", parts, f"V{L}", axis=1)
-    out_cols = np.asarray([col[o.source] for o in net.outputs], dtype=np.int64)
-    g.node("Gather", [V, g.const("output_cols", out_cols, np.int64)], OUTPUT, axis=1)
+            tensors.append((out, len(group)))
+    # The outputs: 0/1 selection matrices on the tensors holding their sources (exact).
+    pick: dict[int, np.ndarray] = {}
+    for k, o in enumerate(net.outputs):
+        t, j = where[o.source]
+        if t not in pick:
+            pick[t] = np.zeros((len(net.outputs), tensors[t][1]))
+        pick[t][k, j] = 1.0
+    if not pick:
+        pick[0] = np.zeros((0, tensors[0][1]))
+    g.affine("out", [(tensors[t][0], pick[t]) for t in sorted(pick)],
+             np.zeros(len(net.outputs)), "linear", out=OUTPUT)
     return units
-
-
-def _group_matrix(group: list[Neuron], read: list[int], col: dict[str, int]) -> np.ndarray:
-    """Weights ``(len(group), len(read))`` of a group over its gathered columns."""
-    at = {c: j for j, c in enumerate(read)}
-    W = np.zeros((len(group), len(read)))
-    for r, n in enumerate(group):
-        for i, w in zip(n.inputs, n.weights, strict=True):
-            W[r, at[col[i]]] += w
-    return W
 
 
 def _origins(net: Network) -> list[str | None]:

@@ -39,8 +39,8 @@ from .dense import imported_meta, network_from_layers, unique_name
 
 __all__ = ["from_onnx", "load_onnx", "SUPPORTED_OPS"]
 
-SUPPORTED_OPS = ("Gemm", "MatMul", "Add", "Sigmoid", "Tanh", "Relu", "Greater", "Cast", "Where",
-                 "Gather", "Concat", "Identity", "Flatten", "Constant")
+SUPPORTED_OPS = ("Gemm", "MatMul", "Add", "Sum", "Sigmoid", "Tanh", "Relu", "Greater", "Cast",
+                 "Where", "Gather", "Concat", "Identity", "Flatten", "Constant")
 _ACT = {"Sigmoid": "sigmoid", "Tanh": "tanh", "Relu": "relu"}
 
 
@@ -126,7 +126,7 @@ class _Reader:
         """The unit matrix ``name``, making linear neurons from an affine value if needed."""
         value = self.values.get(name)
         if isinstance(value, _Affine):
-            value = self.activate(value, "linear")
+            value = _selection(value) or self.activate(value, "linear")
             self.values[name] = value
         if not isinstance(value, _Units):
             raise self.fail(f"node {node.name or node.op_type!r} ({node.op_type}) cannot read "
@@ -193,8 +193,33 @@ class _Reader:
         b = np.broadcast_to(b, (W.shape[0],)).astype(float)
         return _Affine(x.cols, W.astype(float), b.copy())
 
+    def op_Sum(self, node: onnx.NodeProto, attrs: dict[str, Any], out: str) -> None:
+        parts = [self.values.get(name) for name in node.input]
+        if not all(isinstance(p, _Affine) for p in parts):
+            raise self.fail(f"Sum node {node.name!r} must add Gemm or MatMul results")
+        total = parts[0]
+        for p in parts[1:]:
+            total = self.merge(node, total, p)
+        self.values[out] = total
+
+    def merge(self, node: onnx.NodeProto, a: _Affine, b: _Affine) -> _Affine:
+        """``a + b`` over the union of their columns."""
+        if a.W.shape[0] != b.W.shape[0]:
+            raise self.fail(f"{node.op_type} node {node.name!r} adds {a.W.shape[0]} and "
+                            f"{b.W.shape[0]} units")
+        cols = list(a.cols) + [c for c in b.cols if c not in set(a.cols)]
+        at = {c: j for j, c in enumerate(cols)}
+        W = np.zeros((a.W.shape[0], len(cols)))
+        for part in (a, b):
+            for j, c in enumerate(part.cols):
+                W[:, at[c]] += part.W[:, j]
+        return _Affine(cols, W, a.b + b.b)
+
     def op_Add(self, node: onnx.NodeProto, attrs: dict[str, Any], out: str) -> None:
         a, c = node.input[0], node.input[1]
+        if isinstance(self.values.get(a), _Affine) and isinstance(self.values.get(c), _Affine):
+            self.values[out] = self.merge(node, self.values[a], self.values[c])
+            return
         if a in self.consts:
             a, c = c, a
         value = self.values.get(a)
@@ -270,6 +295,15 @@ class _Reader:
         if attrs.get("axis", 1) != 1:
             raise self.fail(f"Flatten node {node.name!r} must keep the batch axis (axis 1)")
         self.values[out] = self.values.get(node.input[0])
+
+
+def _selection(value: _Affine) -> _Units | None:
+    """The units an affine value merely selects (rows one-hot with weight 1, bias 0), if so."""
+    if np.any(value.b != 0) or value.W.size == 0:
+        return None
+    if not (np.all((value.W == 0) | (value.W == 1)) and np.all(value.W.sum(axis=1) == 1)):
+        return None
+    return _Units([value.cols[int(j)] for j in np.argmax(value.W, axis=1)])
 
 
 def _metadata(model: onnx.ModelProto) -> dict[str, Any]:
