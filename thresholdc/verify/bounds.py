@@ -57,7 +57,11 @@ _BATCH = 2048
 
 
 class _Bounder:
-    """Interval bounds of every neuron of ``net`` over batches of boxes of ``domain``."""
+    """Interval bounds of every neuron of ``net`` over batches of boxes of ``domain``.
+
+    A batch's discrete choices are one boolean array ``M`` of shape ``(boxes, choices)``:
+    feature ``k`` owns the columns ``offsets[k] : offsets[k] + size``.
+    """
 
     def __init__(self, net: Network, domain: Domain) -> None:
         self.net = net
@@ -79,48 +83,102 @@ class _Bounder:
             wa = np.array(ws, dtype=float)
             self.prev.append((np.array(idx, dtype=np.int64), np.maximum(wa, 0), np.minimum(wa, 0)))
         self.bias = np.array([float(n.bias) for n in net.neurons])
-        # Unit value tables in the network's encoding, per discrete feature.
-        self.tables: list[tuple[list[int], np.ndarray]] = []
-        self.groups: list[tuple[int, np.ndarray]] = []  # (feature, contributions (choices, n))
+        sizes = [f.size for f in domain.discrete]
+        self.offsets = np.cumsum([0] + sizes[:-1]).astype(np.int64)
+        self.n_choices = int(sum(sizes))
+        # Single-unit features (Boolean, real points): one value per choice, bounded with one
+        # reduceat over all features; one-hot groups: their contribution to every neuron.
+        self.values = np.zeros(self.n_choices)
+        self.single: list[int] = []
+        self.single_cols: list[int] = []
+        self.onehot: list[tuple[int, int, list[int]]] = []  # (feature, offset, unit columns)
+        self.groups: list[tuple[int, int, int, np.ndarray]] = []
         plain = W.copy()
         for k, f in enumerate(domain.discrete):
+            off = int(self.offsets[k])
             cols = [col[u] for u in f.units]
             table = f.table.astype(float)
             if bipolar and f.kind != "real":
                 table = 2.0 * table - 1.0
-            self.tables.append((cols, table))
-            if len(cols) > 1:
-                self.groups.append((k, table @ W[cols, :]))
+            if len(cols) == 1:
+                self.values[off:off + f.size] = table[:, 0]
+                self.single.append(k)
+                self.single_cols.append(cols[0])
+            else:
+                self.onehot.append((k, off, cols))
+                self.groups.append((k, off, f.size, table @ W[cols, :]))
                 plain[cols, :] = 0.0
+        self.cold, self.hot = (-1.0, 1.0) if bipolar else (0.0, 1.0)
+        # Two-choice features (most of them: Boolean inputs) take a fast path.
+        self.two = np.array([k for k, f in enumerate(domain.discrete) if f.size == 2],
+                            dtype=np.int64)
+        self.many = np.array([k for k, f in enumerate(domain.discrete) if f.size != 2],
+                             dtype=np.int64)
+        single = set(self.single)
+        self.two_single = np.array([k for k in self.two.tolist() if k in single], dtype=np.int64)
+        self.two_cols = [self.single_cols[self.single.index(k)] for k in self.two_single.tolist()]
+        self.many_single = np.array([k for k in self.many.tolist() if k in single],
+                                    dtype=np.int64)
+        self.many_cols = [self.single_cols[self.single.index(k)]
+                          for k in self.many_single.tolist()]
+        o = self.offsets[self.two_single]
+        self.v0, self.v1 = self.values[o], self.values[o + 1]
         self.cont_cols = [col[f.unit] for f in domain.continuous]
         self.wpos, self.wneg = np.maximum(plain, 0), np.minimum(plain, 0)
         self.acts = [n.activation for n in net.neurons]
         self.bipolar = bipolar
 
-    def units(self, masks: list[np.ndarray], lo: np.ndarray | None,
-              hi: np.ndarray | None) -> tuple[np.ndarray, np.ndarray]:
+    def sizes(self, M: np.ndarray) -> np.ndarray:
+        """Allowed choices per box and discrete feature, ``(boxes, features)``."""
+        out = np.zeros((M.shape[0], len(self.offsets)), dtype=np.int64)
+        if len(self.two):
+            o = self.offsets[self.two]
+            out[:, self.two] = M[:, o].astype(np.int64) + M[:, o + 1]
+        if len(self.many):
+            full = np.add.reduceat(M.astype(np.int64), self.offsets, axis=1)
+            out[:, self.many] = full[:, self.many]
+        return out
+
+    def masks(self, M: np.ndarray) -> list[np.ndarray]:
+        """Per-feature views of ``M``."""
+        return [M[:, o:o + f.size] for o, f in zip(self.offsets.tolist(), self.domain.discrete)]
+
+    def units(self, M: np.ndarray, lo: np.ndarray, hi: np.ndarray,
+              sizes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Interval ends of every input unit, each ``(boxes, inputs)``."""
-        B = masks[0].shape[0] if masks else lo.shape[0]  # type: ignore[union-attr]
+        B = M.shape[0]
         ulo = np.zeros((B, len(self.net.inputs)))
         uhi = np.zeros_like(ulo)
-        for (cols, table), mask in zip(self.tables, masks):
-            big = np.where(mask[:, :, None], table[None, :, :], np.inf)
-            small = np.where(mask[:, :, None], table[None, :, :], -np.inf)
-            ulo[:, cols] = big.min(axis=1)
-            uhi[:, cols] = small.max(axis=1)
+        if len(self.two_single):
+            o = self.offsets[self.two_single]
+            a0, a1 = M[:, o], M[:, o + 1]
+            small, big = np.minimum(self.v0, self.v1), np.maximum(self.v0, self.v1)
+            both = a0 & a1
+            ulo[:, self.two_cols] = np.where(both, small, np.where(a0, self.v0, self.v1))
+            uhi[:, self.two_cols] = np.where(both, big, np.where(a0, self.v0, self.v1))
+        if len(self.many_single):
+            low = np.minimum.reduceat(np.where(M, self.values, np.inf), self.offsets, axis=1)
+            high = np.maximum.reduceat(np.where(M, self.values, -np.inf), self.offsets, axis=1)
+            ulo[:, self.many_cols] = low[:, self.many_single]
+            uhi[:, self.many_cols] = high[:, self.many_single]
+        for k, off, cols in self.onehot:
+            block = M[:, off:off + len(cols)]
+            sure = block & (sizes[:, k:k + 1] == 1)
+            ulo[:, cols] = np.where(sure, self.hot, self.cold)
+            uhi[:, cols] = np.where(block, self.hot, self.cold)
         for k, c in enumerate(self.cont_cols):
-            ulo[:, c] = lo[:, k]  # type: ignore[index]
-            uhi[:, c] = hi[:, k]  # type: ignore[index]
+            ulo[:, c] = lo[:, k]
+            uhi[:, c] = hi[:, k]
         return ulo, uhi
 
-    def bounds(self, masks: list[np.ndarray], lo: np.ndarray | None,
-               hi: np.ndarray | None) -> tuple[np.ndarray, ...]:
+    def bounds(self, M: np.ndarray, lo: np.ndarray, hi: np.ndarray,
+               sizes: np.ndarray) -> tuple[np.ndarray, ...]:
         """``(ulo, uhi, zlo, zhi, alo, ahi)``: units, pre-activations and activations."""
-        ulo, uhi = self.units(masks, lo, hi)
+        ulo, uhi = self.units(M, lo, hi, sizes)
         zlo = ulo @ self.wpos + uhi @ self.wneg + self.bias
         zhi = uhi @ self.wpos + ulo @ self.wneg + self.bias
-        for k, contrib in self.groups:
-            m = masks[k][:, :, None]
+        for _, off, n, contrib in self.groups:
+            m = M[:, off:off + n, None]
             zlo += np.where(m, contrib[None], np.inf).min(axis=1)
             zhi += np.where(m, contrib[None], -np.inf).max(axis=1)
         alo = np.empty_like(zlo)
@@ -144,7 +202,9 @@ def network_bounds(
     net: Network, domain: Domain, masks: list[np.ndarray], lo: np.ndarray | None = None,
     hi: np.ndarray | None = None,
 ) -> tuple[np.ndarray, np.ndarray]:
-    """Output interval ends ``(vlo, vhi)``, each ``(boxes, outputs)``, over boxes of ``domain``.
+    """Output interval ends ``(vlo, vhi)``, each ``(boxes, outputs)``, over boxes of ``domain``
+    (``masks[k]``: the allowed choices of discrete feature ``k``; ``lo``/``hi``: the ends of
+    the continuous features).
 
     >>> from thresholdc.compiler import compile_rules
     >>> from thresholdc.source import Source
@@ -155,13 +215,20 @@ def network_bounds(
     >>> vlo.tolist(), vhi.tolist()
     ([[0.0]], [[1.0]])
     """
-    _, _, lo_, hi_ = _output_intervals(_Bounder(net, domain), masks, lo, hi)
-    return lo_, hi_
+    bd = _Bounder(net, domain)
+    B = masks[0].shape[0] if masks else (0 if lo is None else lo.shape[0])
+    M = np.concatenate(masks, axis=1) if masks else np.zeros((B, 0), dtype=bool)
+    empty = np.zeros((B, 0))
+    lo = empty if lo is None else np.asarray(lo, dtype=float)
+    hi = empty if hi is None else np.asarray(hi, dtype=float)
+    _, _, vlo, vhi = _output_intervals(bd, M, lo, hi, bd.sizes(M))
+    return vlo, vhi
 
 
-def _output_intervals(bd: _Bounder, masks: list[np.ndarray], lo: Any, hi: Any) -> tuple:
+def _output_intervals(bd: _Bounder, M: np.ndarray, lo: np.ndarray, hi: np.ndarray,
+                      sizes: np.ndarray) -> tuple:
     """Margin-carrying ends ``(mlo, mhi)`` (z for step outputs) and value ends ``(vlo, vhi)``."""
-    ulo, uhi, zlo, zhi, alo, ahi = bd.bounds(masks, lo, hi)
+    ulo, uhi, zlo, zhi, alo, ahi = bd.bounds(M, lo, hi, sizes)
     net = bd.net
     pos = {n.name: j for j, n in enumerate(net.neurons)}
     col = {u: i for i, u in enumerate(net.inputs)}
@@ -187,9 +254,9 @@ def _output_intervals(bd: _Bounder, masks: list[np.ndarray], lo: Any, hi: Any) -
 
 @dataclass
 class _Batch:
-    """A batch of boxes: discrete masks, continuous ends, outputs already settled."""
+    """A batch of boxes: discrete choices ``M``, continuous ends, outputs already settled."""
 
-    masks: list[np.ndarray]
+    M: np.ndarray
     lo: np.ndarray
     hi: np.ndarray
     resolved: np.ndarray
@@ -198,15 +265,12 @@ class _Batch:
         return self.resolved.shape[0]
 
     def take(self, sel: np.ndarray) -> _Batch:
-        return _Batch([m[sel] for m in self.masks], self.lo[sel], self.hi[sel], self.resolved[sel])
+        return _Batch(self.M[sel], self.lo[sel], self.hi[sel], self.resolved[sel])
 
     @staticmethod
     def join(parts: list[_Batch]) -> _Batch:
-        return _Batch(
-            [np.concatenate([p.masks[k] for p in parts]) for k in range(len(parts[0].masks))],
-            np.concatenate([p.lo for p in parts]), np.concatenate([p.hi for p in parts]),
-            np.concatenate([p.resolved for p in parts]),
-        )
+        return _Batch(*(np.concatenate([getattr(p, a) for p in parts])
+                        for a in ("M", "lo", "hi", "resolved")))
 
 
 class _Search:
@@ -229,92 +293,79 @@ class _Search:
                 if i in weight:
                     weight[i] += abs(float(w))
         infl = [sum(weight.get(u, 0.0) for u in f.units) for f in domain.discrete]
-        self.split_order = sorted(range(len(domain.discrete)), key=lambda k: (-infl[k], k))
+        self.split_order = np.array(
+            sorted(range(len(domain.discrete)), key=lambda k: (-infl[k], k)), dtype=np.int64)
         total = [sum(b - a for a, b in f.pieces) for f in domain.continuous]
         self.cont_total = np.array([t if t > 0 else 1.0 for t in total])
         self.cont_scale = np.array([f.scale for f in domain.continuous], dtype=float)
 
     # ---------------------------------------------------------------- one batch
-    def weight(self, b: _Batch) -> np.ndarray:
+    def weight(self, b: _Batch, sizes: np.ndarray | None = None) -> np.ndarray:
         """Discrete assignments in each box, times its share of the continuous volume."""
-        w = np.ones(len(b))
-        for m in b.masks:
-            w *= m.sum(axis=1)
+        sizes = self.bd.sizes(b.M) if sizes is None else sizes
+        w = np.prod(sizes.astype(float), axis=1)
         if self.domain.continuous:
             w *= np.prod((b.hi - b.lo) / self.cont_total, axis=1)
         return w
 
-    def counts(self, b: _Batch) -> np.ndarray:
-        """Discrete assignments in each box (continuous inputs count once)."""
-        c = np.ones(len(b), dtype=np.int64)
-        for m in b.masks:
-            c *= m.sum(axis=1)
-        return c
-
     def rules(self, b: _Batch) -> tuple[np.ndarray, np.ndarray]:
         """The rules' ``(can0, can1)`` in network output order."""
-        can0, can1 = rules_ternary(self.source, self.domain, b.masks, b.lo, b.hi)
+        can0, can1 = rules_ternary(self.source, self.domain, self.bd.masks(b.M), b.lo, b.hi)
         return can0[:, self.out_index], can1[:, self.out_index]
 
-    def point(self, b: _Batch, sel: np.ndarray, reals: np.ndarray) -> tuple[np.ndarray, ...]:
-        """Choice indices, source rows and network output values at one point per box."""
-        choice = np.stack([m[sel].argmax(axis=1) for m in b.masks], axis=1) if b.masks else \
-            np.zeros((int(sel.sum()), 0), dtype=np.int64)
+    def point(self, M: np.ndarray, reals: np.ndarray) -> tuple[np.ndarray, ...]:
+        """Choice indices, source rows and network output values at one point per box
+        (the first allowed choice of each discrete feature, ``reals`` for the rest)."""
+        choice = np.zeros((M.shape[0], len(self.domain.discrete)), dtype=np.int64)
+        for k, m in enumerate(self.bd.masks(M)):
+            choice[:, k] = m.argmax(axis=1)
         X = self.domain.unit_rows(choice, reals)
         values = self.net.evaluate(network_rows(self.net, self.domain, X))
         return choice, X, values
 
-    def record(self, b: _Batch, k: int, rows: np.ndarray, expected: np.ndarray,
-               reals: np.ndarray) -> None:
+    def record(self, M: np.ndarray, k: int, expected: np.ndarray, reals: np.ndarray) -> None:
         """Counterexamples for output ``k`` at the given boxes (up to the report's limit)."""
         room = MAX_COUNTEREXAMPLES - len(self.examples[k])
-        if room <= 0 or not rows.size:
+        if room <= 0 or not len(M):
             return
-        rows = rows[:room]
-        sel = np.zeros(len(b), dtype=bool)
-        sel[rows] = True
-        choice, _, values = self.point(b, sel, reals[rows])
+        choice, _, values = self.point(M[:room], reals[:room])
         thr = self.net.decision_threshold
-        for r in range(len(rows)):
+        for r in range(len(choice)):
             v = float(values[r, k])
             self.examples[k].append(Counterexample(
-                self.domain.assignment(choice[r], reals[rows][r]),
-                self.net.outputs[k].name, bool(expected[r]), v, abs(v - thr),
+                self.domain.assignment(choice[r], reals[r]), self.net.outputs[k].name,
+                bool(expected[r]), v, abs(v - thr),
             ))
 
     def step(self, b: _Batch) -> _Batch | None:
         """Decide what can be decided in ``b``; return the children of the rest."""
         self.nodes += len(b)
-        mlo, mhi, vlo, vhi = _output_intervals(self.bd, b.masks, b.lo, b.hi)
+        sizes = self.bd.sizes(b.M)
+        mlo, mhi, vlo, vhi = _output_intervals(self.bd, b.M, b.lo, b.hi, sizes)
         can0, can1 = self.rules(b)
         thr = self.net.decision_threshold
         net_one, net_zero = vlo > thr, vhi <= thr
         decided = (net_one | net_zero) & (can0 ^ can1) & ~b.resolved
         wrong = decided & (net_one != can1)
-        counts = self.counts(b)
+        counts = np.prod(sizes, axis=1)
         mids = (b.lo + b.hi) / 2
-        for k in range(decided.shape[1]):
+        for k in np.nonzero(decided.any(axis=0))[0].tolist():
             col = decided[:, k]
-            if not col.any():
-                continue
             margin = np.where(net_one[:, k], mlo[:, k], -mhi[:, k])[col]
             self.min_margin[k] = min(self.min_margin[k], float(margin.min()))
             bad_rows = np.nonzero(wrong[:, k])[0]
             if bad_rows.size:
                 self.bad[k] += int(counts[bad_rows].sum())
-                self.record(b, k, bad_rows, can1[bad_rows, k], mids)
+                self.record(b.M[bad_rows], k, can1[bad_rows, k], mids[bad_rows])
         resolved = b.resolved | decided
-        discrete_fixed = np.ones(len(b), dtype=bool)
-        for m in b.masks:
-            discrete_fixed &= m.sum(axis=1) == 1
-        open_rows = ~resolved.all(axis=1)
+        discrete_fixed = (sizes == 1).all(axis=1)
         if self.domain.continuous:
-            resolved = self._centres(b, resolved, open_rows & discrete_fixed, mids)
-            open_rows = ~resolved.all(axis=1)
+            resolved = self._centres(b, resolved, discrete_fixed & ~resolved.all(axis=1), mids)
+        open_rows = ~resolved.all(axis=1)
         if not open_rows.any():
             return None
-        rest = _Batch(b.masks, b.lo, b.hi, resolved).take(open_rows)
-        return self._split(rest, discrete_fixed[open_rows])
+        rest = _Batch(b.M, b.lo, b.hi, resolved).take(open_rows)
+        return self._split(rest, sizes[open_rows])
 
     def _centres(self, b: _Batch, resolved: np.ndarray, rows: np.ndarray,
                  mids: np.ndarray) -> np.ndarray:
@@ -324,9 +375,7 @@ class _Search:
         if not idx.size:
             return resolved
         resolved = resolved.copy()
-        sel = np.zeros(len(b), dtype=bool)
-        sel[idx] = True
-        _, X, values = self.point(b, sel, mids[idx])
+        _, X, values = self.point(b.M[idx], mids[idx])
         expected = np.asarray(self.source.evaluate(X), dtype=bool)[:, self.out_index]
         actual = values > self.net.decision_threshold
         thin = ((b.hi - b.lo)[idx] <= 1e-9 * np.maximum(1.0, np.abs(mids[idx]))).all(axis=1)
@@ -334,7 +383,7 @@ class _Search:
             bad = (actual[:, k] != expected[:, k]) & ~resolved[idx, k]
             if bad.any():
                 self.bad[k] += int(bad.sum())
-                self.record(b, k, idx[bad], expected[bad, k], mids)
+                self.record(b.M[idx[bad]], k, expected[bad, k], mids[idx[bad]])
                 resolved[idx[bad], k] = True
             stuck = thin & ~resolved[idx, k]
             if stuck.any():
@@ -342,23 +391,27 @@ class _Search:
                 resolved[idx[stuck], k] = True
         return resolved
 
-    def _split(self, b: _Batch, discrete_fixed: np.ndarray) -> _Batch | None:
+    def _split(self, b: _Batch, sizes: np.ndarray) -> _Batch | None:
         """Two children per box (see the module docstring for the choice of input)."""
         if not len(b):
             return None
-        choice = np.full(len(b), -1, dtype=np.int64)
-        for k in reversed(self.split_order):  # the first free one in order wins
-            choice = np.where(b.masks[k].sum(axis=1) > 1, k, choice)
         parts: list[_Batch] = []
+        if len(self.split_order):
+            free = sizes[:, self.split_order] > 1
+            first = self.split_order[free.argmax(axis=1)]
+            choice = np.where(free.any(axis=1), first, -1)
+        else:
+            choice = np.full(len(b), -1, dtype=np.int64)
         for k in np.unique(choice[choice >= 0]).tolist():
             sub = b.take(choice == k)
-            m = sub.masks[k]
+            off, n = int(self.bd.offsets[k]), self.domain.discrete[k].size
+            m = sub.M[:, off:off + n]
             half = m.sum(axis=1, keepdims=True) // 2
             left = m & (np.cumsum(m, axis=1) <= half)
             for part in (left, m & ~left):
-                masks = list(sub.masks)
-                masks[k] = part
-                parts.append(_Batch(masks, sub.lo, sub.hi, sub.resolved))
+                M = sub.M.copy()
+                M[:, off:off + n] = part
+                parts.append(_Batch(M, sub.lo, sub.hi, sub.resolved))
         cont = choice < 0
         if cont.any():
             sub = b.take(cont)
@@ -369,8 +422,8 @@ class _Search:
             lo2, hi2 = sub.lo.copy(), sub.hi.copy()
             hi2[r, j] = mid
             lo2[r, j] = mid
-            parts.append(_Batch(sub.masks, sub.lo, hi2, sub.resolved))
-            parts.append(_Batch(sub.masks, lo2, sub.hi, sub.resolved))
+            parts.append(_Batch(sub.M, sub.lo, hi2, sub.resolved))
+            parts.append(_Batch(sub.M, lo2, sub.hi, sub.resolved))
         return _Batch.join(parts) if parts else None
 
     # ---------------------------------------------------------------- the search
@@ -381,8 +434,8 @@ class _Search:
         n = len(combos)
         lo = np.array([[p[0] for p in c] for c in combos], dtype=float).reshape(n, len(pieces))
         hi = np.array([[p[1] for p in c] for c in combos], dtype=float).reshape(n, len(pieces))
-        masks = [np.ones((n, f.size), dtype=bool) for f in self.domain.discrete]
-        return _Batch(masks, lo, hi, np.zeros((n, len(self.net.outputs)), dtype=bool))
+        M = np.ones((n, self.bd.n_choices), dtype=bool)
+        return _Batch(M, lo, hi, np.zeros((n, len(self.net.outputs)), dtype=bool))
 
     def run(self, max_nodes: int, time_limit: float, progress: bool) -> bool:
         """Search until done (True) or a limit stops it (False)."""
@@ -397,7 +450,7 @@ class _Search:
                     b = b.take(np.arange(_BATCH))
                 if self.nodes >= max_nodes or time.perf_counter() - t0 > time_limit:
                     return False
-                before = float(self.weight(b).sum())
+                before = float(self.weight(b).sum()) if bar is not None else 0.0
                 children = self.step(b)
                 if children is not None:
                     stack.append(children)
