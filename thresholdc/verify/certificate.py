@@ -29,6 +29,7 @@ from typing import Any
 
 import numpy as np
 
+from ..logic.typed import real_units
 from ..network.model import Network
 from ..network.soften import MAX_MARGIN_INPUTS, deviation, misread_limit, neuron_margins
 
@@ -143,40 +144,46 @@ def check_certificate(
     if len(stated) < len(names):
         return _failed(problems, stated_bound)
 
-    # De-gain every neuron and check integer weights, half-integer bias.
+    # De-gain every neuron and check integer weights, half-integer bias (neurons reading a
+    # real unit compare x with a real constant: their bias is a float by design).  Values
+    # within rounding error of the grid are snapped to it, so the margins are exact.
+    bipolar = net.encoding == "bipolar"
+    real = real_units(net)
     pre = []
-    integral = True
-    for n in net.neurons:
+    unsure = np.zeros(len(names), dtype=bool)
+    for j, n in enumerate(net.neurons):
         g = stated[n.name][1]
         ws = [float(w) / g for w in n.weights]
         b = float(n.bias) / g
-        if net.encoding == "bipolar":
-            whole = [2 * w for w in ws]
-            half = b - sum(ws)
-        else:
-            whole = ws
-            half = b
+        if real.keys() & set(n.inputs):
+            pre.append(replace(n, weights=tuple(ws), bias=b, activation="step"))
+            continue
+        whole = [2 * w for w in ws] if bipolar else ws
         bad = [k for k, w in enumerate(whole) if not _near_integer(w)]
         if bad:
-            integral = False
             k = bad[0]
             problems.append(
                 f"neuron {n.name!r}: weight {k + 1} divided by the gain {g} is {ws[k]:.6g}, "
-                + ("not a multiple of 1/2" if net.encoding == "bipolar" else "not an integer")
+                + ("not a multiple of 1/2" if bipolar else "not an integer")
             )
+        else:
+            ws = [round(w) / 2 for w in whole] if bipolar else [float(round(w)) for w in ws]
+        half = b - sum(ws) if bipolar else b
         if not _near_integer(half - 0.5):
-            integral = False
             problems.append(
                 f"neuron {n.name!r}: the bias divided by the gain {g} is {b:.6g}, "
-                + ("not a half-integer offset from the weights"
-                   if net.encoding == "bipolar" else "not a half-integer")
+                + ("not a half-integer offset from the weights" if bipolar
+                   else "not a half-integer")
             )
+        elif not bad:
+            b = round(half - 0.5) + 0.5 + (sum(ws) if bipolar else 0.0)
+        unsure[j] = bool(bad) or not _near_integer(half - 0.5)
         pre.append(replace(n, weights=tuple(ws), bias=b, activation="step"))
     step = replace(net, neurons=tuple(pre))
 
     margins, how = neuron_margins(step, max_inputs=max_inputs, progress=progress)
-    if how == "assumed" and not integral:
-        margins = np.zeros(len(names))  # nothing guarantees a margin any more
+    if how == "assumed":
+        margins = np.where(unsure, 0.0, margins)  # nothing guarantees their margin
     for n, m in zip(net.neurons, margins.tolist(), strict=True):
         if stated[n.name][0] > m * (1 + _SLACK):
             problems.append(
