@@ -102,12 +102,17 @@ def save_any(net: Network, path: str) -> None:
     thresholdc.errors.UsageError: net.txt: unknown suffix '.txt' ...; supported: .json, .npz, .onnx
     """
     suffix = _suffix(path, SUFFIXES, "to write a network")
-    if suffix == ".json":
-        fileformat.save(net, path)
-    elif suffix == ".npz":
-        _module("npz", None, "writing .npz").save_npz(net, path)
-    else:
-        _module("onnx", "onnx", "writing .onnx").save_onnx(net, path)
+    try:
+        if suffix == ".json":
+            fileformat.save(net, path)
+        elif suffix == ".npz":
+            _module("npz", None, "writing .npz").save_npz(net, path)
+        else:
+            _module("onnx", "onnx", "writing .onnx").save_onnx(net, path)
+    except UsageError as err:  # say which file could not be written
+        if err.file is None:
+            err.file = path
+        raise
 
 
 def load_dense(path: str, like: Network | None = None) -> Network:

@@ -94,8 +94,10 @@ def strict_form(net: Network) -> Network:
     except ImportError:
         steps = False
     if not steps:
+        kinds = sorted({n.activation for n in net.neurons} - {"step"})
         raise UsageError(
-            "this export needs the strict layered form: compile with --layered"
+            "this format holds the strict layered form: compile with --layered (a "
+            f"{'/'.join(kinds) or 'step'} network gets its relays when it is compiled)"
         )
     bias = 0.0 if net.encoding == "bipolar" else -0.5  # a ±1 value keeps its sign with bias 0
     strict = insert_relays(net, relay_weight=1.0, relay_bias=bias)

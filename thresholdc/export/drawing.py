@@ -143,7 +143,7 @@ def _detailed(net: Network, max_labels: int) -> Figure:
     depth = net.depth
     tall = max([len(net.inputs), len(net.outputs)] +
                [sum(1 for u in net.neurons if u.layer == L) for L in range(1, depth + 1)])
-    fig, ax = _new_figure(max(6.0, 2.6 * (depth + 2)), max(3.5, 0.95 * tall + 1.6))
+    fig, ax = _new_figure(max(6.0, 2.6 * (depth + 2)), max(3.5, 0.85 * tall + 1.4))
     links = [(i, u, w) for u in net.neurons for i, w in zip(u.inputs, u.weights, strict=True)
              if w != 0]
     label_links = len(links) <= max_labels
@@ -183,8 +183,8 @@ def _detailed(net: Network, max_labels: int) -> Figure:
                                          "ec": "#6b4c8a"})
     ys = [p[1] for p in pos.values()] + [(n_out - 1) / 2 - k for k in range(n_out)] + [0.0]
     ax.set_xlim(-0.6, depth + 1.6)
-    reach = 0.45 * depth + 0.8 if depth > 1 else 0.8
-    ax.set_ylim(min(ys) - min(reach, 1.6), max(ys) + min(reach, 1.6))
+    reach = 1.0 if depth > 1 else 0.7  # room for the links that bow around a column
+    ax.set_ylim(min(ys) - reach, max(ys) + reach)
     notes = ["blue: positive weight · orange dashed: negative weight · grey: relay · "
              "b: bias · ⟨…⟩: the definition a helper neuron serves · skip links curve"]
     if not label_links:
