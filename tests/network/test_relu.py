@@ -172,3 +172,34 @@ def test_apply_activation_relu(layered: bool) -> None:
     X = all_rows(3)
     assert np.array_equal(r.evaluate(X), net.evaluate(X))
     assert "certificate" not in r.meta
+
+
+def real_network() -> Network:
+    """A typed network: ``hot = t > 3`` (scale 0.25), ``y = hot and b``, and ``far`` reading
+    the real unit again in layer 2 (so the layered form must relay it)."""
+    features = ({"name": "t", "kind": "real", "units": ["t"], "range": None, "scale": 0.25},
+                {"name": "b", "kind": "bool", "units": ["b"]})
+    return Network(
+        ("t", "b"),
+        (Neuron("hot", 1, ("t",), (1.0,), -3.0, origin="hot"),
+         Neuron("y", 2, ("hot", "b"), (1.0, 1.0), -1.5, origin="y"),
+         Neuron("far", 2, ("t", "hot"), (1.0, 1.0), -5.0, origin="far")),
+        (Output("y", "y"), Output("far", "far")),
+        features=features,
+    )
+
+
+@pytest.mark.parametrize("layered", [False, True])
+def test_real_units_exact_at_least_a_scale_from_the_threshold(layered: bool) -> None:
+    net = real_network()
+    r = to_relu(net, layered=layered)
+    # every t at least 0.25 (the scale) from the thresholds 3 (hot) and 4 / 5 (far)
+    t = np.array([-40.0, -1.0, 0.0, 2.75, 3.25, 3.5, 4.5, 5.25, 6.0, 60.0])
+    X = np.array([[v, b] for v in t for b in (0.0, 1.0)])
+    assert np.array_equal(r.evaluate(X), net.evaluate(X))
+    if layered:
+        assert r.is_strict()
+        assert {"relay~t~1~pos", "relay~t~1~neg"} <= {n.name for n in r.neurons}
+    # nearer to the threshold than the scale the pair ramps between 0 and 1
+    mid = r.evaluate(np.array([[3.125, 1.0]]))[0, 0]
+    assert 0.0 < mid < 1.0

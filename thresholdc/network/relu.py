@@ -6,8 +6,13 @@ So every threshold neuron ``n`` becomes a pair of ReLU units ``n~pos`` (bias + �
 on ``n~pos``, ``−w`` on ``n~neg``), and every output reads one ``linear`` unit ``n~out`` =
 ``n~pos − n~neg`` in one more layer.  A neuron that is an output and also read by others keeps its
 pair for its readers.  The result equals the step network exactly on every 0/1 input (the
-compiler guarantees ``|z| ≥ ½`` there; for real-valued inputs this holds only away from the
-thresholds).
+compiler guarantees ``|z| ≥ ½`` there).
+
+Real-valued units (typed inputs) are the exception: a neuron ``z = w·(x − c)`` reading one is
+rescaled by ``1 / (2m)``, ``m = min |w|·scale`` (its margin in
+:func:`thresholdc.logic.typed.real_margins`), so its pair is exact wherever ``x`` is at least
+``scale`` away from the threshold ``c`` and ramps linearly nearer to it.  A real unit that has
+to cross layers is relayed as ``ReLU(x)`` and ``ReLU(−x)`` (one unit cannot carry a sign).
 
 In the strict layered form (``layered=True``) a value that crosses layers is carried by one
 relay unit ``ReLU(n~pos − n~neg)`` (then ``ReLU(r)`` for later layers; ``ReLU(x)`` for an input
@@ -26,6 +31,8 @@ from __future__ import annotations
 
 from dataclasses import replace
 
+import numpy as np
+
 from .layering import fresh_name
 from .model import Network, Neuron, Output
 
@@ -37,14 +44,28 @@ def _taken_names(net: Network) -> set[str]:
     return set(net.inputs) | {n.name for n in net.neurons} | {o.name for o in net.outputs}
 
 
-def _pair(n: Neuron, ins: list[str], ws: list[float], layer: int,
-          taken: set[str]) -> tuple[Neuron, Neuron]:
-    """The ReLU pair of step neuron ``n`` reading ``ins`` with ``ws``."""
+def _scales(net: Network) -> dict[str, float]:
+    """``{neuron: factor}`` for neurons reading a real unit: ``1 / (2 · margin)``."""
+    from ..logic.typed import real_margins, real_units
+
+    real = real_units(net)
+    if not real:
+        return {}
+    margins = real_margins(net, np.full(len(net.neurons), 0.5))
+    return {n.name: 0.5 / float(m) for n, m in zip(net.neurons, margins.tolist(), strict=True)
+            if real.keys() & set(n.inputs)}
+
+
+def _pair(n: Neuron, ins: list[str], ws: list[float], layer: int, taken: set[str],
+          factor: float = 1.0) -> tuple[Neuron, Neuron]:
+    """The ReLU pair of step neuron ``n`` reading ``ins`` with ``ws`` (``z`` times ``factor``)."""
     pos = fresh_name(f"{n.name}~pos", taken)
     neg = fresh_name(f"{n.name}~neg", taken)
+    ws = [w * factor for w in ws]
+    b = float(n.bias) * factor
     return (
-        Neuron(pos, layer, tuple(ins), tuple(ws), float(n.bias) + 0.5, "relu", "gate", n.origin),
-        Neuron(neg, layer, tuple(ins), tuple(ws), float(n.bias) - 0.5, "relu", "gate", n.origin),
+        Neuron(pos, layer, tuple(ins), tuple(ws), b + 0.5, "relu", "gate", n.origin),
+        Neuron(neg, layer, tuple(ins), tuple(ws), b - 0.5, "relu", "gate", n.origin),
     )
 
 
@@ -81,13 +102,14 @@ def to_relu(net: Network, *, layered: bool = False) -> Network:
     if layered:
         return _layered(net)
     taken = _taken_names(net)
+    factor = _scales(net)
     pairs: dict[str, tuple[str, str]] = {}
     layer = {name: 0 for name in net.inputs}
     units: list[Neuron] = []
     for n in net.neurons:
         ins, ws = _read(n, pairs)
         L = 1 + max((layer[i] for i in ins), default=0)
-        pos, neg = _pair(n, ins, ws, L, taken)
+        pos, neg = _pair(n, ins, ws, L, taken, factor.get(n.name, 1.0))
         units += [pos, neg]
         pairs[n.name] = (pos.name, neg.name)
         layer[pos.name] = layer[neg.name] = L
@@ -126,7 +148,11 @@ def _layered(net: Network) -> Network:
     # of n at that layer.  Relays exist at every layer L(n) + 1 … need(n), where need(n) is the
     # highest layer any reader (or, for outputs, the last ReLU layer D) wants n at.  Layer D + 1
     # holds one linear unit per output source.
+    from ..logic.typed import real_units
+
     taken = _taken_names(net)
+    factor = _scales(net)
+    real = real_units(net)
     layer = {name: 0 for name in net.inputs}
     for n in net.neurons:
         layer[n.name] = 1 + max((layer[i] for i in n.inputs), default=0)
@@ -139,27 +165,31 @@ def _layered(net: Network) -> Network:
     for o in net.outputs:
         origin.setdefault(o.source, o.name)
     pairs: dict[str, tuple[str, str]] = {}
-    relay: dict[tuple[str, int], str] = {}
+    relay: dict[tuple[str, int, float], str] = {}
     gates: dict[int, list[Neuron]] = {}
     relays: dict[int, list[Neuron]] = {}
 
     def carry(unit: str, L: int) -> list[tuple[str, float]]:
-        """``(name, weight)`` terms giving ``unit``'s 0/1 value at layer L, with relays."""
+        """``(name, weight)`` terms giving ``unit``'s value at layer L, with relays."""
         L0 = layer[unit]
         if L == L0:
             if unit in pairs:
                 return [(pairs[unit][0], 1.0), (pairs[unit][1], -1.0)]
             return [(unit, 1.0)]
-        got = relay.get((unit, L))
-        if got is None:
+        signs = (1.0, -1.0) if unit in real else (1.0,)  # a real value needs both halves
+        if (unit, L, 1.0) not in relay:
             below = carry(unit, L - 1)
-            got = fresh_name(f"relay~{unit}~{L}", taken)
-            relay[(unit, L)] = got
-            relays.setdefault(L, []).append(
-                Neuron(got, L, tuple(t for t, _ in below), tuple(w for _, w in below), 0.0,
-                       "relu", "relay", origin.get(unit))
-            )
-        return [(got, 1.0)]
+            for sign in signs:
+                base = f"relay~{unit}~{L}" + ("" if len(signs) == 1 else
+                                               ("~pos" if sign > 0 else "~neg"))
+                got = fresh_name(base, taken)
+                relay[(unit, L, sign)] = got
+                relays.setdefault(L, []).append(
+                    Neuron(got, L, tuple(t for t, _ in below),
+                           tuple(sign * w for _, w in below), 0.0, "relu", "relay",
+                           origin.get(unit))
+                )
+        return [(relay[(unit, L, sign)], sign) for sign in signs]
 
     for n in net.neurons:
         L = layer[n.name]
@@ -169,7 +199,7 @@ def _layered(net: Network) -> Network:
             for t, s in carry(i, L - 1):
                 ins.append(t)
                 ws.append(s * float(w))
-        pos, neg = _pair(n, ins, ws, L, taken)
+        pos, neg = _pair(n, ins, ws, L, taken, factor.get(n.name, 1.0))
         pairs[n.name] = (pos.name, neg.name)
         gates.setdefault(L, []).extend((pos, neg))
     out_unit: dict[str, str] = {}
