@@ -123,3 +123,24 @@ def test_cli_exit_codes(tmp_path, capsys):
     assert ".json, .npz, .onnx" in err
     assert cli.main(["export", str(tmp_path / "missing.json"), "-o",
                      str(tmp_path / "m.npz")]) == 2
+
+
+def test_importing_the_package_loads_no_optional_library():
+    import subprocess
+    import sys
+
+    code = ("import sys, thresholdc.export; "
+            "print(sorted(m for m in ('onnx', 'torch', 'matplotlib') if m in sys.modules))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True).stdout
+    assert out.strip() == "[]"
+
+
+def test_a_missing_optional_package_is_a_usage_error(tmp_path, monkeypatch):
+    import sys
+
+    monkeypatch.setitem(sys.modules, "onnx", None)  # makes "import onnx" fail
+    monkeypatch.delitem(sys.modules, "thresholdc.export.onnx", raising=False)
+    with pytest.raises(UsageError, match=r"pip install 'thresholdc\[onnx\]'"):
+        save_any(full_adder(), str(tmp_path / "adder.onnx"))
+    assert list(tmp_path.iterdir()) == []

@@ -198,3 +198,21 @@ def test_load_onnx_reads_a_saved_file(tmp_path):
     back = load_onnx(path)
     X = all_rows(3)
     assert back.evaluate(X).tolist() == full_adder().evaluate(X).tolist()
+
+
+def test_features_and_encoding_travel_in_the_metadata():
+    from dataclasses import replace
+
+    features = ({"name": "colour", "kind": "categorical", "values": ["red", "blue"],
+                 "units": ["colour=red", "colour=blue"]},
+                {"name": "flag", "kind": "bool", "units": ["flag"]})
+    base = strict_xor()
+    net = replace(base, inputs=("colour=red", "colour=blue"), features=features[:1],
+                  neurons=tuple(replace(n, inputs=tuple({"a": "colour=red", "b": "colour=blue"}
+                                                        .get(i, i) for i in n.inputs))
+                                for n in base.neurons))
+    back = from_onnx(to_onnx(net))
+    assert back.features == features[:1]
+    assert back.inputs == ("colour=red", "colour=blue")
+    bip = apply_activation(full_adder(), encoding="bipolar")
+    assert from_onnx(to_onnx(bip)).encoding == "bipolar"
