@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
-from test_soften import all_rows, full_adder, random_step_network
 
+from tests.network.step_networks import all_rows, full_adder, random_step_network
 from thresholdc.network.fileformat import check_network, dumps, loads
 from thresholdc.network.model import Network, Neuron, Output
 from thresholdc.network.relu import to_relu

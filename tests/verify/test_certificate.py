@@ -5,41 +5,15 @@ from __future__ import annotations
 import copy
 from dataclasses import replace
 
-import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from tests.network.step_networks import random_step_network
 from thresholdc.network.fileformat import dumps, loads
 from thresholdc.network.model import Network, Neuron, Output
 from thresholdc.network.soften import apply_activation
 from thresholdc.verify.certificate import check_certificate
-
-
-def random_net(seed: int) -> Network:
-    """A random step network of ANDs, ORs and weighted thresholds over earlier units
-    (integer weights, half-integer biases)."""
-    rng = np.random.default_rng(seed)
-    k = int(rng.integers(2, 7))
-    units = [f"x{i}" for i in range(k)]
-    layer = dict.fromkeys(units, 0)
-    neurons = []
-    for j in range(int(rng.integers(1, 9))):
-        fan = int(rng.integers(1, min(len(units), 4) + 1))
-        ins = [str(u) for u in rng.choice(units, size=fan, replace=False)]
-        kind = rng.integers(0, 3)
-        if kind == 0:  # AND
-            ws, bias = [1] * fan, -(fan - 0.5)
-        elif kind == 1:  # OR
-            ws, bias = [1] * fan, -0.5
-        else:
-            ws = [int(w) for w in rng.integers(-3, 4, size=fan)]
-            bias = int(rng.integers(-2, 2)) + 0.5
-        L = 1 + max(layer[i] for i in ins)
-        neurons.append(Neuron(f"n{j}", L, tuple(ins), tuple(float(w) for w in ws), bias))
-        layer[f"n{j}"] = L
-        units.append(f"n{j}")
-    return Network(tuple(units[:k]), tuple(neurons), (Output("y", neurons[-1].name),))
 
 
 def adder() -> Network:
@@ -82,7 +56,7 @@ def test_good_certificates_pass(index: int) -> None:
 @given(seed=st.integers(0, 100_000))
 @settings(max_examples=20, deadline=None)
 def test_random_certificates_pass(seed: int) -> None:
-    for soft in soft_variants(random_net(seed)):
+    for soft in soft_variants(random_step_network(seed)):
         check = check_certificate(soft)
         assert check.ok, check.problems
 
@@ -195,3 +169,16 @@ def test_wrong_activation_for_the_encoding_fails() -> None:
     soft = apply_activation(adder(), activation="sigmoid", tolerance=0.01)
     bad = replace(soft, neurons=tuple(replace(n, activation="tanh") for n in soft.neurons))
     assert any("is tanh" in p for p in check_certificate(bad).problems)
+
+
+def test_typed_network_with_a_real_unit_passes() -> None:
+    features = ({"name": "t", "kind": "real", "units": ["t"], "range": None, "scale": 0.25},
+                {"name": "b", "kind": "bool", "units": ["b"]})
+    net = Network(("t", "b"), (Neuron("hot", 1, ("t",), (1.0,), -3.0),
+                               Neuron("y", 2, ("hot", "b"), (1, 1), -1.5)),
+                  (Output("y", "y"),), features=features)
+    soft = apply_activation(net, activation="sigmoid", tolerance=0.01)
+    assert soft.meta["certificate"]["neurons"]["hot"]["margin"] == 0.25
+    check = check_certificate(soft)
+    assert check.ok and check.margins == "assumed", check.problems
+    assert not check_certificate(tamper(soft, "hot", margin=1.0)).ok
