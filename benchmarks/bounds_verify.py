@@ -7,8 +7,7 @@ From one run it prints, per n: the time of :func:`thresholdc.verify.bounds.verif
 the time of the exhaustive numpy check over all 2^n rows (our :func:`verify_exhaustive`), and
 plain Python brute force (the network's forward pass in Python loops and the rules through the
 reference evaluator, one row at a time, timed on 2000 rows and scaled to 2^n), with ratios;
-and it checks that
-the verdicts and counts agree.  Not a timed test.
+and it checks that the verdicts and counts agree.  Not a timed test.
 
     python3 benchmarks/bounds_verify.py [--sizes 12,16,20,22] [--noise 0.02] [--seed 1]
 """
