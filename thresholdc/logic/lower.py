@@ -81,57 +81,62 @@ class _Lowerer:
                 self.gates[signal] = replace(g, origin=self.current)
 
     # ---------------------------------------------------------------- expressions
-    def lower(self, e: ast.Expr) -> str:
-        """The signal computing ``e`` (emitting gates as needed)."""
+    def lower(self, root: ast.Expr) -> str:
+        """The signal computing ``root``, emitting gates children first.
+
+        An explicit stack instead of recursion, so chains of hundreds of operators (``a1 -> a2
+        -> …``) and deep brackets lower without hitting Python's recursion limit.
+        """
+        done: dict[int, str] = {}
+        stack: list[tuple[ast.Expr, bool]] = [(root, False)]
+        while stack:
+            node, expanded = stack.pop()
+            if id(node) in done:
+                continue
+            kids = _children(node)
+            if kids and not expanded:
+                stack.append((node, True))
+                stack.extend((k, False) for k in reversed(kids) if id(k) not in done)
+                continue
+            done[id(node)] = self._build(node, [done[id(k)] for k in kids])
+        return done[id(root)]
+
+    def _build(self, e: ast.Expr, args: list[str]) -> str:
+        """The signal of one node whose children are already the signals ``args``."""
+        span = getattr(e, "span", None)
         if isinstance(e, ast.Name):
             return e.id
         if isinstance(e, ast.Const):
             return self.emit(Gate("const", value=int(e.value)))
         if isinstance(e, ast.Not):
-            return self.emit(Gate("not", (self.lower(e.operand),), span=e.span))
+            return self.emit(Gate("not", (args[0],), span=span))
         if isinstance(e, ast.BinOp):
-            return self._binop(e)
+            if e.op == "implies":
+                left = self.emit(Gate("not", (args[0],), span=span))
+                return self.emit(Gate("or", (left, args[1]), span=span))
+            if e.op == "iff":
+                return self.emit(Gate("xnor", tuple(args), span=span))
+            return self.emit(Gate(e.op, tuple(args), span=span))
         if isinstance(e, ast.Ite):
-            args = (self.lower(e.cond), self.lower(e.then), self.lower(e.other))
-            return self.emit(Gate("ite", args, span=e.span))
+            return self.emit(Gate("ite", tuple(args), span=span))
         if isinstance(e, ast.Call):
-            return self._call(e)
+            return self._call(e, tuple(args))
         if isinstance(e, ast.Compare):
-            return self._compare(e)
+            return self._compare(e, args)
         if isinstance(e, ast.CategoryTest):
             units = tuple(f"{e.var}={v}" for v in e.values)
-            sig = units[0] if len(units) == 1 else self.emit(Gate("or", units, span=e.span))
-            return self.emit(Gate("not", (sig,), span=e.span)) if e.negate else sig
+            sig = units[0] if len(units) == 1 else self.emit(Gate("or", units, span=span))
+            return self.emit(Gate("not", (sig,), span=span)) if e.negate else sig
         if isinstance(e, ast.RealTest):
             # Only strict tests are gates: x >= c is not(x < c), x <= c is not(x > c).
             from .typed import strict_real_test
 
             op, c, negate = strict_real_test(e.op, e.value)
-            sig = self.emit(Gate("realcmp", (e.var,), span=e.span, real_test=(op, c)))
-            return self.emit(Gate("not", (sig,), span=e.span)) if negate else sig
+            sig = self.emit(Gate("realcmp", (e.var,), span=span, real_test=(op, c)))
+            return self.emit(Gate("not", (sig,), span=span)) if negate else sig
         raise AssertionError(f"unknown expression node {e!r}")
 
-    def _binop(self, e: ast.BinOp) -> str:
-        if e.op == "implies":
-            left = self.emit(Gate("not", (self.lower(e.left),), span=e.span))
-            return self.emit(Gate("or", (left, self.lower(e.right)), span=e.span))
-        if e.op == "iff":
-            return self.emit(Gate("xnor", (self.lower(e.left), self.lower(e.right)), span=e.span))
-        # Flatten a chain of the same associative connective, iteratively.
-        operands: list[ast.Expr] = []
-        stack: list[ast.Expr] = [e]
-        while stack:
-            node = stack.pop()
-            if isinstance(node, ast.BinOp) and node.op == e.op:
-                stack.append(node.right)
-                stack.append(node.left)
-            else:
-                operands.append(node)
-        args = tuple(self.lower(o) for o in operands)
-        return self.emit(Gate(e.op, args, span=e.span))
-
-    def _call(self, e: ast.Call) -> str:
-        args = tuple(self.lower(a) for a in e.args)
+    def _call(self, e: ast.Call, args: tuple[str, ...]) -> str:
         n = len(args)
         ones = (1,) * n
         if e.func == "atleast":
@@ -148,10 +153,9 @@ class _Lowerer:
             return self.emit(Gate(e.func, args, span=e.span))
         raise AssertionError(f"unknown call {e.func}")
 
-    def _compare(self, e: ast.Compare) -> str:
+    def _compare(self, e: ast.Compare, sigs: list[str]) -> str:
         coef: dict[str, int] = {}
-        for t in e.terms:
-            sig = self.lower(t.operand)
+        for t, sig in zip(e.terms, sigs):
             coef[sig] = coef.get(sig, 0) + t.coef
         args = tuple(s for s, c in coef.items() if c != 0)
         w = tuple(coef[s] for s in args)
@@ -201,6 +205,33 @@ class _Lowerer:
             self.simplified += 1
             return _from_sympy(after)
         return expr
+
+
+def _children(e: ast.Expr) -> list[ast.Expr]:
+    """The sub-expressions a node reads, with chains of one associative connective
+    (and, or, xor) flattened into one list, iteratively."""
+    if isinstance(e, ast.Not):
+        return [e.operand]
+    if isinstance(e, ast.BinOp):
+        if e.op in ("implies", "iff"):
+            return [e.left, e.right]
+        operands: list[ast.Expr] = []
+        stack: list[ast.Expr] = [e]
+        while stack:
+            node = stack.pop()
+            if isinstance(node, ast.BinOp) and node.op == e.op:
+                stack.append(node.right)
+                stack.append(node.left)
+            else:
+                operands.append(node)
+        return operands
+    if isinstance(e, ast.Ite):
+        return [e.cond, e.then, e.other]
+    if isinstance(e, ast.Call):
+        return list(e.args)
+    if isinstance(e, ast.Compare):
+        return [t.operand for t in e.terms]
+    return []
 
 
 def _plain_support(expr: ast.Expr) -> tuple[set[str] | None, int]:

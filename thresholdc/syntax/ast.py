@@ -231,8 +231,8 @@ class Definition:
 class Program:
     """A checked rule file.
 
-    ``inputs`` in declaration order; ``outputs`` as ``(output name, source name)`` pairs in order
-    (the source is the name itself: an output names a definition or an input);
+    ``inputs`` in declaration order; ``outputs`` the output names in order (each names a
+    definition or an input);
     ``definitions`` maps every definition needed by an output to its node, in source order;
     ``order`` lists those definitions so that each comes after every definition it uses;
     ``unused`` names the definitions no output needs (only with an ``output`` statement);
