@@ -33,7 +33,7 @@ from .sat_encode import check_step_network
 
 __all__ = ["verify_network", "METHODS"]
 
-METHODS = ("auto", "exhaustive", "local", "sat")
+METHODS = ("auto", "exhaustive", "local", "sat", "bounds")
 
 
 def verify_network(
@@ -98,6 +98,13 @@ def verify_network(
         return verify_local(net, source, max_inputs=max_inputs, time_limit=time_limit)
     if method == "sat":
         return verify_sat(net, source, time_limit=time_limit)
+    from .bounds import verify_bounds
+    from .typed import is_typed_source, verify_typed
+
+    if method == "bounds":
+        return verify_bounds(net, source, time_limit=time_limit)
+    if is_typed_source(source):  # valid one-hot assignments, real cells or bands
+        return verify_typed(net, source, max_inputs=max_inputs, time_limit=time_limit)
     n = len(source.inputs)
     if n <= max_inputs:
         return verify_exhaustive(net, source, max_inputs=max_inputs)
@@ -105,8 +112,8 @@ def verify_network(
     bound = f"{n} inputs are more than the exhaustive bound of {max_inputs}"
     try:
         check_step_network(net)
-    except UsageError as err:
-        return Report("undecided", "auto", 0, [], notes=[f"{bound}, and {err.message}"])
+    except UsageError:  # a soft (e.g. trained) network: branch-and-bound over sub-cubes
+        return verify_bounds(net, source, time_limit=time_limit)
     try:
         local = verify_local(net, source, max_inputs=max_inputs, time_limit=time_limit)
     except UsageError as err:
