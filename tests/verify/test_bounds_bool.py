@@ -155,3 +155,17 @@ def test_report_layout():
     bad = data["outputs"][1]
     assert not bad["agrees"] and 1 <= len(bad["counterexamples"]) <= 5
     assert set(bad["counterexamples"][0]) == {"x", "y", "z"}
+
+
+def test_verify_network_sends_soft_networks_above_the_bound_here():
+    from thresholdc.verify.auto import verify_network
+
+    names = [f"x{i}" for i in range(26)]
+    text = f"input {', '.join(names)}\ny = atleast(3, {', '.join(names)})\n"
+    net = compile_rules(text, activation="sigmoid", verify="none")
+    rep = verify_network(net, Source.from_text(text))
+    assert (rep.method, rep.result) == ("bounds", "equal")
+    wrong = Source.from_text(text.replace("atleast(3", "atleast(2"))
+    rep = verify_network(net, wrong)
+    assert rep.result == "different"
+    assert rep.outputs[0].disagreements == 325  # exactly 2 of 26 true: C(26, 2) = 26·25/2
