@@ -25,7 +25,9 @@ from .errors import (  # noqa: E402
 from .network.model import Network, Neuron, Output  # noqa: E402
 from .source import Source, load_source  # noqa: E402
 from .synth.identify import MAX_VARIABLES, Realisation, identify, is_threshold  # noqa: E402
+from .verify.bounds import verify_bounds  # noqa: E402
 from .verify.report import Report  # noqa: E402
+from .verify.typed import verify_typed  # noqa: E402
 
 __all__ = [
     "__version__",
@@ -35,6 +37,8 @@ __all__ = [
     "CompileResult",
     "load",
     "verify",
+    "verify_bounds",
+    "verify_typed",
     "load_source",
     "identify",
     "is_threshold",

@@ -98,10 +98,10 @@ def _options(given: dict[str, Any]) -> tuple[dict[str, Any], dict[str, Any]]:
         v = shape[key]
         if v is not None and (not isinstance(v, int) or isinstance(v, bool) or v < 0):
             raise UsageError(f"the {key!r} option must be a non-negative integer. Got {v!r}.")
-    if check["verify"] not in ("auto", "exhaustive", "local", "sat", "none"):
+    if check["verify"] not in ("auto", "exhaustive", "local", "sat", "bounds", "none"):
         raise UsageError(
             f"unknown verification method {check['verify']!r}; "
-            "choose auto, exhaustive, local, sat or none"
+            "choose auto, exhaustive, local, sat, bounds or none"
         )
     return shape, check
 

@@ -28,8 +28,10 @@ def register(subparsers: Any) -> None:
     )
     p.add_argument("network", metavar="NET", help="network file (.json; .npz/.onnx with --like)")
     p.add_argument("source", metavar="SOURCE", help="rule file, .bench or .blif netlist")
-    p.add_argument("--method", choices=("auto", "exhaustive", "local", "sat"), default="auto",
-                   help="auto: exhaustive up to --max-inputs, else local + SAT (default)")
+    p.add_argument("--method", choices=("auto", "exhaustive", "local", "sat", "bounds"),
+                   default="auto",
+                   help="auto: exhaustive up to --max-inputs, else local + SAT for step "
+                   "networks and branch-and-bound (bounds) for soft or trained ones (default)")
     p.add_argument("--max-inputs", type=int, default=24, metavar="N",
                    help="largest number of inputs checked exhaustively (default 24)")
     p.add_argument("--time-limit", type=float, default=60.0, metavar="S",
