@@ -23,9 +23,12 @@ from .errors import (  # noqa: E402
     VerificationUndecided,
 )
 from .network.model import Network, Neuron, Output  # noqa: E402
+from .network.relu import to_relu  # noqa: E402
+from .network.soften import apply_activation  # noqa: E402
 from .source import Source, load_source  # noqa: E402
 from .synth.identify import MAX_VARIABLES, Realisation, identify, is_threshold  # noqa: E402
 from .verify.bounds import verify_bounds  # noqa: E402
+from .verify.certificate import CertificateCheck, check_certificate  # noqa: E402
 from .verify.report import Report  # noqa: E402
 from .verify.typed import verify_typed  # noqa: E402
 
@@ -49,6 +52,10 @@ __all__ = [
     "Neuron",
     "Output",
     "Report",
+    "apply_activation",
+    "to_relu",
+    "check_certificate",
+    "CertificateCheck",
     "ThresholdcError",
     "RuleError",
     "NetworkFileError",

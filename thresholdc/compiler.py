@@ -128,6 +128,7 @@ def _synthesise(source: Source, shape: dict[str, Any]) -> tuple[Network, Network
 
 def _activate(net: Network, shape: dict[str, Any]) -> Network:
     """Activation, gains and layering (the soft-activation pass owns the details)."""
+    from . import progress
     from .network.soften import apply_activation
 
     return apply_activation(
@@ -137,6 +138,7 @@ def _activate(net: Network, shape: dict[str, Any]) -> Network:
         tolerance=shape["tolerance"],
         encoding=shape["encoding"],
         layered=shape["layered"],
+        progress=progress.is_enabled(),
     )
 
 
