@@ -136,3 +136,32 @@ def test_structural_hashing_shares_nodes():
     x = d.and_([a, b])
     d.side = 1
     assert d.and_([a, b]) != x
+
+
+def test_builders_with_constants_against_numpy():
+    # and/or/xor/ite over literals, constants among them, against numpy's own operators
+    rng = random.Random(13)
+    X = table(3)
+    for _ in range(300):
+        c = Circuit()
+        xs = [c.new_input() for _ in range(3)]
+        pool = xs + [-x for x in xs] + [TRUE, FALSE]
+        lits = [rng.choice(pool) for _ in range(rng.randint(1, 4))]
+        V = c.simulate(X)
+
+        def val(lit, V=V):
+            return V[abs(lit)] ^ (lit < 0)
+
+        cols = [val(lit) for lit in lits]
+        kind = rng.randrange(4)
+        if kind == 0:
+            got, want = c.and_(lits), np.logical_and.reduce(cols)
+        elif kind == 1:
+            got, want = c.or_(lits), np.logical_or.reduce(cols)
+        elif kind == 2:
+            got, want = c.xor_(lits), np.logical_xor.reduce(cols)
+        else:
+            a, b, d = (lits + [rng.choice(pool) for _ in range(3)])[:3]
+            got, want = c.ite(a, b, d), np.where(val(a), val(b), val(d))
+        V2 = c.simulate(X)  # again, now with the new node
+        assert np.array_equal(V2[abs(got)] ^ (got < 0), want), (kind, lits)

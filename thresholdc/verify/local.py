@@ -192,6 +192,7 @@ class _Local:
         self.assignments = 0
         self.margins: dict[str, float] = {}
         self.sat_cones = 0
+        self.symmetric_cones = 0
         self.position = {n.name: j for j, n in enumerate(net.neurons)}
         self.helpers: set[str] = set()
         self._integer: dict[str, tuple[list[int], int]] = {}
@@ -294,26 +295,51 @@ class _Local:
                 continue
             seen.add(u)
             base, _ = self.resolve(u)
-            if u != name and (base in self.cones or base in self.input_set):
+            if u != name:
                 c = self.carried.get(base)
-                if c is None or c[0] not in index:
+                if c is not None and c[0] in index:
+                    continue  # a unit carrying a leaf
+                if base in self.input_set:
                     self.problems.append(
-                        f"{name!r} reads unit {u!r}, which is not a leaf of its cone"
+                        f"{name!r} reads input {u!r}, which is not a leaf of its cone"
                     )
                     return False
-                continue
+                # any other neuron (a helper, or a listed neuron used as one) is evaluated
+                # as part of this neuron's sub-network
             if base not in self.neurons:
                 self.problems.append(f"{name!r} reads unit {u!r}, which carries no signal")
                 return False
             sub.append(base)
             stack.extend(self.neurons[base].inputs)
         self.helpers.update(u for u in sub if u != name)
-        if len(leaf_ids) > self.max_leaves:
-            return self._check_cone_sat(name, root, leaves, sub)
         m = len(leaf_ids)
-        rows = 1 << m
-        k = np.arange(rows, dtype=np.int64)
-        cols = [((k >> j) & 1).astype(bool) for j in range(m)]
+        if m > self.max_leaves:
+            if not self._symmetric(root, region, sub, index):
+                return self._check_cone_sat(name, root, leaves, sub)
+            # both sides depend only on how many leaves are true: one row per count
+            k = np.arange(m + 1, dtype=np.int64)
+            cols = [k > j for j in range(m)]
+            self.symmetric_cones += 1
+        else:
+            k = np.arange(1 << m, dtype=np.int64)
+            cols = [((k >> j) & 1).astype(bool) for j in range(m)]
+        got, want = self._evaluate(name, root, region, sub, cols, index)
+        self.assignments += len(k)
+        if not np.array_equal(got, want):
+            bad = int(np.nonzero(got != want)[0][0])
+            example = ", ".join(
+                f"{self._leaf_name(leaves, i)}={int(cols[index[i]][bad])}" for i in leaf_ids
+            )
+            self.mismatch.append(
+                f"{name!r} differs from its cone (root {root!r}) at {example}"
+            )
+            return False
+        return True
+
+    def _evaluate(self, name: str, root: str, region: list[str], sub: list[str],
+                  cols: list[np.ndarray], index: dict[int, int]) -> tuple[np.ndarray, np.ndarray]:
+        """The neuron's and the root's values on the rows given by the leaf columns."""
+        rows = len(cols[0]) if cols else 1
         val: dict[str, np.ndarray] = {}
 
         def signal(s: str) -> np.ndarray:
@@ -325,7 +351,6 @@ class _Local:
         for s in sorted(region, key=self.order.__getitem__):
             g = self.graph.gates[s]
             val[s] = _gate_value(g, [signal(a) for a in g.args], rows)
-        want = signal(root)
         units: dict[str, np.ndarray] = {}
 
         def unit(u: str) -> np.ndarray:
@@ -344,16 +369,53 @@ class _Local:
             units[u] = _step(W, K, vals, rows)
             if u == name and name in self.read_by_outputs:
                 self.margins[name] = float(_abs_z(n, vals, rows).min())
-        self.assignments += rows
-        if not np.array_equal(units[name], want):
-            bad = int(np.nonzero(units[name] != want)[0][0])
-            example = ", ".join(
-                f"{self._leaf_name(leaves, i)}={int(cols[index[i]][bad])}" for i in leaf_ids
-            )
-            self.mismatch.append(
-                f"{name!r} differs from its cone (root {root!r}) at {example}"
-            )
-            return False
+        return units[name], signal(root)
+
+    def _symmetric(self, root: str, region: list[str], sub: list[str],
+                   index: dict[int, int]) -> bool:
+        """Whether both sides provably depend only on the number of true leaves.
+
+        Gate side: the region is xor/xnor/not/buf gates whose parity form reads every leaf
+        an odd number of times, or the root alone is an and/or/nand/nor/threshold/equal gate
+        reading every leaf once, all with one polarity and one weight.  Network side: every
+        neuron of the sub-network reads every leaf once with one effective weight (negated
+        units count as −w), or none at all.
+        """
+        full = (1 << len(index)) - 1
+        ops = {self.graph.gates[s].op for s in region}
+        if ops <= {"xor", "xnor", "not", "buf"}:
+            lin: dict[str, int] = {}
+
+            def form(s: str) -> int:
+                return lin[s] if s in lin else 1 << index[self.cls[s][0]]
+
+            for s in sorted(region, key=self.order.__getitem__):
+                lin[s] = 0
+                for a in self.graph.gates[s].args:
+                    lin[s] ^= form(a)
+            if form(root) != full:
+                return False
+        else:
+            g = self.graph.gates[root]
+            if region != [root] or g.op not in ("and", "or", "nand", "nor", "threshold",
+                                                 "equal"):
+                return False
+            weights = g.weights if g.op in ("threshold", "equal") else (1,) * len(g.args)
+            terms = {(self.cls[a][1], w) for a, w in zip(g.args, weights)}
+            ids = [self.cls[a][0] for a in g.args]
+            if len(terms) != 1 or len(set(ids)) != len(ids) or len(ids) != len(index):
+                return False
+        for u in sub:
+            n = self.neurons[u]
+            eff: dict[int, float] = {}
+            for i, w in zip(n.inputs, n.weights):
+                base, neg = self.resolve(i)
+                if base in sub:
+                    continue
+                cid, flag = self.carried[base]
+                eff[index[cid]] = eff.get(index[cid], 0.0) + (-w if neg != flag else w)
+            if eff and (len(eff) != len(index) or len(set(eff.values())) != 1):
+                return False
         return True
 
     def _leaf_name(self, leaves: list[str], i: int) -> str:
@@ -552,6 +614,8 @@ def verify_local(
     proofs = [
         f"local: each of {len(loc.cones)} neuron(s) equals its gate cone "
         f"({loc.assignments} assignments, at most {widest} leaves"
+        + (f"; {loc.symmetric_cones} wide symmetric cone(s) by the count of true leaves"
+           if loc.symmetric_cones else "")
         + (f"; {loc.sat_cones} wide cone(s) by SAT" if loc.sat_cones else "") + ")"
     ]
     if getattr(source, "program", None) is not None:

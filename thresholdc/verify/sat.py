@@ -90,8 +90,12 @@ def miter_summary(outcome: MiterOutcome) -> str:
     st = outcome.stats
     parts = []
     if "candidates" in st:
-        parts.append(f"{st.get('matched', 0)} of {st.get('nodes_b', 0)} node(s) matched on "
-                     "small cuts")
+        if st.get("nodes_b", 0) == 0:
+            parts.append("every node of the second side is a node of the first after "
+                         "structural hashing")
+        else:
+            parts.append(f"{st.get('matched', 0)} of {st['nodes_b']} node(s) of the second "
+                         "side matched to the first on small cuts")
     if st.get("solver"):
         parts.append(f"{st['solver']}, {st.get('vars', 0)} variables, "
                      f"{st.get('clauses', 0)} clauses")

@@ -28,8 +28,8 @@ use one of four encodings chosen per node, every one an equivalence (both direct
 
 >>> c = Circuit()
 >>> a, b = c.new_input(), c.new_input()
->>> y = c.geq((2, 1), (a, -b), 2)   # [2a + ¬b ≥ 2] is just a
->>> y == a
+>>> y = c.geq((3, 2), (a, b), 2)   # [3a + 2b ≥ 2] is a ∨ b
+>>> y == c.or_([a, b])
 True
 """
 
@@ -126,7 +126,8 @@ class Circuit:
             if lit < 0:
                 flip ^= 1
             v = abs(lit)
-            if v == TRUE:
+            if v == TRUE:  # the constant variable is 1: it flips the parity
+                flip ^= 1
                 continue
             odd[v] = odd.get(v, 0) ^ 1
         level = sorted(v for v, c in odd.items() if c)

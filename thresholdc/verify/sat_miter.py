@@ -50,6 +50,7 @@ __all__ = [
     "default_solver",
     "SOLVER_PREFERENCE",
     "CUT_MAX",
+    "SYMMETRIC_MAX",
 ]
 
 #: Incremental back ends of python-sat, strongest first (assumptions and conflict budgets).
@@ -57,6 +58,7 @@ SOLVER_PREFERENCE = ("cadical195", "cadical153", "glucose42", "glucose4", "minis
 #: Back ends without assumptions (each round of the miter gets a fresh solver).
 NON_INCREMENTAL = ("kissat404",)
 CUT_MAX = 12
+SYMMETRIC_MAX = 256
 _REGION_B = 64
 _REGION_A = 400
 _ROWS = 1024
@@ -152,7 +154,9 @@ class _Sweep:
         return out
 
     def prove_on_cut(self, v: int, lit: int) -> bool:
-        """Whether node ``v`` equals ``lit`` on a closed cone of at most CUT_MAX leaves."""
+        """Whether node ``v`` equals ``lit`` on a closed cone: on every assignment of at
+        most CUT_MAX leaves, or — for up to SYMMETRIC_MAX leaves when both cones provably
+        depend only on the count of true leaves — on one assignment per count."""
         c = self.c
         region_b: list[int] = []
         frontier: set[int] = set()
@@ -170,26 +174,36 @@ class _Sweep:
                 stack.extend(abs(self.sub(a)) for a in c.nodes[x].args)
             else:
                 frontier.add(x)
-                if len(frontier) > CUT_MAX:
+                if len(frontier) > SYMMETRIC_MAX:
                     return False
         region_a = self._cone(abs(lit), frontier)
         if region_a is None:
             return False
-        # Leaves that are first-side nodes computable from the other leaves become inner
-        # nodes (otherwise the cut would treat them as free and see impossible combinations).
-        for x in sorted(frontier, reverse=True):
-            if x in c.nodes and x < self.first_b:
-                inner = self._cone(x, frontier - {x})
-                if inner is not None:
-                    frontier.discard(x)
-                    region_a.extend(inner)
+        if len(frontier) <= CUT_MAX:
+            # Leaves that are first-side nodes computable from the other leaves become inner
+            # nodes (otherwise the cut would see combinations that cannot occur).
+            for x in sorted(frontier, reverse=True):
+                if x in c.nodes and x < self.first_b:
+                    inner = self._cone(x, frontier - {x})
+                    if inner is not None:
+                        frontier.discard(x)
+                        region_a.extend(inner)
         region_a = sorted(set(region_a))
         leaves = sorted(frontier)
         m = len(leaves)
-        k = np.arange(1 << m)
-        vals: dict[int, np.ndarray] = {TRUE: np.ones(1 << m, dtype=bool)}
+        if m <= CUT_MAX:
+            k = np.arange(1 << m)
+            cols = [((k >> i) & 1).astype(bool) for i in range(m)]
+        else:
+            index = {x: i for i, x in enumerate(leaves)}
+            if not (self._symmetric(region_a, abs(lit), index, False)
+                    and self._symmetric(sorted(region_b), v, index, True)):
+                return False
+            k = np.arange(m + 1)
+            cols = [k > i for i in range(m)]
+        vals: dict[int, np.ndarray] = {TRUE: np.ones(len(k), dtype=bool)}
         for i, x in enumerate(leaves):
-            vals[x] = ((k >> i) & 1).astype(bool)
+            vals[x] = cols[i]
 
         def value(a: int) -> np.ndarray:
             return vals[a] if a > 0 else ~vals[-a]
@@ -200,6 +214,39 @@ class _Sweep:
             vals[x] = node_value(node, [value(a) for a in args])
         return bool(np.array_equal(value(v), value(lit)))
 
+    def _symmetric(self, region: list[int], root: int, index: dict[int, int],
+                   second: bool) -> bool:
+        """Whether a cone provably depends only on the count of true leaves: it is all xor
+        nodes whose parity form reads every leaf an odd number of times, or every node reads
+        every leaf once with one effective weight (−w on a negated leaf) or no leaf."""
+        nodes = self.c.nodes
+        if root in index:
+            return False
+
+        def args(x: int) -> tuple[int, ...]:
+            return tuple(self.sub(a) for a in nodes[x].args) if second else nodes[x].args
+
+        if all(nodes[x].op == "xor" for x in region):
+            lin: dict[int, int] = {}
+            for x in region:
+                form = 0
+                for a in args(x):
+                    va = abs(a)
+                    form ^= lin[va] if va in lin else (1 << index[va] if va in index else 0)
+                lin[x] = form
+            return lin.get(root) == (1 << len(index)) - 1
+        for x in region:
+            node = nodes[x]
+            if node.op not in ("and", "geq"):
+                return False
+            weights = node.weights if node.op == "geq" else (1,) * len(node.args)
+            eff: dict[int, int] = {}
+            for a, w in zip(args(x), weights):
+                if abs(a) in index:
+                    eff[abs(a)] = eff.get(abs(a), 0) + (w if a > 0 else -w)
+            if eff and (len(eff) != len(index) or len(set(eff.values())) != 1):
+                return False
+        return True
 
     def _cone(self, root: int, frontier: set[int]) -> list[int] | None:
         """First-side nodes from ``root`` back to ``frontier``; None when the walk reaches an
