@@ -22,6 +22,7 @@ from .errors import (  # noqa: E402
     UsageError,
     VerificationUndecided,
 )
+from .export import load_any, save_any  # noqa: E402
 from .network.model import Network, Neuron, Output  # noqa: E402
 from .network.relu import to_relu  # noqa: E402
 from .network.soften import apply_activation  # noqa: E402
@@ -39,6 +40,8 @@ __all__ = [
     "compile_file",
     "CompileResult",
     "load",
+    "save_any",
+    "load_any",
     "verify",
     "verify_bounds",
     "verify_typed",

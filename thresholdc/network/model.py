@@ -274,7 +274,8 @@ class Network:
 
     # ------------------------------------------------------------------ files
     def save(self, path: str) -> None:
-        """Write the network file for ``path``'s suffix (atomically: temp file, then rename).
+        """Write the network to ``path`` in the format its suffix names (``.json`` network
+        file, ``.npz``, ``.onnx``), atomically: a temporary file, then a rename.
 
         >>> import tempfile, os
         >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
@@ -282,9 +283,16 @@ class Network:
         >>> load(p).neurons[0].bias
         0.5
         """
-        from .fileformat import save
+        import os
 
-        save(self, path)
+        if os.path.splitext(str(path))[1].lower() == ".json":
+            from .fileformat import save
+
+            save(self, str(path))
+        else:
+            from ..export import save_any
+
+            save_any(self, str(path))
 
     def to_json(self) -> str:
         """The network file text (DESIGN.md §4)."""
