@@ -187,3 +187,34 @@ def test_entry_point_gives_no_traceback(tmp_path):
     assert proc.returncode == 2
     assert "Traceback" not in proc.stderr
     assert proc.stderr.startswith("thresholdc: error: ")
+
+
+def test_sigmoid_with_a_tolerance_stores_and_rechecks_its_certificate(tmp_path, capsys):
+    src = write(tmp_path, "adder.rules", ADDER)
+    net = str(tmp_path / "soft.json")
+    code, out, _ = run(capsys, "compile", src, "-o", net, "--activation", "sigmoid",
+                       "--tolerance", "0.05")
+    assert code == 0 and "certificate  tolerance 0.05" in out
+    code, out, _ = run(capsys, "verify", net, src)
+    assert code == 0 and "certificate: holds" in out
+
+
+def test_a_gain_too_small_still_writes_the_file_and_exits_1(tmp_path, capsys):
+    src = write(tmp_path, "adder.rules", ADDER)
+    net = tmp_path / "weak.json"
+    code, _, err = run(capsys, "compile", src, "-o", str(net), "--activation", "sigmoid",
+                       "--gain", "0.5")
+    assert code == 1 and net.exists()
+    assert "enough to misread an output" in err
+
+
+def test_tanh_needs_the_bipolar_encoding(tmp_path, capsys):
+    src = write(tmp_path, "adder.rules", ADDER)
+    code, _, err = run(capsys, "compile", src, "-o", str(tmp_path / "t.json"), "--activation",
+                       "tanh")
+    assert code == 2
+    assert err.strip() == "thresholdc: error: --activation tanh requires --encoding bipolar"
+    code, _, _ = run(capsys, "compile", src, "-o", str(tmp_path / "t.json"), "--activation",
+                     "tanh", "--encoding", "bipolar")
+    assert code == 0
+    assert json.loads((tmp_path / "t.json").read_text())["encoding"] == "bipolar"
