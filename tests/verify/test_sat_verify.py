@@ -11,16 +11,16 @@ import pytest
 
 pytest.importorskip("pysat.solvers")
 
-from thresholdc.errors import UsageError  # noqa: E402
-from thresholdc.network.model import Network, Neuron, Output  # noqa: E402
-from thresholdc.source import Source  # noqa: E402
-from thresholdc.verify.sat import verify_sat  # noqa: E402
-from thresholdc.verify.sat_miter import available_solvers, prove_equivalent  # noqa: E402
 from tests.verify.threshold_builders import (  # noqa: E402
     gate_for_gate,
     load_gen_circuits,
     multiplier_network,
 )
+from thresholdc.errors import UsageError  # noqa: E402
+from thresholdc.network.model import Network, Neuron, Output  # noqa: E402
+from thresholdc.source import Source  # noqa: E402
+from thresholdc.verify.sat import verify_sat  # noqa: E402
+from thresholdc.verify.sat_miter import available_solvers, prove_equivalent  # noqa: E402
 
 gc = load_gen_circuits()
 
