@@ -162,16 +162,19 @@ def _add_helper_options(h: Hashed, found: list[list[C.Cut]], options: list[list[
         for c in found[v]:
             if len(c.leaves) < 2:
                 continue
-            cls = O.classify(c.tt, len(c.leaves))
+            sup, cls = O.classify_cut(c)
             if cls is not None and cls[0] == "thr":
-                by_mask.setdefault(c.mask, []).append((v, c, cls[1], cls[2]))
+                ws = [0] * len(c.leaves)
+                for i, w in zip(sup, cls[1]):
+                    ws[i] = w
+                by_mask.setdefault(c.mask, []).append((v, c, tuple(ws), cls[2]))
     for v in range(1, len(h.op)):
         tried = 0
         for c in found[v]:
             n = len(c.leaves)
             if n < 2:
                 continue
-            cls = O.classify(c.tt, n)
+            cls = O.classify_cut(c)[1]
             if cls is not None and cls[0] != "sym":
                 continue
             tried += 1
@@ -210,11 +213,38 @@ class _Unit:
             name, node, opt, spec, neg, order)
 
 
+def _unit_names(gates: GateGraph, h: Hashed, needed: list[int], leaf_use: set[int]
+                ) -> tuple[dict[int, str], dict[int, int]]:
+    """The signal each needed node's unit is named after, and its polarity relative to the
+    node: the representative, unless only outputs read the node and only in the other
+    polarity (then the first such output signal, which saves an inverter).  A node that is a
+    leaf of some cone keeps its representative: a cone's gates reach the node through it."""
+    want: dict[int, dict[int, str]] = {}
+    for _, sig in gates.outputs:
+        lit = h.lit_of[sig]
+        want.setdefault(lit >> 1, {}).setdefault(lit & 1, sig)
+    name: dict[int, str] = {}
+    pol: dict[int, int] = {}
+    for x in h.inputs:
+        name[x], pol[x] = h.rep[x], 0
+    for v in needed:
+        rep, rp = h.rep[v], h.rep_neg[v]
+        w = want.get(v, {})
+        if w and rp not in w and h.op[v] != "real" and v not in leaf_use:
+            p = min(w)
+            name[v], pol[v] = w[p], p
+        else:
+            name[v], pol[v] = rep, rp
+    return name, pol
+
+
 def _build(gates: GateGraph, h: Hashed, cover: Cover, reserved: set[str]) -> Network:
     """The network of the chosen cover."""
     taken = set(gates.gates) | reserved
     needed = cover.needed()
     chosen = {v: cover.options[v][cover.choice[v]] for v in needed}
+    leaf_use = {x for v in needed for x in chosen[v].leaves}
+    uname, upol = _unit_names(gates, h, needed, leaf_use)
     # the node that owns each root key (the first needed node with that root function)
     owner: dict = {}
     for v in needed:
@@ -222,14 +252,8 @@ def _build(gates: GateGraph, h: Hashed, cover: Cover, reserved: set[str]) -> Net
         if k is not None and k not in owner:
             owner[k] = v
     units: list[_Unit] = []
-    by_key: dict = {}  # key -> (unit index, complement flag of the unit w.r.t. the key)
+    by_key: dict = {}  # key -> (unit index, complement of the unit relative to the key)
     spec_unit: dict[tuple[int, int], tuple[int, int]] = {}  # (node, spec) -> (unit, read neg)
-
-    def origin(v: int) -> str | None:
-        rep = h.rep[v]
-        return h.origin[v] if h.origin[v] is not None else rep
-
-    root_unit: dict[int, int] = {}
     for v in needed:
         o = chosen[v]
         keys = o.keys()
@@ -238,36 +262,27 @@ def _build(gates: GateGraph, h: Hashed, cover: Cover, reserved: set[str]) -> Net
             k, kflag = keys[j]
             if j == last:
                 idx = len(units)
-                units.append(_Unit(h.rep[v], v, o, j, h.rep_neg[v], idx))
-                root_unit[v] = idx
-                # the unit outputs node ^ rep_neg = spec ^ rep_neg; as a key: canon ^ kflag ^ ..
+                units.append(_Unit(uname[v], v, o, j, upol[v], idx))
+                # the unit gives node ^ pol = spec ^ pol = key ^ kflag ^ pol
                 if k is not None and owner.get(k) == v:
-                    by_key[k] = (idx, kflag ^ h.rep_neg[v])
+                    by_key[k] = (idx, kflag ^ upol[v])
                 continue
-            if k is not None and k in owner:
-                continue  # resolved after every root unit exists
-            if k is not None and k in by_key:
-                continue
+            if k is not None and (k in owner or k in by_key):
+                continue  # resolved once every root unit exists
             idx = len(units)
-            name = fresh_name(f"{h.rep[v]}~h", taken)
-            units.append(_Unit(name, v, o, j, 0, idx))
+            units.append(_Unit(fresh_name(f"{uname[v]}~h", taken), v, o, j, 0, idx))
             if k is not None:
                 by_key[k] = (idx, kflag)
             else:
                 spec_unit[(v, j)] = (idx, 0)
-    # resolve every helper ref of every chosen gadget to a unit and a read polarity
-    for v in needed:
+    for v in needed:  # every shared helper ref: its unit and whether it is read complemented
         o = chosen[v]
         keys = o.keys()
         for j in range(len(o.gadget) - 1):
             k, kflag = keys[j]
-            if k is None:
-                continue
-            idx, uflag = by_key[k]
-            spec_unit[(v, j)] = (idx, kflag ^ uflag)
-    name_of = {x: h.rep[x] for x in needed}
-    for x in h.inputs:
-        name_of[x] = h.rep[x]
+            if k is not None:
+                idx, uflag = by_key[k]
+                spec_unit[(v, j)] = (idx, kflag ^ uflag)
     neurons: list[Neuron] = []
     deps: list[list[int]] = []
     unit_index = {u.name: u.order for u in units}
@@ -279,7 +294,7 @@ def _build(gates: GateGraph, h: Hashed, cover: Cover, reserved: set[str]) -> Net
         for r, w in zip(s.refs, s.weights):
             if r >= 0:
                 x = o.leaves[r]
-                name, neg = name_of[x], h.rep_neg[x]
+                name, neg = uname[x], upol[x]
             else:
                 idx, neg = spec_unit[(u.node, -r - 1)]
                 name = units[idx].name
@@ -291,36 +306,30 @@ def _build(gates: GateGraph, h: Hashed, cover: Cover, reserved: set[str]) -> Net
         if u.neg:
             ws = [-w for w in ws]
             T = 1 - T
-        role_origin = origin(u.node)
-        neurons.append(Neuron(u.name, 0, tuple(ins), tuple(float(w) for w in ws),
-                              -T + 0.5, "step", "gate", role_origin))
+        v = u.node
+        bias = -T + 0.5
+        if h.op[v] == "real":  # [x > c] is z = x - c; [x < c] is z = c - x
+            op, c = h.real[v] or (">", 0.0)
+            ins = [uname[h.fanins[v][0] >> 1]]
+            ws = [1] if op == ">" else [-1]
+            bias = -float(c) if op == ">" else float(c)
+        origin = h.origin[v] if h.origin[v] is not None else h.rep[v]
+        if u.name != h.rep[v] and u.spec == len(o.gadget) - 1:
+            g = gates.gates[u.name]
+            origin = g.origin if g.origin is not None else u.name
+        neurons.append(Neuron(u.name, 0, tuple(ins), tuple(float(w) for w in ws), bias,
+                              "step", "gate", origin))
         deps.append([unit_index[n] for n in ins if n in unit_index])
-    order = _topological(deps)
-    neurons = [neurons[i] for i in order]
+    neurons = [neurons[i] for i in _topological(deps)]
     cones: dict[str, dict[str, object]] = {}
     for v in needed:
-        cones[h.rep[v]] = {"root": h.rep[v], "leaves": [name_of[x] for x in chosen[v].leaves]}
-    real_neurons(h, needed, neurons)
-    outputs, extra = _outputs(gates, h, chosen, neurons, cones)
+        cones[uname[v]] = {"root": uname[v], "leaves": [uname[x] for x in chosen[v].leaves]}
+    outputs, extra = _outputs(gates, h, chosen, uname, upol, neurons, cones)
     neurons.extend(extra)
     layered = assign_layers(neurons, gates.inputs)
     net = Network(gates.inputs, tuple(layered), tuple(outputs))
     cones = {n.name: cones[n.name] for n in layered if n.name in cones}
     return net.with_meta(cones=cones, aliases=dict(h.aliases))
-
-
-def real_neurons(h: Hashed, needed: list[int], neurons: list[Neuron]) -> None:
-    """Give ``real`` nodes (comparisons on a real input) their own weights and bias."""
-    index = {n.name: i for i, n in enumerate(neurons)}
-    for v in needed:
-        if h.op[v] != "real":
-            continue
-        op, c = h.real[v] or (">", 0.0)
-        i = index[h.rep[v]]
-        n = neurons[i]
-        x = h.rep[h.fanins[v][0] >> 1]
-        w, b = (1.0, -float(c)) if op == ">" else (-1.0, float(c))
-        neurons[i] = Neuron(n.name, 0, (x,), (w,), b, "step", "gate", n.origin)
 
 
 def _topological(deps: list[list[int]]) -> list[int]:
@@ -346,8 +355,9 @@ def _topological(deps: list[list[int]]) -> list[int]:
     return out
 
 
-def _outputs(gates: GateGraph, h: Hashed, chosen: dict[int, O.Option], neurons: list[Neuron],
-             cones: dict[str, dict[str, object]]) -> tuple[list[Output], list[Neuron]]:
+def _outputs(gates: GateGraph, h: Hashed, chosen: dict[int, O.Option], uname: dict[int, str],
+             upol: dict[int, int], neurons: list[Neuron], cones: dict[str, dict[str, object]]
+             ) -> tuple[list[Output], list[Neuron]]:
     """The outputs, and the neurons an output needs of its own (a constant, or a signal that
     is the complement of a unit)."""
     by_name = {n.name: n for n in neurons}
@@ -357,37 +367,23 @@ def _outputs(gates: GateGraph, h: Hashed, chosen: dict[int, O.Option], neurons: 
     for name, sig in gates.outputs:
         lit = h.lit_of[sig]
         x, neg = lit >> 1, lit & 1
-        g = gates.gates[sig]
-        origin = g.origin if g.origin is not None else sig
-        if x == 0 or h.op[x] == "input":
-            if x and not neg:
-                outputs.append(Output(name, h.rep[x]))
-                continue
-            if sig not in made:
-                made.add(sig)
-                if x == 0:
-                    extra.append(Neuron(sig, 0, (), (), 0.5 if neg else -0.5, "step", "gate",
-                                        origin))
-                    cones[sig] = {"root": sig, "leaves": []}
-                else:
-                    extra.append(Neuron(sig, 0, (h.rep[x],), (-1.0,), 0.5, "step", "gate",
-                                        origin))
-                    cones[sig] = {"root": sig, "leaves": [h.rep[x]]}
-            outputs.append(Output(name, sig))
-            continue
-        rep = h.rep[x]
-        if not (neg ^ h.rep_neg[x]):
-            outputs.append(Output(name, rep))
+        if x and neg == upol[x]:
+            outputs.append(Output(name, uname[x]))
             continue
         if sig not in made:
             made.add(sig)
-            src = by_name[rep]
-            if chosen[x].cost == 1 and h.op[x] != "real":
+            g = gates.gates[sig]
+            origin = g.origin if g.origin is not None else sig
+            if x == 0:
+                extra.append(Neuron(sig, 0, (), (), 0.5 if neg else -0.5, "step", "gate", origin))
+                cones[sig] = {"root": sig, "leaves": []}
+            elif h.op[x] == "input" or chosen[x].cost > 1 or h.op[x] == "real":
+                extra.append(Neuron(sig, 0, (uname[x],), (-1.0,), 0.5, "step", "gate", origin))
+                cones[sig] = {"root": sig, "leaves": [uname[x]]}
+            else:  # the complement of a one-neuron unit: the same inputs, negated
+                src = by_name[uname[x]]
                 extra.append(Neuron(sig, 0, src.inputs, tuple(-w for w in src.weights),
                                     -src.bias, "step", "gate", origin))
-                cones[sig] = {"root": sig, "leaves": list(cones[rep]["leaves"])}
-            else:
-                extra.append(Neuron(sig, 0, (rep,), (-1.0,), 0.5, "step", "gate", origin))
-                cones[sig] = {"root": sig, "leaves": [rep]}
+                cones[sig] = {"root": sig, "leaves": list(cones[uname[x]]["leaves"])}
         outputs.append(Output(name, sig))
     return outputs, extra

@@ -5,8 +5,8 @@ Rules
       to ``v`` passes through a leaf; it is *k-feasible* with at most ``k`` leaves.  The cuts of
       ``v`` are the unions of one cut (or the node itself) per argument of ``v``.
     * Each cut carries the function of ``v`` over its leaves (leaves in increasing node order,
-      leaf ``i`` being variable ``i`` of the table).  Leaves the function does not depend on are
-      dropped, so a cut is always its function's support.
+      leaf ``i`` being variable ``i`` of the table).  The function may ignore a leaf (through
+      reconvergence); the leaf stays, because a cut is what closes the cone structurally.
     * At most ``limit`` partial unions are kept while merging the arguments of a node, and at
       most ``keep`` cuts per node are passed on to its readers: the smallest, then those whose
       leaves lie deepest (a fixed order, so the result is deterministic).  Every candidate of a
@@ -136,7 +136,7 @@ def enumerate_cuts(h: Hashed, k: int, *, limit: int = 24, keep: int = 10) -> lis
         if op in ("input", "real", "const") or len(fans) > MAX_LOCAL:
             continue
         partial: dict[int, tuple[Cut, ...]] = {0: ()}
-        for lit in fans:
+        for lit in fans + tuple(2 * x for x in h.ghost.get(v, ())):
             f = lit >> 1
             choices = (_trivial(f), *passed[f])
             new: dict[int, tuple[Cut, ...]] = {}
@@ -161,16 +161,7 @@ def enumerate_cuts(h: Hashed, k: int, *, limit: int = 24, keep: int = 10) -> lis
                 if lit & 1:
                     t ^= full(n)
                 args.append(t)
-            tt = node_table(h, v, args, n, local)
-            sup = ttable.support(tt, n)
-            if len(sup) < n:
-                tt = ttable.shrink(tt, n, sup)
-                leaves = tuple(leaves[i] for i in sup)
-                mask = 0
-                for x in leaves:
-                    mask |= 1 << x
-            if mask not in out:
-                out[mask] = Cut(mask, leaves, tt)
+            out[mask] = Cut(mask, leaves, node_table(h, v, args, n, local))
         cands = sorted(out.values(), key=lambda c: (len(c.leaves), -sum(level[x] for x in c.leaves),
                                                     c.mask))
         found[v] = cands
@@ -197,7 +188,7 @@ def support_cuts(h: Hashed, k: int, support_limit: int, *, cone_limit: int = 400
             sup[v] = 1 << v
             continue
         s = 0
-        for lit in h.fanins[v]:
+        for lit in h.fanins[v] + tuple(2 * x for x in h.ghost.get(v, ())):
             t = sup[lit >> 1]
             if t is None:
                 s = None
@@ -217,8 +208,7 @@ def support_cuts(h: Hashed, k: int, support_limit: int, *, cone_limit: int = 400
         stack = [v]
         while stack and len(cone) <= cone_limit:
             u = stack.pop()
-            for lit in h.fanins[u]:
-                x = lit >> 1
+            for x in [lit >> 1 for lit in h.fanins[u]] + list(h.ghost.get(u, ())):
                 if x not in cone and h.op[x] != "input":
                     cone.add(x)
                     stack.append(x)
@@ -233,15 +223,5 @@ def support_cuts(h: Hashed, k: int, support_limit: int, *, cone_limit: int = 400
         for u in sorted(cone):
             args = [val[lit >> 1] ^ (full if lit & 1 else 0) for lit in h.fanins[u]]
             val[u] = node_table(h, u, args, n, local)
-        tt = val[v]
-        sp = ttable.support(tt, n)
-        if len(sp) < n:
-            tt = ttable.shrink(tt, n, sp)
-            leaves = tuple(leaves[i] for i in sp)
-        if len(leaves) <= k:
-            continue
-        mask = 0
-        for x in leaves:
-            mask |= 1 << x
-        out[v] = Cut(mask, leaves, tt)
+        out[v] = Cut(s, leaves, val[v])
     return out

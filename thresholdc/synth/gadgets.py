@@ -339,3 +339,151 @@ def truth_of_count(n: int, sigma: tuple[int, ...], values: tuple[int, ...]) -> i
         if s < 0:
             tt = ttable.flip(tt, n, i)
     return tt
+
+
+# ------------------------------------------------------------------------------ limited trees
+
+
+class _Builder:
+    """Specs appended one by one; a value is a ref (``≥ 0`` leaf, ``< 0`` spec) with a
+    complement flag, or a constant ``("c", 0|1)``."""
+
+    def __init__(self, limit: int, weight: int | None) -> None:
+        self.specs: list[Spec] = []
+        self.limit = limit
+        self.weight = weight
+        self.memo: dict[tuple, tuple] = {}
+
+    def spec(self, terms: list[tuple[tuple, int]], T: int) -> tuple:
+        """``[Σ w·value ≥ T]`` over values (folding complements and constants)."""
+        coef: dict[int, int] = {}
+        for (kind, ref, neg), w in terms:
+            if kind == "c":
+                T -= w * ref
+                continue
+            if neg:
+                coef[ref] = coef.get(ref, 0) - w
+                T -= w
+            else:
+                coef[ref] = coef.get(ref, 0) + w
+        live = {r: w for r, w in coef.items() if w}
+        lo = sum(w for w in live.values() if w < 0)
+        hi = sum(w for w in live.values() if w > 0)
+        if lo >= T:
+            return ("c", 1, 0)
+        if hi < T:
+            return ("c", 0, 0)
+        if len(live) == 1:
+            (r, w), = live.items()
+            return ("r", r, int(w < 0))  # [w·x ≥ T] with one input is x or not x
+        self.specs.append(_spec(live, T))
+        return ("r", -len(self.specs), 0)
+
+    def and_(self, vals: list[tuple]) -> tuple:
+        """The ``and`` of values within the fan-in limit."""
+        vals = list(vals)
+        while len(vals) > self.limit:
+            vals = vals[self.limit:] + [self.spec([(x, 1) for x in vals[:self.limit]],
+                                                  self.limit)]
+        return self.spec([(x, 1) for x in vals], len(vals))
+
+    def or_(self, vals: list[tuple]) -> tuple:
+        """The ``or`` of values within the fan-in limit."""
+        vals = list(vals)
+        while len(vals) > self.limit:
+            vals = vals[self.limit:] + [self.spec([(x, 1) for x in vals[:self.limit]], 1)]
+        return self.spec([(x, 1) for x in vals], 1)
+
+    def atleast(self, items: tuple[tuple[int, int], ...], T: int) -> tuple:
+        """``[Σ w·x ≥ T]`` over ``(leaf, w > 0)`` items: one neuron when it fits, else
+        ``∨ₛ ([Σ_A ≥ T − s] ∧ [Σ_B ≥ s])`` over the sums ``s`` the second half can reach."""
+        total = sum(w for _, w in items)
+        if T <= 0:
+            return ("c", 1, 0)
+        if T > total:
+            return ("c", 0, 0)
+        key = (items, T)
+        got = self.memo.get(key)
+        if got is not None:
+            return got
+        if len(items) == 1:
+            out = ("r", items[0][0], 0)
+        elif len(items) <= self.limit and (self.weight is None or max(
+                min(w, T) for _, w in items) <= self.weight):
+            out = self.spec([(("r", x, 0), min(w, T)) for x, w in items], T)
+        else:
+            half = len(items) // 2
+            A, B = items[:half], items[half:]
+            sums = {0}
+            for _, w in B:
+                sums |= {s + w for s in sums}
+            terms = []
+            for s in sorted(sums):
+                if s == 0:
+                    terms.append(self.atleast(A, T))
+                elif T - s <= 0:
+                    terms.append(self.atleast(B, s))
+                else:
+                    terms.append(self.and_([self.atleast(A, T - s), self.atleast(B, s)]))
+            terms = [t for t in terms if t != ("c", 0, 0)]
+            out = ("c", 1, 0) if ("c", 1, 0) in terms else self.or_(terms) if terms else (
+                "c", 0, 0)
+        self.memo[key] = out
+        return out
+
+    def finish(self, val: tuple) -> Gadget:
+        """The specs with ``val`` as the root (a copy neuron when the root is not a spec)."""
+        if val[0] == "c" or val[1] >= 0 or val[2] or val[1] != -len(self.specs):
+            self.spec_root(val)
+        return tuple(self.specs)
+
+    def spec_root(self, val: tuple) -> None:
+        """Append a root neuron that equals ``val``."""
+        if val[0] == "c":
+            self.specs.append(Spec((), (), 1 - val[1]))
+            return
+        r, neg = val[1], val[2]
+        self.specs.append(Spec((r,), (-1,), 0) if neg else Spec((r,), (1,), 1))
+
+
+def limited_threshold(weights: tuple[int, ...], T: int, limit: int | None,
+                      weight: int | None, equal: bool = False) -> Gadget:
+    """``[Σ wᵢ·xᵢ ≥ T]`` (or ``== T`` when ``equal``), weights of either sign, as a tree of
+    neurons of at most ``limit`` inputs and ``|weight| ≤ weight`` (``limit ≥ 2``,
+    ``weight ≥ 1``)."""
+    n = len(weights)
+    b = _Builder(limit if limit is not None else max(n, 2), weight)
+    # built over the literals yᵢ = xᵢ (w > 0) or 1 − xᵢ (w < 0, weight |w|), then each spec
+    # is rewritten to read xᵢ
+    items = []
+    neg: dict[int, bool] = {}
+    for i, w in enumerate(weights):
+        if w > 0:
+            items.append((i, w))
+        elif w < 0:
+            items.append((i, -w))
+            neg[i] = True
+            T += -w
+    geq = b.atleast(tuple(items), T)
+    root = geq if not equal else b.and_([geq, _not(b.atleast(tuple(items), T + 1))])
+    return tuple(_flip_leaves(s, neg) for s in b.finish(root))
+
+
+def _not(val: tuple) -> tuple:
+    """The complement of a value."""
+    if val[0] == "c":
+        return ("c", 1 - val[1], 0)
+    return ("r", val[1], 1 - val[2])
+
+
+def _flip_leaves(s: Spec, neg: dict[int, bool]) -> Spec:
+    """``s`` with each leaf in ``neg`` read complemented (``w·(1 − x) = −w·x + w``)."""
+    ws = []
+    T = s.T
+    for r, w in zip(s.refs, s.weights):
+        if r >= 0 and neg.get(r):
+            ws.append(-w)
+            T -= w
+        else:
+            ws.append(w)
+    return Spec(s.refs, tuple(ws), T)

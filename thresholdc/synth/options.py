@@ -132,19 +132,29 @@ def classify(tt: int, n: int) -> tuple | None:
     return None
 
 
-def _cut_options(c: Cut, limits: Limits) -> list[Option]:
-    """The options a cut gives by its function alone."""
+def classify_cut(c: Cut) -> tuple[tuple[int, ...], tuple | None]:
+    """The positions of the leaves ``c``'s function depends on, and the classification of the
+    function over them."""
     n = len(c.leaves)
-    cls = classify(c.tt, n)
+    sup = ttable.support(c.tt, n)
+    tt = c.tt if len(sup) == n else ttable.shrink(c.tt, n, sup)
+    return sup, classify(tt, len(sup))
+
+
+def _cut_options(c: Cut, limits: Limits) -> list[Option]:
+    """The options a cut gives by its function alone (built over the leaves the function
+    depends on; the cut keeps every leaf, which closes the cone)."""
+    sup, cls = classify_cut(c)
     if cls is None:
         return []
     if cls[0] == "const":
-        return [Option((), (Spec((), (), 1 - cls[1]),), c.tt)]
-    if cls[0] == "thr":
-        g = G.threshold(cls[1], cls[2])
-        return [Option(c.leaves, g, c.tt)] if limits.fits(g) else []
-    sigma = tuple(-1 if p else 1 for p in cls[1])
-    return [Option(c.leaves, g, c.tt) for g in G.symmetric(sigma, cls[2]) if limits.fits(g)]
+        gs: list[Gadget] = [(Spec((), (), 1 - cls[1]),)]
+    elif cls[0] == "thr":
+        gs = [G.threshold(cls[1], cls[2])]
+    else:
+        sigma = tuple(-1 if p else 1 for p in cls[1])
+        gs = G.symmetric(sigma, cls[2])
+    return [Option(c.leaves, _remap(g, list(sup)), c.tt) for g in gs if limits.fits(g)]
 
 
 # ------------------------------------------------------------------------------ structural options
@@ -188,10 +198,19 @@ def _gate_gadget(h: Hashed, v: int, lits: tuple[int, ...], limits: Limits) -> Ga
             tt = G.evaluate(g, n)
             for o in _cut_options(Cut(0, tuple(range(n)), tt), limits):
                 return o.gadget
-        return None
+        # a tree of smaller neurons always fits (fan-in ≥ 2, weight ≥ 1)
+        signed = []
+        T = h.threshold[v]
+        for w, x in zip(ws, neg):
+            signed.append(-w if x else w)
+            T -= w if x else 0
+        return G.limited_threshold(tuple(signed), T, F, W, equal=op == "eq")
     if op == "ite":
-        g = _polarise(G.ite(F), neg)
-        return g if limits.fits(g) else None
+        for g in (G.ite(None), G.ite(2)):
+            g = _polarise(g, neg)
+            if limits.fits(g):
+                return g
+        return None
     raise AssertionError(f"no gate gadget for op {op!r}")
 
 
@@ -215,10 +234,12 @@ def _gate_option(h: Hashed, v: int, lits: tuple[int, ...], limits: Limits) -> Op
     g = _gate_gadget(h, v, lits, limits)
     if g is None:
         return None
-    srt, where = _sorted_lits(h, v, lits)
+    ghost = h.ghost.get(v, ())
+    srt, where = _sorted_lits(h, v, tuple(lits) + tuple(2 * x for x in ghost))
     leaves = tuple(lit >> 1 for lit in srt)
-    tt = G.evaluate(_remap(g, where), len(leaves)) if len(leaves) <= KEY_LIMIT else None
-    return Option(leaves, _remap(g, where), tt)
+    g = _remap(g, where)
+    tt = G.evaluate(g, len(leaves)) if len(leaves) <= KEY_LIMIT else None
+    return Option(leaves, g, tt)
 
 
 def real_option(h: Hashed, v: int) -> Option:

@@ -11,7 +11,9 @@ Rules
       ``T = n`` become ``and``), ``eq`` (``Σ wᵢ·litᵢ == T``), ``ite`` (condition plain, ``then``
       plain), ``real`` (a comparison on a real input, kept as it is).  Constants fold.
     * Every node keeps one *representative*: the first signal (in graph order) that maps to it,
-      with the polarity of that signal relative to the node.  Every other signal is an *alias*
+      with the polarity of that signal relative to the node.  Arguments the representative's
+      gate reads but its canonical form dropped (``x ⊕ x``) are kept as *ghost* arguments, so
+      that cuts stay closed over the gate as written.  Every other signal is an *alias*
       of a representative (or of a constant).  An alias is one-level checkable: the signal's
       own gate, over its arguments read through the aliases, computes the same function as the
       representative's gate (or the constant).
@@ -50,6 +52,7 @@ class Hashed:
         self.rep_neg: list[int] = [0]
         self.origin: list[str | None] = [None]
         self.flat: dict[int, tuple[int, ...]] = {}
+        self.ghost: dict[int, tuple[int, ...]] = {}
         self.lit_of: dict[str, int] = {}
         self.aliases: dict[str, dict[str, object]] = {}
         self.inputs: list[int] = []
@@ -285,6 +288,12 @@ def hash_gates(gates: GateGraph) -> Hashed:
             h.rep[nid] = sig
             h.rep_neg[nid] = lit & 1
             h.origin[nid] = g.origin
+            # arguments the gate reads that its canonical form dropped (x ⊕ x, w·x − w·x):
+            # a cone of this signal must still reach them
+            kept = {a >> 1 for a in h.fanins[nid]}
+            ghost = sorted({a >> 1 for a in args} - kept - {0})
+            if ghost and op != "input":
+                h.ghost[nid] = tuple(ghost)
         elif op != "input":
             if nid == 0:
                 h.aliases[sig] = {"value": lit & 1}
@@ -297,9 +306,12 @@ def hash_gates(gates: GateGraph) -> Hashed:
 
 
 def _flatten(h: Hashed) -> None:
-    """Fill ``h.flat`` for ``and`` and ``xor`` nodes that read nodes of their own kind."""
+    """Fill ``h.flat`` for ``and`` and ``xor`` nodes that read nodes of their own kind (none
+    with ghost arguments, which a flattened chain would lose)."""
     for nid in range(1, len(h.op)):
         op = h.op[nid]
+        if nid in h.ghost or any((lit >> 1) in h.ghost for lit in h.fanins[nid]):
+            continue
         if op == "and":
             out: list[int] = []
             grew = False
@@ -327,7 +339,7 @@ def _flatten(h: Hashed) -> None:
                         odd[b] = odd.get(b, 0) ^ 1
                 else:
                     odd[lit] = odd.get(lit, 0) ^ 1
-            if grew:
-                fan = sorted(b for b, c in odd.items() if c)
+            if grew and all(odd.values()):  # a cancelled pair would drop a leaf the
+                fan = sorted(odd)              # gates still read
                 if len(fan) <= FLAT_LIMIT and len(fan) > len(h.fanins[nid]):
                     h.flat[nid] = tuple(fan)
