@@ -3,10 +3,11 @@
 The rows are split into ``folds`` parts (a seeded permutation).  For every λ of the grid and
 every part, the network is trained from the same start on the other parts (the same epochs,
 batches drawn in the same order for every λ, so λ is the only difference) and its data loss
-is measured on the held-out part.  The choice is the largest λ whose mean held-out loss is
-within one standard error of the best mean (the one-standard-error rule; Hastie, Tibshirani &
-Friedman, *The Elements of Statistical Learning*, §7.10, from memory): among choices the data
-cannot tell apart, the one that stays closest to the start.
+is measured on the held-out part.  The choice is the λ with the smallest mean held-out loss
+(on a tie, the larger λ: the one that stays closer to the start).  The standard error of each
+mean is reported too.  The stricter one-standard-error rule (the largest λ within one standard
+error of the best) was measured in the training benchmark and rejected: on ~120 noisy rows it
+always chose the strongest anchor and never repaired a wrong rule.
 
 >>> import numpy as np
 >>> from thresholdc.network.model import Network, Neuron, Output
@@ -36,7 +37,6 @@ __all__ = ["ANCHOR_GRID", "FOLDS", "FALLBACK_ANCHOR", "AnchorChoice", "choose_an
 ANCHOR_GRID = (0.0, 0.001, 0.003, 0.01, 0.03, 0.1)
 FOLDS = 3
 FALLBACK_ANCHOR = 0.01  # used when there are too few rows to cross-validate
-_ONE_SE = True
 
 
 @dataclass(frozen=True)
@@ -120,7 +120,5 @@ def choose_anchor(
     finally:
         if bar is not None:
             bar.close()
-    best = min(range(len(scores)), key=lambda i: (scores[i][1], i))
-    limit = scores[best][1] + (scores[best][2] if _ONE_SE else 0.0)
-    chosen = max((s for s in scores if s[1] <= limit), key=lambda s: s[0])
+    chosen = min(scores, key=lambda s: (s[1], -s[0]))
     return AnchorChoice(chosen[0], "cross-validation", tuple(scores))
