@@ -45,7 +45,8 @@ from ..synth.gates import Gate, GateGraph
 from .exhaustive import assignments, check_names
 from .report import OutputReport, Report
 from .sat import confirm_counterexample, gates_side, miter_summary, source_side
-from .sat_encode import check_step_network, integer_threshold
+from .sat_circuit import TRUE
+from .sat_encode import check_step_network, gate_literal, integer_threshold
 from .sat_miter import prove_equivalent
 
 __all__ = ["verify_local", "structural_classes", "LOCAL_MAX_LEAVES", "RULES_EXHAUSTIVE_MAX"]
@@ -54,6 +55,9 @@ LOCAL_MAX_LEAVES = 16
 RULES_EXHAUSTIVE_MAX = 16
 _CHUNK = 1 << 16
 _RANDOM_ROWS = 1024
+_REGION_MAX = 5000
+_CONST_SUPPORT = 12
+_CONST_REGION = 300
 
 Cls = tuple[int, bool]  # (class id, negated)
 
@@ -193,6 +197,7 @@ class _Local:
         self.margins: dict[str, float] = {}
         self.sat_cones = 0
         self.symmetric_cones = 0
+        self._constants: dict[str, bool | None] = {}
         self.position = {n.name: j for j, n in enumerate(net.neurons)}
         self.helpers: set[str] = set()
         self._integer: dict[str, tuple[list[int], int]] = {}
@@ -267,24 +272,14 @@ class _Local:
         leaf_ids = sorted({self.cls[s][0] for s in leaves})
         index = {i: k for k, i in enumerate(leaf_ids)}
         # the gate-graph region from the root back to the leaves
-        region: list[str] = []
-        seen: set[str] = set()
-        stack = [root]
-        while stack:
-            s = stack.pop()
-            if s in seen:
-                continue
-            seen.add(s)
-            if self.cls[s][0] in index:
-                continue
-            g = self.graph.gates[s]
-            if g.op == "input":
-                self.problems.append(
-                    f"the cone of {name!r} is not closed by its leaves: it reaches input {s!r}"
-                )
-                return False
-            region.append(s)
-            stack.extend(g.args)
+        found = self._region(root, index)
+        if found is None:
+            self.problems.append(
+                f"the cone of {name!r} is not closed by its leaves (and its root depends on "
+                "more than them)"
+            )
+            return False
+        region, extras = found
         # the sub-network from the leaf units to the neuron
         sub: list[str] = []
         seen = set()
@@ -312,10 +307,18 @@ class _Local:
             sub.append(base)
             stack.extend(self.neurons[base].inputs)
         self.helpers.update(u for u in sub if u != name)
+        consts: dict[int, bool] = {}
+        for e in extras:  # signals the leaves do not determine: constants, or free
+            value = self._constant(e)
+            if value is None:
+                index[self.cls[e][0]] = len(index)
+                leaf_ids.append(self.cls[e][0])
+            else:
+                consts[self.cls[e][0]] = value != self.cls[e][1]
         m = len(leaf_ids)
         if m > self.max_leaves:
-            if not self._symmetric(root, region, sub, index):
-                return self._check_cone_sat(name, root, leaves, sub)
+            if consts or not self._symmetric(root, region, sub, index):
+                return self._check_cone_sat(name, root, region, sub, index, consts)
             # both sides depend only on how many leaves are true: one row per count
             k = np.arange(m + 1, dtype=np.int64)
             cols = [k > j for j in range(m)]
@@ -323,7 +326,7 @@ class _Local:
         else:
             k = np.arange(1 << m, dtype=np.int64)
             cols = [((k >> j) & 1).astype(bool) for j in range(m)]
-        got, want = self._evaluate(name, root, region, sub, cols, index)
+        got, want = self._evaluate(name, root, region, sub, cols, index, consts)
         self.assignments += len(k)
         if not np.array_equal(got, want):
             bad = int(np.nonzero(got != want)[0][0])
@@ -336,8 +339,107 @@ class _Local:
             return False
         return True
 
+    def _region(self, root: str, index: dict[int, int]) -> tuple[list[str], list[str]] | None:
+        """The gates between the leaves and the root, and the signals standing as extra
+        free variables (none when the leaves close the cone).
+
+        When the walk from the root reaches an input that is not a leaf, the cone is not
+        closed; the region is then cut at the root's nearest signals that the leaves do not
+        determine, and those become free variables (the neuron must then equal the root for
+        every value of them: e.g. a root that is constant whatever they are).  None when
+        the cone is too large to search.
+        """
+        region: list[str] = []
+        seen: set[str] = set()
+        stack = [root]
+        closed = True
+        while stack:
+            s = stack.pop()
+            if s in seen:
+                continue
+            seen.add(s)
+            if self.cls[s][0] in index:
+                continue
+            g = self.graph.gates[s]
+            if g.op == "input":
+                closed = False
+                continue
+            region.append(s)
+            if len(region) > _REGION_MAX:
+                return None
+            stack.extend(g.args)
+        if closed:
+            return region, []
+        # which signals of the cone the leaves determine, bottom-up
+        determined: dict[str, bool] = {}
+        for s in sorted(region, key=self.order.__getitem__):
+            determined[s] = all(
+                self.cls[a][0] in index or determined.get(a, False)
+                or self._constant(a) is not None
+                for a in self.graph.gates[s].args
+            )
+        keep: list[str] = []
+        extra: dict[int, str] = {}
+        stack, seen = [root], set()
+        while stack:
+            s = stack.pop()
+            if s in seen:
+                continue
+            seen.add(s)
+            if self.cls[s][0] in index:
+                continue
+            if s != root and not determined.get(s, False):
+                extra.setdefault(self.cls[s][0], s)
+                continue
+            keep.append(s)
+            stack.extend(self.graph.gates[s].args)
+        return keep, [extra[i] for i in sorted(extra)]
+
+    def _constant(self, s: str) -> bool | None:
+        """The value of signal ``s`` when it is constant, found by enumerating its whole
+        support (at most :data:`_CONST_SUPPORT` inputs); else None (cached)."""
+        if s not in self._constants:
+            self._constants[s] = self._find_constant(s)
+        return self._constants[s]
+
+    def _find_constant(self, s: str) -> bool | None:
+        """See :meth:`_constant`."""
+        if self.graph.gates[s].op == "input":
+            return None
+        region: list[str] = []
+        support: list[str] = []
+        seen: set[str] = set()
+        stack = [s]
+        while stack:
+            x = stack.pop()
+            if x in seen:
+                continue
+            seen.add(x)
+            g = self.graph.gates[x]
+            if g.op == "input":
+                support.append(x)
+                if len(support) > _CONST_SUPPORT:
+                    return None
+                continue
+            region.append(x)
+            if len(region) > _CONST_REGION:
+                return None
+            stack.extend(g.args)
+        k = np.arange(1 << len(support), dtype=np.int64)
+        val = {x: ((k >> j) & 1).astype(bool) for j, x in enumerate(support)}
+        for x in sorted(region, key=self.order.__getitem__):
+            g = self.graph.gates[x]
+            val[x] = _gate_value(g, [val[a] for a in g.args], len(k))
+        v = val[s]
+        if v.all():
+            return True
+        if not v.any():
+            return False
+        return None
+
     def _evaluate(self, name: str, root: str, region: list[str], sub: list[str],
-                  cols: list[np.ndarray], index: dict[int, int]) -> tuple[np.ndarray, np.ndarray]:
+                  cols: list[np.ndarray], index: dict[int, int],
+                  consts: dict[int, bool]) -> tuple[np.ndarray, np.ndarray]:
         """The neuron's and the root's values on the rows given by the leaf columns."""
         rows = len(cols[0]) if cols else 1
         val: dict[str, np.ndarray] = {}
@@ -346,6 +448,8 @@ class _Local:
             if s in val:
                 return val[s]
             i, neg = self.cls[s]
+            if i in consts:
+                return np.full(rows, consts[i] != neg)
             return ~cols[index[i]] if neg else cols[index[i]]
 
         for s in sorted(region, key=self.order.__getitem__):
@@ -419,42 +523,33 @@ class _Local:
         return True
 
     def _leaf_name(self, leaves: list[str], i: int) -> str:
-        return next(s for s in leaves if self.cls[s][0] == i)
-
-    def _check_cone_sat(self, name: str, root: str, leaves: list[str], sub: list[str]) -> bool:
-        """A cone with many leaves: a miter between its region and its sub-network."""
-        reps = {}
+        """A signal of class ``i`` to name in a message (a leaf if one has it)."""
         for s in leaves:
-            reps.setdefault(self.cls[s][0], s)
-        names = [reps[i] for i in sorted(reps)]
-        graph, cls, position = self.graph, self.cls, self.position
+            if self.cls[s][0] == i:
+                return s
+        return next(s for s, c in self.cls.items() if c[0] == i)
+
+    def _check_cone_sat(self, name: str, root: str, region: list[str], sub: list[str],
+                        index: dict[int, int], consts: dict[int, bool]) -> bool:
+        """A cone with many leaves: a miter between its region and its sub-network, over
+        one input per leaf class (constants substituted)."""
+        ids = sorted(index, key=index.__getitem__)
+        names = [f"v{k}" for k in range(len(ids))]
+        position = self.position
 
         def leaf_lit(ins: dict[str, int], c: Cls) -> int:
-            lit = ins[reps[c[0]]]
+            if c[0] in consts:
+                return TRUE if consts[c[0]] != c[1] else -TRUE
+            lit = ins[names[index[c[0]]]]
             return -lit if c[1] else lit
 
         def side_gates(c: Any, ins: dict[str, int]) -> dict[str, int]:
-            from .sat_encode import encode_gates
-
-            # a graph whose inputs are the cone's leaves
             lit: dict[str, int] = {}
-            stack, order = [root], []
-            seen: set[str] = set()
-            while stack:
-                s = stack.pop()
-                if s in seen:
-                    continue
-                seen.add(s)
-                if cls[s][0] in reps:
-                    lit[s] = leaf_lit(ins, cls[s])
-                else:
-                    order.append(s)
-                    stack.extend(graph.gates[s].args)
-            part = {s: graph.gates[s] for s in sorted(order, key=self.order.__getitem__)}
-            sub_graph = GateGraph({**{s: Gate("input") for s in lit}, **part}, tuple(lit),
-                                  ((root, root),))
-            got = encode_gates(c, sub_graph, lit)
-            return {"y": got[root]}
+            for s in sorted(region, key=self.order.__getitem__):
+                g = self.graph.gates[s]
+                args = [lit[a] if a in lit else leaf_lit(ins, self.cls[a]) for a in g.args]
+                lit[s] = gate_literal(c, g, args, s)
+            return {"y": lit[root] if root in lit else leaf_lit(ins, self.cls[root])}
 
         def side_net(c: Any, ins: dict[str, int]) -> dict[str, int]:
             lit: dict[str, int] = {}

@@ -37,44 +37,49 @@ from ..syntax import ast
 from ..synth.gates import GateGraph
 from .sat_circuit import FALSE, TRUE, Circuit
 
-__all__ = ["encode_gates", "encode_network", "encode_program", "check_step_network"]
+__all__ = ["encode_gates", "gate_literal", "encode_network", "encode_program",
+           "check_step_network", "integer_threshold"]
+
+
+def gate_literal(c: Circuit, g: Any, args: list[int], name: str = "?") -> int:
+    """The literal of one gate of a gate graph, from its arguments' literals."""
+    op = g.op
+    if op == "const":
+        return TRUE if g.value else FALSE
+    if op == "buf":
+        return args[0]
+    if op == "not":
+        return -args[0]
+    if op in ("and", "nand"):
+        v = c.and_(args)
+        return -v if op == "nand" else v
+    if op in ("or", "nor"):
+        v = c.or_(args)
+        return -v if op == "nor" else v
+    if op in ("xor", "xnor"):
+        v = c.xor_(args)
+        return -v if op == "xnor" else v
+    if op == "threshold":
+        return c.geq(g.weights or (), args, int(g.threshold or 0))
+    if op == "equal":
+        w, t = g.weights or (), int(g.threshold or 0)
+        return c.and_([c.geq(w, args, t), -c.geq(w, args, t + 1)])
+    if op == "ite":
+        return c.ite(*args)
+    raise UsageError(
+        f"SAT verification cannot encode the gate op {op!r} (signal {name!r}); "
+        "use the exhaustive method"
+    )
 
 
 def encode_gates(c: Circuit, graph: GateGraph, inputs: dict[str, int]) -> dict[str, int]:
     """The literal of every signal of ``graph`` (one loop over the gates, in order)."""
     lit: dict[str, int] = {}
     for name, g in graph.gates.items():
-        op = g.op
-        args = [lit[a] for a in g.args]
-        if op == "input":
+        if g.op == "input":
             lit[name] = inputs[name]
-        elif op == "const":
-            lit[name] = TRUE if g.value else FALSE
-        elif op == "buf":
-            lit[name] = args[0]
-        elif op == "not":
-            lit[name] = -args[0]
-        elif op in ("and", "nand"):
-            v = c.and_(args)
-            lit[name] = -v if op == "nand" else v
-        elif op in ("or", "nor"):
-            v = c.or_(args)
-            lit[name] = -v if op == "nor" else v
-        elif op in ("xor", "xnor"):
-            v = c.xor_(args)
-            lit[name] = -v if op == "xnor" else v
-        elif op == "threshold":
-            lit[name] = c.geq(g.weights or (), args, int(g.threshold or 0))
-        elif op == "equal":
-            w, t = g.weights or (), int(g.threshold or 0)
-            lit[name] = c.and_([c.geq(w, args, t), -c.geq(w, args, t + 1)])
-        elif op == "ite":
-            lit[name] = c.ite(*args)
         else:
-            raise UsageError(
-                f"SAT verification cannot encode the gate op {op!r} (signal {name!r}); "
-                "use the exhaustive method"
-            )
+            lit[name] = gate_literal(c, g, [lit[a] for a in g.args], name)
     return lit
 
 

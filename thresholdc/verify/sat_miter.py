@@ -54,7 +54,7 @@ __all__ = [
 ]
 
 #: Incremental back ends of python-sat, strongest first (assumptions and conflict budgets).
-SOLVER_PREFERENCE = ("cadical195", "cadical153", "glucose42", "glucose4", "minisat22")
+SOLVER_PREFERENCE = ("cadical300", "cadical195", "cadical153", "glucose42", "glucose4", "minisat22")
 #: Back ends without assumptions (each round of the miter gets a fresh solver).
 NON_INCREMENTAL = ("kissat404",)
 CUT_MAX = 12
