@@ -65,7 +65,7 @@ def test_every_single_mutation_of_c17_is_judged_right():
                 # a changed neuron that still computes its cone is still proven
                 assert report.result in ("equal", "undecided")
             else:
-                # 1024 random rows cover all 32 inputs: the difference is shown
+                # the 256 random rows (fixed seed) cover all 32 inputs: the difference is shown
                 assert report.result == "different"
                 for c in report.counterexamples:
                     xn = np.array([[c.assignment[u] for u in bad.inputs]])

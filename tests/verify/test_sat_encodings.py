@@ -165,3 +165,20 @@ def test_builders_with_constants_against_numpy():
             got, want = c.ite(a, b, d), np.where(val(a), val(b), val(d))
         V2 = c.simulate(X)  # again, now with the new node
         assert np.array_equal(V2[abs(got)] ^ (got < 0), want), (kind, lits)
+
+
+def test_packed_simulation_matches_plain():
+    rng = random.Random(17)
+    c = Circuit()
+    pool = [c.new_input() for _ in range(6)]
+    for _ in range(40):
+        args = [rng.choice(pool) * rng.choice((1, -1)) for _ in range(3)]
+        kind = rng.randrange(4)
+        lit = [c.and_(args), c.xor_(args), c.ite(*args),
+               c.geq([rng.randint(-3, 3) for _ in args], args, rng.randint(-2, 4))][kind]
+        pool.append(lit)
+    X = np.random.default_rng(3).integers(0, 2, size=(203, 6)).astype(bool)
+    V = c.simulate(X)
+    P = c.simulate_packed(X)
+    unpacked = np.unpackbits(P, axis=1, count=203, bitorder="little").astype(bool)
+    assert np.array_equal(unpacked, V)

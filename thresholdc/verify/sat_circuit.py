@@ -230,6 +230,31 @@ class Circuit:
             V[v] = node_value(node, [V[a] if a > 0 else ~V[-a] for a in node.args])
         return V
 
+    def simulate_packed(self, X: np.ndarray) -> np.ndarray:
+        """Like :meth:`simulate`, bit-packed: ``(nvars + 1, ceil(rows / 8))`` of uint8, row
+        r in bit r % 8 (little bit order) of byte r // 8.  Memory stays small on big
+        circuits; ``geq`` nodes unpack their arguments to count."""
+        X = np.asarray(X, dtype=bool)
+        rows = X.shape[0]
+        P = np.zeros((self.nvars + 1, (rows + 7) // 8), dtype=np.uint8)
+        P[TRUE] = np.packbits(np.ones(rows, dtype=bool), bitorder="little")
+        for i, v in enumerate(self.inputs):
+            P[v] = np.packbits(X[:, i], bitorder="little")
+        ones = P[TRUE]
+        for v, node in self.nodes.items():
+            args = [P[a] if a > 0 else P[-a] ^ ones for a in node.args]
+            if node.op == "and":
+                P[v] = np.bitwise_and.reduce(args)
+            elif node.op == "xor":
+                P[v] = args[0] ^ args[1]
+            elif node.op == "ite":
+                P[v] = (args[0] & args[1]) | ((args[0] ^ ones) & args[2])
+            else:
+                bits = [np.unpackbits(a, count=rows, bitorder="little").astype(bool)
+                        for a in args]
+                P[v] = np.packbits(node_value(node, bits), bitorder="little")
+        return P
+
     # ------------------------------------------------------------------ CNF
     def to_cnf(self, roots: Iterable[int], rep: dict[int, int] | None = None) -> CNF:
         """CNF of the nodes the ``roots`` depend on, arguments substituted through ``rep``

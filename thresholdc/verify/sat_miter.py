@@ -122,7 +122,8 @@ class _Sweep:
         X = rng.integers(0, 2, size=(_ROWS, n)).astype(bool)
         X[0] = False
         X[1] = True
-        self.V = c.simulate(X)
+        self.rows = _ROWS
+        self.P = c.simulate_packed(X)  # bit-packed values of every variable
 
     def sub(self, lit: int) -> int:
         r = self.rep.get(abs(lit))
@@ -133,9 +134,9 @@ class _Sweep:
     def candidates(self) -> list[tuple[int, list[int]]]:
         """Each second-side variable with the first-side literals (up to
         :data:`_PARTNERS`, latest first) that have the same simulation values."""
-        packed = np.packbits(self.V, axis=1)
-        first = self.V[:, 0]
-        flipped = np.packbits(~self.V, axis=1)
+        packed = self.P
+        first = (self.P[:, 0] & 1).astype(bool)  # the value on row 0 (all inputs 0)
+        flipped = self.P ^ self.P[TRUE]
         table: dict[bytes, list[int]] = {}
         a_vars = [TRUE] + list(self.c.inputs) + [v for v in self.c.nodes if v < self.first_b]
         for v in reversed(a_vars):
@@ -270,14 +271,16 @@ class _Sweep:
 
     def differing_row(self, a: int, b: int) -> int | None:
         """A simulated row on which literals ``a`` and ``b`` differ, if any."""
-        va = self.V[abs(a)] ^ (a < 0)
-        vb = self.V[abs(b)] ^ (b < 0)
-        rows = np.nonzero(va != vb)[0]
+        diff = self.P[abs(a)] ^ self.P[abs(b)]
+        if (a < 0) != (b < 0):
+            diff = diff ^ self.P[TRUE]
+        bits = np.unpackbits(diff, count=self.rows, bitorder="little")
+        rows = np.nonzero(bits)[0]
         return int(rows[0]) if len(rows) else None
 
     def row(self, r: int) -> list[int]:
         """The input values of simulated row ``r``."""
-        return [int(self.V[v, r]) for v in self.c.inputs]
+        return [int(self.P[v, r // 8] >> (r % 8) & 1) for v in self.c.inputs]
 
 
 # ---------------------------------------------------------------------- solving (child)
