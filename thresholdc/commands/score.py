@@ -46,7 +46,10 @@ def register(subparsers: Any) -> None:
             "its label column. An output reads as true above 0.5 (0 in the bipolar encoding). "
             "At least one output needs a label column."
         ),
-        example="thresholdc score greenhouse.json circuits/greenhouse.csv --label open_vent=vent",
+        example=(
+            "thresholdc score bike_docks.json circuits/bike_docks.csv --positive yes "
+            "--label rebalance=van_sent --label mechanic=mechanic_sent"
+        ),
     )
     p.add_argument("network", metavar="NET", help="network file")
     p.add_argument("data", metavar="DATA", help="CSV file with a header row")

@@ -46,8 +46,8 @@ def register(subparsers: Any) -> None:
             "not wash out correct rules. The same command and seed write the same file."
         ),
         example=(
-            "thresholdc train greenhouse.json circuits/greenhouse.csv -o trained.json "
-            "--seed 1"
+            "thresholdc train bike_docks.json circuits/bike_docks.csv -o trained.json "
+            "--positive yes --label rebalance=van_sent --label mechanic=mechanic_sent --seed 1"
         ),
     )
     p.add_argument("network", metavar="NET", help="compiled network file")

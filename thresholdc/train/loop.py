@@ -234,6 +234,8 @@ def fit_params(
                 shown = {"loss": f"{entry.loss:.4f}"}
                 if entry.validation_accuracy is not None:
                     shown["val_acc"] = f"{entry.validation_accuracy:.3f}"
+                else:
+                    shown["acc"] = f"{entry.accuracy:.3f}"
                 bar.set_postfix(shown)
                 bar.update(1)
             if validation is not None:
