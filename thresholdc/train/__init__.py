@@ -1,1 +1,34 @@
-"""train stage of thresholdc."""
+"""Training: data files, scoring, and warm-start training of compiled networks.
+
+- :func:`load_data` reads a CSV file into the input units and labels of a network;
+- :func:`score` counts how often the network's outputs match the labels;
+- :func:`train` fits the network to labelled rows, starting from its rules with certified
+  sigmoid gains and an anchor toward them (see :mod:`thresholdc.train.fit` for the defaults).
+
+>>> import numpy as np
+>>> from thresholdc.network.model import Network, Neuron, Output
+>>> rules = Network(("a",), (Neuron("y", 1, ("a",), (1,), -0.5, origin="y"),), (Output("y", "y"),))
+>>> X = np.array([[0.0], [1.0]] * 4)
+>>> train(rules, X, X, epochs=5, anchor=0.01).network.decide([[0], [1]]).ravel().tolist()
+[False, True]
+"""
+
+from .data import Dataset, Table, load_data, parse_label_specs, read_table
+from .fit import DEFAULTS, TrainResult, train
+from .loop import Epoch
+from .scoring import score
+from .warmstart import prepare_start
+
+__all__ = [
+    "DEFAULTS",
+    "Dataset",
+    "Epoch",
+    "Table",
+    "TrainResult",
+    "load_data",
+    "parse_label_specs",
+    "prepare_start",
+    "read_table",
+    "score",
+    "train",
+]
