@@ -229,3 +229,19 @@ def test_subset_of_outputs():
     X, y = _data(rows=16)
     r = train(RULES, X, y[:, 1:], outputs=["z"], epochs=3, validation=0, anchor=0.0)
     assert r.outputs == ("z",)
+
+
+def test_real_valued_input_keeps_the_rule_at_the_start():
+    # random links from a real unit are scaled by its size in the data: with values up to
+    # 1000, unscaled 0.05-weights would move pre-activations by tens and break the rule
+    from thresholdc import compile_rules
+
+    net = compile_rules("input temp: real in [0, 1000] scale 10, door\nhot = temp > 500 and door\n")
+    rng = np.random.default_rng(2)
+    temp = rng.choice(np.r_[np.arange(0, 480, 7), np.arange(521, 1000, 7)], size=200)
+    door = rng.integers(0, 2, size=200)
+    X = np.column_stack([temp, door]).astype(float)
+    y = ((temp > 500) & (door == 1)).astype(float)[:, None]
+    for seed in range(3):
+        r = train(net, X, y, epochs=0, seed=seed, anchor=0.0, widen=2)
+        assert np.array_equal(r.start.decide(X), y > 0.5)

@@ -284,9 +284,11 @@ def train(
     X, T = _targets(network, X, y, names)
 
     streams = [np.random.default_rng(s) for s in np.random.SeedSequence(opt["seed"]).spawn(4)]
+    # a real-valued unit's random links are scaled down by its largest |value| in the data
+    scale = np.maximum(1.0, np.abs(X).max(axis=0))
     start: Start = prepare_start(
         network, rng=streams[0], init=opt["init"], widen=opt["widen"],
-        freeze=opt["freeze"], tolerance=opt["tolerance"],
+        freeze=opt["freeze"], tolerance=opt["tolerance"], input_scale=scale,
     )
     lay = start.layout
     if opt["loss"] == "cross-entropy" and lay.activations[-1] != "sigmoid":

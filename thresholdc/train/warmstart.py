@@ -196,6 +196,7 @@ def prepare_start(
     widen: int = 0,
     freeze: Sequence[str] = (),
     tolerance: float = 0.01,
+    input_scale: Sequence[float] | None = None,
 ) -> Start:
     """The dense starting point for training ``network`` (a new object; ``network`` unchanged).
 
@@ -212,6 +213,10 @@ def prepare_start(
         Rule neurons (or outputs) kept fixed with everything they read.
     tolerance : float
         Certified distance of every neuron from its step value (sigmoid gains).
+    input_scale : sequence of float, optional
+        The typical size of each input unit (1 for Boolean and one-hot units; for a real unit,
+        say, its largest absolute value in the data).  Random weights from a unit are divided
+        by it, so that a link the rules do not use stays small for real-valued inputs too.
 
     Returns
     -------
@@ -235,6 +240,10 @@ def prepare_start(
     W, b = layout.params(soft)
     frozen_set = set(frozen)
 
+    scale = np.ones(len(soft.inputs)) if input_scale is None else np.asarray(input_scale, float)
+    assert scale.shape == (len(soft.inputs),) and np.all(scale > 0)
+    per_column = [1.0 / scale] + [np.ones(len(u)) for u in layout.units[:-1]]
+
     # 2. dense: random small weights on every link the rules do not use (not into frozen rows)
     prev = list(soft.inputs)
     for L, units in enumerate(layout.units):
@@ -243,7 +252,7 @@ def prepare_start(
         for r, name in enumerate(units):
             for i in soft.neuron(name).inputs:
                 used[r, col[i]] = True
-        noise = rng.normal(0.0, LINK_SCALE, size=W[L].shape)
+        noise = rng.normal(0.0, LINK_SCALE, size=W[L].shape) * per_column[L][None, :]
         rows_frozen = np.array([u in frozen_set for u in units], dtype=bool)
         fill = ~used & ~rows_frozen[:, None]
         W[L] = np.where(fill, noise, W[L])
@@ -257,7 +266,8 @@ def prepare_start(
         taken = set(soft.inputs) | {n.name for n in soft.neurons}
         for L in range(len(units) - 1):
             names = [_unique(f"extra~{L + 1}~{k + 1}", taken) for k in range(widen)]
-            W[L] = np.vstack([W[L], rng.normal(0.0, LINK_SCALE, size=(widen, W[L].shape[1]))])
+            incoming = rng.normal(0.0, LINK_SCALE, size=(widen, W[L].shape[1]))
+            W[L] = np.vstack([W[L], incoming * per_column[L][None, :]])
             b[L] = np.concatenate([b[L], rng.normal(0.0, LINK_SCALE, size=widen)])
             out = rng.normal(0.0, LINK_SCALE, size=(W[L + 1].shape[0], widen))
             rows_frozen = np.array([u in frozen_set for u in units[L + 1]], dtype=bool)
@@ -286,6 +296,8 @@ def prepare_start(
             n_out, n_in = W[L].shape
             limit = math.sqrt(6.0 / (n_in + n_out))  # Glorot & Bengio 2010, from memory
             W[L] = rng.uniform(-limit, limit, size=(n_out, n_in))
+            if L == 0:
+                W[L] = W[L] / scale[None, :]
             b[L] = np.zeros(n_out)
         target_w = [np.zeros_like(w) for w in W]
         target_b = [np.zeros_like(x) for x in b]
