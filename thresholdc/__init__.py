@@ -28,6 +28,7 @@ from .network.relu import to_relu  # noqa: E402
 from .network.soften import apply_activation  # noqa: E402
 from .source import Source, load_source  # noqa: E402
 from .synth.identify import MAX_VARIABLES, Realisation, identify, is_threshold  # noqa: E402
+from .train import TrainResult, load_data, score, train  # noqa: E402
 from .verify.bounds import verify_bounds  # noqa: E402
 from .verify.certificate import CertificateCheck, check_certificate  # noqa: E402
 from .verify.report import Report  # noqa: E402
@@ -55,6 +56,10 @@ __all__ = [
     "Neuron",
     "Output",
     "Report",
+    "train",
+    "TrainResult",
+    "load_data",
+    "score",
     "apply_activation",
     "to_relu",
     "check_certificate",
