@@ -198,6 +198,8 @@ class _Local:
         self.sat_cones = 0
         self.symmetric_cones = 0
         self._constants: dict[str, bool | None] = {}
+        self._verdicts: dict[tuple, bool] = {}
+        self._tables: dict[int, tuple[np.ndarray, list[np.ndarray]]] = {}
         self.position = {n.name: j for j, n in enumerate(net.neurons)}
         self.helpers: set[str] = set()
         self._integer: dict[str, tuple[list[int], int]] = {}
@@ -324,11 +326,18 @@ class _Local:
             cols = [k > j for j in range(m)]
             self.symmetric_cones += 1
         else:
-            k = np.arange(1 << m, dtype=np.int64)
-            cols = [((k >> j) & 1).astype(bool) for j in range(m)]
-        got, want = self._evaluate(name, root, region, sub, cols, index, consts)
+            k, cols = self._table(m)
         self.assignments += len(k)
-        if not np.array_equal(got, want):
+        key = None
+        if m <= self.max_leaves and name not in self.read_by_outputs:
+            key = self._shape(root, region, sub, index, consts)
+            if self._verdicts.get(key) is True:  # the same cone, up to names, was proven
+                return True
+        got, want = self._evaluate(name, root, region, sub, cols, index, consts)
+        ok = bool(np.array_equal(got, want))
+        if key is not None:
+            self._verdicts[key] = ok
+        if not ok:
             bad = int(np.nonzero(got != want)[0][0])
             example = ", ".join(
                 f"{self._leaf_name(leaves, i)}={int(cols[index[i]][bad])}" for i in leaf_ids
@@ -394,6 +403,48 @@ class _Local:
             keep.append(s)
             stack.extend(self.graph.gates[s].args)
         return keep, [extra[i] for i in sorted(extra)]
+
+    def _table(self, m: int) -> tuple[np.ndarray, list[np.ndarray]]:
+        """Row numbers and leaf columns of the truth table of ``m`` leaves (cached)."""
+        if m not in self._tables:
+            k = np.arange(1 << m, dtype=np.int64)
+            self._tables[m] = (k, [((k >> j) & 1).astype(bool) for j in range(m)])
+        return self._tables[m]
+
+    def _shape(self, root: str, region: list[str], sub: list[str], index: dict[int, int],
+               consts: dict[int, bool]) -> tuple:
+        """A key equal for two cones that compute the same thing up to the names of their
+        signals and units: the region's gates and the sub-network's neurons with their
+        arguments written as positions (of leaves, of gates, of neurons) and constants."""
+        gates = sorted(region, key=self.order.__getitem__)
+        gpos = {s: i for i, s in enumerate(gates)}
+
+        def ref(a: str) -> tuple:
+            if a in gpos:
+                return ("g", gpos[a])
+            i, neg = self.cls[a]
+            return ("c", consts[i] != neg) if i in consts else ("l", index[i], neg)
+
+        units = sorted(sub, key=self.position.__getitem__)
+        upos = {u: i for i, u in enumerate(units)}
+
+        def uref(u: str) -> tuple:
+            base, neg = self.resolve(u)
+            if base in upos:
+                return ("n", upos[base], neg)
+            i, flag = self.carried[base]
+            return ("l", index[i], flag != neg)
+
+        gate_part = tuple(
+            (g.op, g.weights, g.threshold, g.value, tuple(ref(a) for a in g.args))
+            for g in (self.graph.gates[x] for x in gates)
+        )
+        unit_part = tuple(
+            (tuple(W), K, tuple(uref(i) for i in self.neurons[u].inputs))
+            for u in units
+            for W, K in (self.integer(u),)
+        )
+        return (len(index), gate_part, ref(root), unit_part)
 
     def _constant(self, s: str) -> bool | None:
         """The value of signal ``s`` when it is constant, found by enumerating its whole
