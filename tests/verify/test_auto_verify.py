@@ -145,3 +145,18 @@ def test_command_line(tmp_path, capsys):
     got = net.decide(np.array([[c["assignment"][u] for u in net.inputs]]))[0]
     assert bool(got[net.output_names.index(c["output"])]) != bool(c["expected"])
     assert c["expected"] == gc.reference("adder", 14, c["assignment"])[c["output"]]
+
+
+def test_big_tables_within_the_bound_go_local_first(monkeypatch):
+    src = Source.from_text(gc.multiplier(8), "m8.bench")  # 16 inputs, 544 gates
+    net = gate_for_gate(src.gates())
+    report = verify_network(net, src)
+    assert (report.result, report.method) == ("equal", "local")
+    # when local and SAT cannot decide, the exhaustive check still does (within the bound)
+    import thresholdc.verify.auto as auto
+
+    monkeypatch.setattr(auto, "verify_sat",
+                        lambda *a, **k: auto.Report("undecided", "sat", 0, [], notes=["x"]))
+    report = verify_network(replace(net, meta={}), src)
+    assert (report.result, report.method) == ("equal", "exhaustive")
+    assert "local: the network records no gate cones (meta.cones)" in report.notes
