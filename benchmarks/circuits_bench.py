@@ -99,7 +99,7 @@ def main() -> None:
             out, t = timed(prove_equivalent, src.inputs, src.outputs, source_side(src),
                            network_side(mapped), time_limit=args.limit, solver=s,
                            sweep=False, share=False)
-            ratio = f" ({t / max(t_ours, 1e-6):.0f}x)" if out.status == "equal" else ""
+            ratio = f" ({t / max(t_ours, 1e-6):.1f}x)" if out.status == "equal" else ""
             raw.append(fmt(t, out.status, args.limit) + ratio)
         totals["gates"] += gates
         totals["mapped"] += len(mapped.neurons)
