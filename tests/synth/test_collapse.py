@@ -16,8 +16,10 @@ import pytest
 
 from thresholdc.errors import UsageError
 from thresholdc.network.fileformat import check_network
+from thresholdc.source import Source
 from thresholdc.synth.collapse import collapse
 from thresholdc.synth.gates import Gate, GateGraph
+from thresholdc.verify.local import structural_classes, verify_local
 
 
 def rows(n: int) -> np.ndarray:
@@ -54,75 +56,37 @@ def gate_value(g: Gate, args: list[np.ndarray]) -> np.ndarray:
 
 
 def check_cones(net, g: GateGraph) -> None:
-    """Local verification: every alias one level, and every listed neuron over its leaves."""
+    """Local verification written here: every listed neuron, over its leaves alone, against
+    the gate-graph region between the leaves and its root (a signal of a leaf's structural
+    class stops the walk; the classes are the local check's own).  An input the walk reaches
+    that is not a leaf is a free variable: the root must not depend on it."""
+    cls = structural_classes(g)
     cones = net.meta["cones"]
-    aliases = net.meta.get("aliases", {})
     neurons = {n.name: n for n in net.neurons}
-    units = set(net.inputs) | set(neurons)
-
-    def resolve(a: str):
-        """An argument read through the aliases: (name, negated) or (None, constant)."""
-        al = aliases.get(a)
-        if al is None:
-            return (a, False)
-        if "value" in al:
-            return (None, bool(al["value"]))
-        return (al["signal"], bool(al["negated"]))
-
-    def one_level(sig: str, env: dict[str, np.ndarray], rows_: int) -> np.ndarray:
-        gate = g.gates[sig]
-        if gate.op == "const":
-            return np.full(rows_, bool(gate.value))
-        cols = []
-        for a in gate.args:
-            name, neg = resolve(a)
-            cols.append(np.full(rows_, neg) if name is None else env[name] ^ neg)
-        return gate_value(gate, cols)
-
-    # aliases: the signal's gate over resolved arguments equals the representative (as a
-    # variable, or its gate over resolved arguments), or the constant
-    for sig, al in aliases.items():
-        assert sig in g.gates and g.gates[sig].op != "input"
-        names = set()
-        for a in g.gates[sig].args:
-            name, _ = resolve(a)
-            if name is not None:
-                names.add(name)
-        if "signal" in al:
-            rep = al["signal"]
-            assert rep not in aliases, "an alias must point at a representative"
-            if g.gates[rep].op != "input":
-                for a in g.gates[rep].args:
-                    name, _ = resolve(a)
-                    if name is not None:
-                        names.add(name)
-            names.add(rep)
-        names = sorted(names)
-        assert len(names) <= 14
-        X = rows(len(names)).astype(bool)
-        env = {nm: X[:, i] for i, nm in enumerate(names)}
-        mine = one_level(sig, env, len(X))
-        if "value" in al:
-            assert np.all(mine == bool(al["value"])), sig
-            continue
-        neg = bool(al["negated"])
-        as_var = np.array_equal(mine, env[rep] ^ neg)
-        as_gate = g.gates[rep].op != "input" and np.array_equal(
-            mine, one_level(rep, env, len(X)) ^ neg)
-        assert as_var or as_gate, f"alias {sig} -> {al} does not hold"
-
     for name, cone in cones.items():
-        assert name in neurons and "~" not in name or name in g.gates
         root, leaves = cone["root"], cone["leaves"]
-        assert root == name and root in g.gates
+        assert name in neurons and root in g.gates
         for leaf in leaves:
-            assert leaf in units and (leaf in net.inputs or leaf in cones), leaf
-        n = len(leaves)
+            assert leaf in net.inputs or leaf in cones, leaf
+        leaf_class = {cls[leaf][0] for leaf in leaves}
+        # the region, and the inputs outside the leaves it reaches
+        free: list[str] = []
+        seen: set[str] = set()
+        stack = [root]
+        while stack:
+            s = stack.pop()
+            if s in seen or cls[s][0] in leaf_class:
+                continue
+            seen.add(s)
+            if g.gates[s].op == "input":
+                free.append(s)
+            stack.extend(g.gates[s].args)
+        n = len(leaves) + len(free)
         assert n <= 14
         X = rows(n).astype(bool)
-        leafcol = {leaf: X[:, i] for i, leaf in enumerate(leaves)}
-        # the network from the leaves alone
-        netval: dict[str, np.ndarray] = dict(leafcol)
+        by_class = {cls[leaf][0]: (X[:, i], cls[leaf][1]) for i, leaf in enumerate(leaves)}
+        # the network from the leaf units alone
+        netval: dict[str, np.ndarray] = {leaf: X[:, i] for i, leaf in enumerate(leaves)}
         stack = [name]
         while stack:
             u = stack[-1]
@@ -141,27 +105,21 @@ def check_cones(net, g: GateGraph) -> None:
             assert np.all(np.abs(z) >= 0.5)
             netval[u] = z > 0
             stack.pop()
-        # the gate graph from the leaves alone (through aliases)
-        gval: dict[str, np.ndarray] = dict(leafcol)
+        # the gate graph from the leaves (and the free inputs)
+        gval: dict[str, np.ndarray] = {x: X[:, len(leaves) + i] for i, x in enumerate(free)}
         stack = [root]
         while stack:
             s = stack[-1]
             if s in gval:
                 stack.pop()
                 continue
-            al = aliases.get(s)
-            if al is not None:
-                if "value" in al:
-                    gval[s] = np.full(len(X), bool(al["value"]))
-                    stack.pop()
-                elif al["signal"] in gval:
-                    gval[s] = gval[al["signal"]] ^ bool(al["negated"])
-                    stack.pop()
-                else:
-                    stack.append(al["signal"])
+            c, neg = cls[s]
+            if c in by_class:
+                col, lneg = by_class[c]
+                gval[s] = col ^ (neg != lneg)
+                stack.pop()
                 continue
             gate = g.gates[s]
-            assert gate.op != "input", f"cone of {name} reaches input {s} that is not a leaf"
             if gate.op == "const":
                 gval[s] = np.full(len(X), bool(gate.value))
                 stack.pop()
@@ -173,6 +131,13 @@ def check_cones(net, g: GateGraph) -> None:
             gval[s] = gate_value(gate, [gval[a] for a in gate.args])
             stack.pop()
         assert np.array_equal(netval[name], gval[root]), f"neuron {name} differs from its cone"
+
+
+def check_local(net, g: GateGraph) -> None:
+    """The project's local check (verify/local.py) on the network and the graph."""
+    src = Source("t.bench", "", "bench", netlist=g)
+    report = verify_local(net, src)
+    assert report.result == "equal", report
 
 
 def check_all(net, g: GateGraph, *, exhaustive: bool = True) -> None:
@@ -194,6 +159,7 @@ def check_all(net, g: GateGraph, *, exhaustive: bool = True) -> None:
         assert Z.size == 0 or np.abs(Z).min() >= 0.5
         assert np.array_equal(net.decide(X), g.simulate(X))
     check_cones(net, g)
+    check_local(net, g)
 
 
 def build(inputs, outputs, gates) -> GateGraph:
@@ -378,15 +344,38 @@ def test_ite_is_two_neurons():
 # ------------------------------------------------------------------------------ structure
 
 
-def test_duplicate_gates_are_merged_and_recorded_as_aliases():
+def test_duplicate_gates_are_merged():
     g = build(["a", "b", "c"], [("y", "y"), ("z", "z")], [
         ("p", Gate("and", ("a", "b"))), ("q", Gate("and", ("b", "a"))),
         ("y", Gate("xor", ("p", "c"))), ("z", Gate("xor", ("c", "q")))])
     net = collapse(g)
     check_all(net, g)
-    assert net.meta["aliases"]["q"] == {"signal": "p", "negated": False}
-    assert net.meta["aliases"]["z"] == {"signal": "y", "negated": False}
     assert [o.source for o in net.outputs] == ["y", "y"]
+    single = build(["a", "b", "c"], [("y", "y")], [
+        ("p", Gate("and", ("a", "b"))), ("y", Gate("xor", ("p", "c")))])
+    assert len(net.neurons) == len(collapse(single).neurons)
+
+
+def test_merged_signals_share_a_structural_class_of_the_local_check():
+    # every pair of signals carried by one node must be one class for verify/local.py
+    from thresholdc.synth.strash import hash_gates
+
+    g = full_adder_nand()
+    extra = [("d1", Gate("nand", ("b", "a"))), ("d2", Gate("or", ("n2", "n3"))),
+             ("d3", Gate("xor", ("a", "b", "a"))), ("d4", Gate("threshold", ("a", "b"),
+                                                              (2, 2), 3))]
+    g = build(g.inputs, g.outputs, [(s, x) for s, x in g.gates.items() if x.op != "input"]
+              + extra)
+    h = hash_gates(g)
+    cls = structural_classes(g)
+    seen: dict[int, tuple[int, bool]] = {}
+    for sig, lit in h.lit_of.items():
+        c = cls[sig]
+        if lit >> 1 in seen:
+            c0, flip = seen[lit >> 1]
+            assert c[0] == c0 and (c[1] != (lit & 1)) == flip, sig
+        else:
+            seen[lit >> 1] = (c[0], c[1] != (lit & 1))
 
 
 def test_outputs_of_inputs_negations_and_constants():

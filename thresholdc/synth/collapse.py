@@ -21,12 +21,10 @@ every signal and every ``reserved`` name, have the origin of the neuron they ser
 inside its cone.  ``meta["cones"]`` gives, for each neuron named after a signal, the gate-graph
 signal it computes and the leaves (signals carried by input units or named neurons) over which
 its sub-network is closed: evaluating the network from those leaves alone gives that neuron.
-``meta["aliases"]`` records the signals structural hashing merged: ``{SIGNAL: {"signal": REP,
-"negated": BOOL}}`` (the signal equals REP, or its complement) or ``{SIGNAL: {"value": 0|1}}``
-(a constant).  Each alias is one-level checkable: the signal's own gate over its arguments, each
-read through the aliases, computes the same function as REP's gate does over its arguments.
-Cones are stated over representatives: a signal met inside a cone that has an alias takes the
-value of its representative (or constant).
+Structural hashing merges only signals of one structural class of the local check
+(:func:`thresholdc.verify.local.structural_classes`), so a leaf or root may be any signal of
+its class, and a unit may be named after a signal of the other polarity of its class (an
+output that reads the node only complemented then needs no inverter).
 
 >>> from thresholdc.synth.gates import Gate, GateGraph
 >>> g = GateGraph.build(["a", "b", "c"], [("s", "s"), ("co", "co")], [
@@ -107,8 +105,8 @@ def collapse(
     -------
     Network
         Integer weights, half-integer biases, ``|z| ≥ ½`` on every 0/1 input; neurons in
-        topological order with their layers; ``meta["cones"]`` and ``meta["aliases"]`` as the
-        module docstring says.
+        topological order with their layers; ``meta["cones"]`` as the module docstring
+        says.
 
     Raises
     ------
@@ -202,23 +200,23 @@ def _add_helper_options(h: Hashed, found: list[list[C.Cut]], options: list[list[
 
 
 class _Unit:
-    """A neuron to build: spec ``spec`` of option ``opt`` of node ``node``, output complemented
-    relative to that spec when ``neg``."""
+    """A neuron to build from spec ``spec`` of the chosen option of node ``node``, its output
+    complemented relative to that spec when ``neg``; ``serves`` is the node whose signal it
+    carries (a root) or whose gadget first needed it (a helper)."""
 
-    __slots__ = ("name", "node", "opt", "spec", "neg", "order")
+    __slots__ = ("name", "node", "spec", "neg", "serves", "root")
 
-    def __init__(self, name: str, node: int, opt: O.Option, spec: int, neg: int,
-                 order: int) -> None:
-        self.name, self.node, self.opt, self.spec, self.neg, self.order = (
-            name, node, opt, spec, neg, order)
+    def __init__(self, name: str, node: int, spec: int, neg: int, serves: int,
+                 root: bool) -> None:
+        self.name, self.node, self.spec, self.neg, self.serves, self.root = (
+            name, node, spec, neg, serves, root)
 
 
-def _unit_names(gates: GateGraph, h: Hashed, needed: list[int], leaf_use: set[int]
+def _unit_names(gates: GateGraph, h: Hashed, needed: list[int]
                 ) -> tuple[dict[int, str], dict[int, int]]:
     """The signal each needed node's unit is named after, and its polarity relative to the
-    node: the representative, unless only outputs read the node and only in the other
-    polarity (then the first such output signal, which saves an inverter).  A node that is a
-    leaf of some cone keeps its representative: a cone's gates reach the node through it."""
+    node: the representative, unless outputs read the node only in the other polarity (then
+    the first such output signal, which saves an inverter)."""
     want: dict[int, dict[int, str]] = {}
     for _, sig in gates.outputs:
         lit = h.lit_of[sig]
@@ -230,7 +228,7 @@ def _unit_names(gates: GateGraph, h: Hashed, needed: list[int], leaf_use: set[in
     for v in needed:
         rep, rp = h.rep[v], h.rep_neg[v]
         w = want.get(v, {})
-        if w and rp not in w and h.op[v] != "real" and v not in leaf_use:
+        if w and rp not in w and h.op[v] != "real":
             p = min(w)
             name[v], pol[v] = w[p], p
         else:
@@ -243,52 +241,85 @@ def _build(gates: GateGraph, h: Hashed, cover: Cover, reserved: set[str]) -> Net
     taken = set(gates.gates) | reserved
     needed = cover.needed()
     chosen = {v: cover.options[v][cover.choice[v]] for v in needed}
-    leaf_use = {x for v in needed for x in chosen[v].leaves}
-    uname, upol = _unit_names(gates, h, needed, leaf_use)
-    # the node that owns each root key (the first needed node with that root function)
-    owner: dict = {}
-    for v in needed:
-        k = chosen[v].keys()[-1][0]
-        if k is not None and k not in owner:
-            owner[k] = v
+    uname, upol = _unit_names(gates, h, needed)
+    # Units are made node by node, spec by spec; a spec whose function of its leaves some
+    # unit already computes reads that unit (a root spec takes over such a helper unit and
+    # names it after its signal).  Every unit reads only units made before it, so the network
+    # is acyclic by construction.
     units: list[_Unit] = []
-    by_key: dict = {}  # key -> (unit index, complement of the unit relative to the key)
-    spec_unit: dict[tuple[int, int], tuple[int, int]] = {}  # (node, spec) -> (unit, read neg)
+    helper_ins: list[list[int]] = []  # per unit: the units it reads through helper refs
+    by_key: dict = {}  # key -> unit index
+    spec_unit: dict[tuple[int, int], int] = {}  # (node, spec) -> unit index
+
+    def make(name: str, v: int, j: int, neg: int, root: bool) -> int:
+        """A new unit built from spec ``j`` of ``v``'s option."""
+        units.append(_Unit(name, v, j, neg, v, root))
+        refs = chosen[v].gadget[j].refs
+        helper_ins.append([spec_unit[(v, -r - 1)] for r in refs if r < 0])
+        return len(units) - 1
+
+    def roots_inside(i: int) -> set[int]:
+        """The nodes whose root units lie in unit ``i``'s sub-network (helper edges only)."""
+        out: set[int] = set()
+        stack, seen = [i], set()
+        while stack:
+            x = stack.pop()
+            if x not in seen:
+                seen.add(x)
+                if units[x].root:
+                    out.add(units[x].serves)
+                stack.extend(helper_ins[x])
+        return out
+
     for v in needed:
         o = chosen[v]
         keys = o.keys()
         last = len(o.gadget) - 1
+        leafset = set(o.leaves)
+        mine: set[int] = set()
         for j in range(last + 1):
-            k, kflag = keys[j]
+            k, _ = keys[j]
+            got = by_key.get(k) if k is not None else None
+            # a shared unit must not pass through the unit of one of this cone's leaves: the
+            # check of this cone takes a leaf's unit as a free value
+            if got is not None and roots_inside(got) & leafset:
+                got = None
+                k = None
             if j == last:
-                idx = len(units)
-                units.append(_Unit(uname[v], v, o, j, upol[v], idx))
-                # the unit gives node ^ pol = spec ^ pol = key ^ kflag ^ pol
-                if k is not None and owner.get(k) == v:
-                    by_key[k] = (idx, kflag ^ upol[v])
+                if got is not None and not units[got].root and got not in mine:
+                    u = units[got]  # a helper of an earlier gadget: it becomes this root
+                    u.name, u.root, u.serves = uname[v], True, v
+                    # it gives spec_d ^ neg = key ^ kflag_d ^ neg; wanted: key ^ kflag ^ upol
+                    kd = chosen[u.node].keys()[u.spec][1]
+                    u.neg = kd ^ keys[j][1] ^ upol[v]
+                    spec_unit[(v, j)] = got
+                    continue
+                idx = make(uname[v], v, j, upol[v], True)
+                if k is not None and got is None and k not in by_key:
+                    by_key[k] = idx
+                spec_unit[(v, j)] = idx
                 continue
-            if k is not None and (k in owner or k in by_key):
-                continue  # resolved once every root unit exists
-            idx = len(units)
-            units.append(_Unit(fresh_name(f"{uname[v]}~h", taken), v, o, j, 0, idx))
-            if k is not None:
-                by_key[k] = (idx, kflag)
-            else:
-                spec_unit[(v, j)] = (idx, 0)
-    for v in needed:  # every shared helper ref: its unit and whether it is read complemented
-        o = chosen[v]
-        keys = o.keys()
-        for j in range(len(o.gadget) - 1):
-            k, kflag = keys[j]
-            if k is not None:
-                idx, uflag = by_key[k]
-                spec_unit[(v, j)] = (idx, kflag ^ uflag)
+            if got is not None:
+                spec_unit[(v, j)] = got
+                continue
+            idx = make(fresh_name(f"{uname[v]}~h", taken), v, j, 0, False)
+            mine.add(idx)
+            if k is not None and k not in by_key:
+                by_key[k] = idx
+            spec_unit[(v, j)] = idx
+
+    def canon_flag(i: int) -> int:
+        """The unit's output is its key's canonical function ^ this flag."""
+        u = units[i]
+        return chosen[u.node].keys()[u.spec][1] ^ u.neg
+
     neurons: list[Neuron] = []
     deps: list[list[int]] = []
-    unit_index = {u.name: u.order for u in units}
+    unit_index = {u.name: i for i, u in enumerate(units)}
     for u in units:
         o = chosen[u.node]
         s = o.gadget[u.spec]
+        keys = o.keys()
         coef: dict[str, int] = {}
         T = s.T
         for r, w in zip(s.refs, s.weights):
@@ -296,8 +327,10 @@ def _build(gates: GateGraph, h: Hashed, cover: Cover, reserved: set[str]) -> Net
                 x = o.leaves[r]
                 name, neg = uname[x], upol[x]
             else:
-                idx, neg = spec_unit[(u.node, -r - 1)]
-                name = units[idx].name
+                i = spec_unit[(u.node, -r - 1)]
+                name = units[i].name
+                kflag = keys[-r - 1][1]
+                neg = kflag ^ canon_flag(i)
             if neg:
                 w, T = -w, T - w
             coef[name] = coef.get(name, 0) + w
@@ -306,7 +339,7 @@ def _build(gates: GateGraph, h: Hashed, cover: Cover, reserved: set[str]) -> Net
         if u.neg:
             ws = [-w for w in ws]
             T = 1 - T
-        v = u.node
+        v = u.serves
         bias = -T + 0.5
         if h.op[v] == "real":  # [x > c] is z = x - c; [x < c] is z = c - x
             op, c = h.real[v] or (">", 0.0)
@@ -314,7 +347,7 @@ def _build(gates: GateGraph, h: Hashed, cover: Cover, reserved: set[str]) -> Net
             ws = [1] if op == ">" else [-1]
             bias = -float(c) if op == ">" else float(c)
         origin = h.origin[v] if h.origin[v] is not None else h.rep[v]
-        if u.name != h.rep[v] and u.spec == len(o.gadget) - 1:
+        if u.root and u.name != h.rep[v]:
             g = gates.gates[u.name]
             origin = g.origin if g.origin is not None else u.name
         neurons.append(Neuron(u.name, 0, tuple(ins), tuple(float(w) for w in ws), bias,
@@ -329,7 +362,22 @@ def _build(gates: GateGraph, h: Hashed, cover: Cover, reserved: set[str]) -> Net
     layered = assign_layers(neurons, gates.inputs)
     net = Network(gates.inputs, tuple(layered), tuple(outputs))
     cones = {n.name: cones[n.name] for n in layered if n.name in cones}
-    return net.with_meta(cones=cones, aliases=dict(h.aliases))
+    return _drop_unread_helpers(net.with_meta(cones=cones))
+
+
+def _drop_unread_helpers(net: Network) -> Network:
+    """Drop helpers no neuron reads (a helper whose reader was built from another gadget's
+    spec of the same function).  Listed neurons stay: a leaf that a cone's function ignores
+    still closes that cone."""
+    cones = net.meta["cones"]
+    live = {o.source for o in net.outputs} | set(cones)
+    for n in reversed(net.neurons):
+        if n.name in live:
+            live.update(n.inputs)
+    kept = tuple(n for n in net.neurons if n.name in live)
+    if len(kept) == len(net.neurons):
+        return net
+    return Network(net.inputs, kept, net.outputs, dict(net.meta))
 
 
 def _topological(deps: list[list[int]]) -> list[int]:

@@ -94,6 +94,10 @@ def node_table(h: Hashed, v: int, args: list[int], n: int, local: dict[int, int]
     if op == "ite":
         c, t, e = args
         return (c & t) | (~c & ttable.full(n) & e)
+    if op == "buf":
+        return args[0]
+    if op == "const":
+        return ttable.full(n) if h.value.get(v) else 0
     if op in ("thr", "eq"):
         tab = local.get(v)
         if tab is None:
@@ -133,7 +137,7 @@ def enumerate_cuts(h: Hashed, k: int, *, limit: int = 24, keep: int = 10) -> lis
         fans = h.fanins[v]
         if fans:
             level[v] = 1 + max(level[lit >> 1] for lit in fans)
-        if op in ("input", "real", "const") or len(fans) > MAX_LOCAL:
+        if op in ("input", "real") or len(fans) > MAX_LOCAL:
             continue
         partial: dict[int, tuple[Cut, ...]] = {0: ()}
         for lit in fans + tuple(2 * x for x in h.ghost.get(v, ())):

@@ -39,7 +39,7 @@ from . import ttable
 __all__ = [
     "Spec", "Gadget", "cost", "depth", "fan_in", "max_weight", "evaluate", "spec_tables",
     "threshold", "counting", "blocks", "steps", "symmetric", "equal", "ite", "helper",
-    "and_tree", "parity_tree",
+    "and_tree", "parity_tree", "limited_threshold", "prune", "fits",
 ]
 
 
@@ -466,7 +466,28 @@ def limited_threshold(weights: tuple[int, ...], T: int, limit: int | None,
             T += -w
     geq = b.atleast(tuple(items), T)
     root = geq if not equal else b.and_([geq, _not(b.atleast(tuple(items), T + 1))])
-    return tuple(_flip_leaves(s, neg) for s in b.finish(root))
+    return prune(tuple(_flip_leaves(s, neg) for s in b.finish(root)))
+
+
+def prune(g: Gadget) -> Gadget:
+    """``g`` without the specs the root does not read (directly or through others)."""
+    live = [False] * len(g)
+    live[-1] = True
+    for j in range(len(g) - 1, -1, -1):
+        if live[j]:
+            for r in g[j].refs:
+                if r < 0:
+                    live[-r - 1] = True
+    if all(live):
+        return g
+    new_index: dict[int, int] = {}
+    out: list[Spec] = []
+    for j, s in enumerate(g):
+        if live[j]:
+            new_index[j] = len(out)
+            out.append(Spec(tuple(r if r >= 0 else -new_index[-r - 1] - 1 for r in s.refs),
+                            s.weights, s.T))
+    return tuple(out)
 
 
 def _not(val: tuple) -> tuple:

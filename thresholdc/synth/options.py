@@ -183,8 +183,10 @@ def _gate_gadget(h: Hashed, v: int, lits: tuple[int, ...], limits: Limits) -> Ga
     n = len(lits)
     neg = tuple(lit & 1 for lit in lits)
     F, W = limits.fan_in, limits.weight
-    if op == "and":
+    if op in ("and", "buf"):
         return G.and_tree(tuple(-1 if x else 1 for x in neg), F if F is not None else n)
+    if op == "const":
+        return (Spec((), (), 1 - h.value[v]),)
     if op == "xor":
         g = G.parity_tree(n, F, W)
         return None if g is None else _polarise(g, neg)

@@ -3,20 +3,21 @@
 Rules
     * A *literal* is ``2·node + negated``; node 0 is the constant 0, so literal 0 is false and
       literal 1 is true.  ``not`` and ``buf`` gates make no node: they change the literal.
-    * Each gate is put in a one-level canonical form over its argument literals, then looked up
-      in a table, so duplicate gates become one node:
-      ``and`` (sorted, repeats dropped; ``or``/``nand``/``nor`` are ``and`` with complemented
-      edges), ``xor`` (arguments plain, the polarity moved to the output, pairs cancelled),
-      ``thr`` (``Σ wᵢ·litᵢ ≥ T`` with positive weights, repeats combined; all-ones weights with
-      ``T = n`` become ``and``), ``eq`` (``Σ wᵢ·litᵢ == T``), ``ite`` (condition plain, ``then``
-      plain), ``real`` (a comparison on a real input, kept as it is).  Constants fold.
-    * Every node keeps one *representative*: the first signal (in graph order) that maps to it,
-      with the polarity of that signal relative to the node.  Arguments the representative's
-      gate reads but its canonical form dropped (``x ⊕ x``) are kept as *ghost* arguments, so
-      that cuts stay closed over the gate as written.  Every other signal is an *alias*
-      of a representative (or of a constant).  An alias is one-level checkable: the signal's
-      own gate, over its arguments read through the aliases, computes the same function as the
-      representative's gate (or the constant).
+    * Which signals share a node is decided by the structural classes of the local check
+      (:func:`thresholdc.verify.local.structural_classes`, restated here so synthesis needs no
+      verifier): ``buf`` is its argument, ``not`` flips, ``or``/``nand``/``nor`` are (negated)
+      ``and`` of (negated) arguments, xor/xnor fold argument negations and cancel pairs,
+      threshold/equal gates fold negated arguments, ``ite`` with a negated condition swaps its
+      branches, commutative arguments are sorted.  So every merge is one the check recognises.
+    * Each node's *function* is the first gate of its class in a one-level canonical form over
+      its argument literals: ``and`` (sorted, repeats dropped), ``xor`` (arguments plain,
+      polarity moved out), ``thr`` (``Σ wᵢ·litᵢ ≥ T`` with positive weights, in lowest terms;
+      all-ones weights with ``T = n`` are ``and``), ``eq`` (``Σ wᵢ·litᵢ == T``), ``ite``,
+      ``buf`` (a gate equal to one literal), ``const``, ``real`` (a comparison on a real input).
+      Constants fold.  Arguments the gate reads that the canonical form dropped (``x·0``,
+      ``w·x − w·x``) are kept as *ghost* arguments, so cuts stay closed over the gate as written.
+    * Every node keeps one *representative*: the first signal (in graph order) of its class,
+      with the polarity of that signal relative to the node.
     * Associative chains are also *flattened* (for synthesis only; the nodes stay as they are):
       an ``and`` node lists the arguments of plain ``and`` arguments, an ``xor`` node those of
       its ``xor`` arguments, up to :data:`FLAT_LIMIT` arguments.
@@ -25,8 +26,8 @@ Rules
 >>> g = GateGraph.build(["a", "b"], [("y", "y"), ("z", "z")],
 ...     [("y", Gate("nand", ("a", "b"))), ("z", Gate("and", ("b", "a")))])
 >>> h = hash_gates(g)
->>> h.lit_of["y"] == h.lit_of["z"] ^ 1, h.aliases
-(True, {'z': {'signal': 'y', 'negated': True}})
+>>> h.lit_of["y"] == h.lit_of["z"] ^ 1, h.rep[h.lit_of["z"] >> 1]
+(True, 'y')
 """
 
 from __future__ import annotations
@@ -54,9 +55,8 @@ class Hashed:
         self.flat: dict[int, tuple[int, ...]] = {}
         self.ghost: dict[int, tuple[int, ...]] = {}
         self.lit_of: dict[str, int] = {}
-        self.aliases: dict[str, dict[str, object]] = {}
+        self.value: dict[int, int] = {}
         self.inputs: list[int] = []
-        self.table: dict[tuple, int] = {}
 
     def __len__(self) -> int:
         return len(self.op)
@@ -66,12 +66,8 @@ class Hashed:
 
     def node(self, key: tuple, fanins: tuple[int, ...], weights=None, threshold=None,
              real=None) -> int:
-        """The node for a canonical ``key`` (created if new); returns the node id."""
-        got = self.table.get(key)
-        if got is not None:
-            return got
+        """A new node of kind ``key[0]`` (identity is the caller's: one node per class)."""
         nid = len(self.op)
-        self.table[key] = nid
         self.op.append(key[0])
         self.fanins.append(fanins)
         self.weights.append(weights)
@@ -112,7 +108,7 @@ def _and(h: Hashed, lits: list[int]) -> int:
     if len(out) == 1:
         return out[0]
     fan = tuple(sorted(out))
-    return 2 * h.node(("and", fan), fan)
+    return 2 * h.node(("and",), fan)
 
 
 def _xor(h: Hashed, lits: list[int], neg: int) -> int:
@@ -128,7 +124,7 @@ def _xor(h: Hashed, lits: list[int], neg: int) -> int:
         return neg
     if len(fan) == 1:
         return fan[0] ^ neg
-    return 2 * h.node(("xor", fan), fan) ^ neg
+    return 2 * h.node(("xor",), fan) ^ neg
 
 
 def _linear(terms: list[tuple[int, int]], T: int) -> tuple[list[tuple[int, int]], int, int]:
@@ -181,7 +177,7 @@ def _thr(h: Hashed, terms: list[tuple[int, int]], T: int) -> int:
         T = -((-T) // g)
     fan = tuple(lit for _, lit in out)
     ws = tuple(w for w, _ in out)
-    return 2 * h.node(("thr", fan, ws, T), fan, ws, T)
+    return 2 * h.node(("thr",), fan, ws, T)
 
 
 def _eq(h: Hashed, terms: list[tuple[int, int]], T: int) -> int:
@@ -199,7 +195,7 @@ def _eq(h: Hashed, terms: list[tuple[int, int]], T: int) -> int:
         return 0  # 0 < T < w: never
     fan = tuple(lit for _, lit in out)
     ws = tuple(w for w, _ in out)
-    return 2 * h.node(("eq", fan, ws, T), fan, ws, T)
+    return 2 * h.node(("eq",), fan, ws, T)
 
 
 def _ite(h: Hashed, c: int, t: int, e: int) -> int:
@@ -228,10 +224,97 @@ def _ite(h: Hashed, c: int, t: int, e: int) -> int:
     if t & 1:
         t, e, neg = t ^ 1, e ^ 1, 1
     fan = (c, t, e)
-    return 2 * h.node(("ite", fan), fan) ^ neg
+    return 2 * h.node(("ite",), fan) ^ neg
 
 
 # ------------------------------------------------------------------------------ the pass
+
+
+def _classes(gates: GateGraph) -> tuple[dict[str, tuple[int, bool]], int | None]:
+    """The structural class ``(id, negated)`` of every signal (the rules of
+    :func:`thresholdc.verify.local.structural_classes`, restated), and the id of the constant
+    class (true when not negated)."""
+    table: dict[tuple, int] = {}
+    cls: dict[str, tuple[int, bool]] = {}
+
+    def cid(key: tuple) -> int:
+        return table.setdefault(key, len(table))
+
+    for name, g in gates.gates.items():
+        op = g.op
+        args = [cls[a] for a in g.args]
+        if op == "input":
+            cls[name] = (cid(("input", name)), False)
+        elif op == "const":
+            cls[name] = (cid(("const",)), not g.value)
+        elif op == "buf":
+            cls[name] = args[0]
+        elif op == "not":
+            cls[name] = (args[0][0], not args[0][1])
+        elif op in ("and", "nand", "or", "nor"):
+            inverted = op in ("or", "nor")
+            lits = sorted({(i, n != inverted) for i, n in args})
+            c = lits[0] if len(lits) == 1 else (cid(("and", tuple(lits))), False)
+            cls[name] = (c[0], c[1] != (op in ("nand", "or")))
+        elif op in ("xor", "xnor"):
+            odd: dict[int, int] = {}
+            flip = op == "xnor"
+            for i, n in args:
+                flip ^= n
+                odd[i] = odd.get(i, 0) ^ 1
+            ids = tuple(sorted(i for i, k in odd.items() if k))
+            if not ids:
+                cls[name] = (cid(("const",)), not flip)
+            elif len(ids) == 1:
+                cls[name] = (ids[0], flip)
+            else:
+                cls[name] = (cid(("xor", ids)), flip)
+        elif op in ("threshold", "equal"):
+            coef: dict[int, int] = {}
+            t = int(g.threshold or 0)
+            for (i, n), w in zip(args, g.weights or ()):
+                if n:
+                    t -= w
+                    coef[i] = coef.get(i, 0) - w
+                else:
+                    coef[i] = coef.get(i, 0) + w
+            terms = tuple(sorted((i, w) for i, w in coef.items() if w))
+            cls[name] = (cid((op, terms, t)), False)
+        elif op == "ite":
+            c, t, e = args
+            if c[1]:
+                t, e = e, t
+            cls[name] = (cid(("ite", c[0], t, e)), False)
+        else:
+            cls[name] = (cid(("opaque", name)), False)
+    return cls, table.get(("const",))
+
+
+def _canonical(h: Hashed, sig: str, op: str, g, args: list[int]) -> int:
+    """The literal of a gate in canonical form (creating at most one node)."""
+    if op == "buf":
+        return args[0]
+    if op == "not":
+        return args[0] ^ 1
+    if op == "and":
+        return _and(h, args)
+    if op == "nand":
+        return _and(h, args) ^ 1
+    if op == "or":
+        return _and(h, [a ^ 1 for a in args]) ^ 1
+    if op == "nor":
+        return _and(h, [a ^ 1 for a in args])
+    if op in ("xor", "xnor"):
+        return _xor(h, args, int(op == "xnor"))
+    if op == "threshold":
+        return _thr(h, list(zip(g.weights or (), args)), int(g.threshold or 0))
+    if op == "equal":
+        return _eq(h, list(zip(g.weights or (), args)), int(g.threshold or 0))
+    if op == "ite":
+        return _ite(h, args[0], args[1], args[2])
+    if op == "realcmp":
+        return 2 * h.node(("real",), (args[0],), real=g.real_test)
+    raise AssertionError(f"unknown gate op {op!r}")
 
 
 def hash_gates(gates: GateGraph) -> Hashed:
@@ -247,60 +330,46 @@ def hash_gates(gates: GateGraph) -> Hashed:
     """
     h = Hashed()
     lit_of = h.lit_of
+    classes, const_class = _classes(gates)
+    # class id -> (node, polarity): a signal of class (id, neg) is node ^ polarity ^ neg
+    of_class: dict[int, tuple[int, int]] = {}
     for sig, g in gates.gates.items():
         op = g.op
+        c, cneg = classes[sig]
+        got = of_class.get(c)
+        if got is not None:
+            lit_of[sig] = 2 * got[0] ^ got[1] ^ int(cneg)
+            continue
         args = [lit_of[a] for a in g.args]
         if op == "input":
-            nid = h.node(("input", sig), ())
+            nid = h.node(("input",), ())
             h.inputs.append(nid)
             lit = 2 * nid
-        elif op == "const":
-            lit = 1 if g.value else 0
-        elif op == "buf":
-            lit = args[0]
-        elif op == "not":
-            lit = args[0] ^ 1
-        elif op == "and":
-            lit = _and(h, args)
-        elif op == "nand":
-            lit = _and(h, args) ^ 1
-        elif op == "or":
-            lit = _and(h, [a ^ 1 for a in args]) ^ 1
-        elif op == "nor":
-            lit = _and(h, [a ^ 1 for a in args])
-        elif op in ("xor", "xnor"):
-            lit = _xor(h, args, int(op == "xnor"))
-        elif op == "threshold":
-            lit = _thr(h, list(zip(g.weights or (), args)), int(g.threshold or 0))
-        elif op == "equal":
-            lit = _eq(h, list(zip(g.weights or (), args)), int(g.threshold or 0))
-        elif op == "ite":
-            lit = _ite(h, args[0], args[1], args[2])
-        elif op == "realcmp":
-            fan = (args[0],)
-            nid = h.node(("real", args[0], g.real_test), fan, real=g.real_test)
-            lit = 2 * nid
+        elif c == const_class:
+            lit = int(not cneg)  # the constant class is node 0 (true when not negated)
         else:
-            raise AssertionError(f"unknown gate op {op!r}")
+            size = len(h.op)
+            lit = _canonical(h, sig, op, g, args)
+            if len(h.op) == size:  # the class reduced to a literal: a node of its own
+                if lit <= 1:
+                    nid = h.node(("const",), ())
+                    h.value[nid] = lit
+                else:
+                    nid = h.node(("buf",), (lit,))
+                lit = 2 * nid
         lit_of[sig] = lit
+        of_class[c] = (lit >> 1, (lit & 1) ^ int(cneg))
         nid = lit >> 1
         if nid and h.rep[nid] is None:
             h.rep[nid] = sig
             h.rep_neg[nid] = lit & 1
             h.origin[nid] = g.origin
-            # arguments the gate reads that its canonical form dropped (x ⊕ x, w·x − w·x):
-            # a cone of this signal must still reach them
+            # arguments the gate reads that its canonical form dropped (x·0, x ⊕ x,
+            # w·x − w·x): a cone of this signal must still reach them
             kept = {a >> 1 for a in h.fanins[nid]}
             ghost = sorted({a >> 1 for a in args} - kept - {0})
             if ghost and op != "input":
                 h.ghost[nid] = tuple(ghost)
-        elif op != "input":
-            if nid == 0:
-                h.aliases[sig] = {"value": lit & 1}
-            else:
-                h.aliases[sig] = {
-                    "signal": h.rep[nid], "negated": bool((lit ^ h.rep_neg[nid]) & 1),
-                }
     _flatten(h)
     return h
 
