@@ -220,3 +220,14 @@ def test_names_must_match():
     net = Network(("a", "b"), (Neuron("z", 1, ("a", "b"), (1, 1), -1.5),), (Output("z", "z"),))
     with pytest.raises(UsageError, match="output names differ"):
         verify_sat(net, src, time_limit=5)
+
+
+def test_constant_network_against_a_tautology():
+    # the network's output is constant 1, the rule a tautology that is not constant by
+    # construction: the miter's constant literal must be pinned to true
+    src = Source.from_text("input x0, x1\nd0 = x0 implies atleast(1, x0, x1)\n", "t.rules")
+    net = Network(("x0", "x1"), (Neuron("d0", 1, ("x0",), (-1,), 1.5),), (Output("d0", "d0"),))
+    assert truly_equal(net, src)
+    assert verify_sat(net, src, time_limit=10).result == "equal"
+    low = Network(("x0", "x1"), (Neuron("d0", 1, ("x0",), (-1,), 0.5),), (Output("d0", "d0"),))
+    assert verify_sat(low, src, time_limit=10).result == "different"

@@ -84,34 +84,45 @@ def structural_classes(graph: GateGraph) -> dict[str, Cls]:
     def cid(key: tuple) -> int:
         return table.setdefault(key, len(table))
 
+    one = cid(("const",))  # the class of constant 1 is (one, False); of 0, (one, True)
     for name, g in graph.gates.items():
         op = g.op
         args = [cls[a] for a in g.args]
         if op == "input":
             cls[name] = (cid(("input", name)), False)
         elif op == "const":
-            cls[name] = (cid(("const",)), not g.value)
+            cls[name] = (one, not g.value)
         elif op == "buf":
             cls[name] = args[0]
         elif op == "not":
             cls[name] = (args[0][0], not args[0][1])
         elif op in ("and", "nand", "or", "nor"):
             inverted = op in ("or", "nor")
-            lits = sorted({(i, n != inverted) for i, n in args})
-            if len(lits) == 1:
-                c = lits[0]
+            lits = {(i, n != inverted) for i, n in args}
+            if (one, True) in lits or any((i, not n) in lits for i, n in lits):
+                c = (one, True)  # a false argument, or x and not x
             else:
-                c = (cid(("and", tuple(lits))), False)
+                lits.discard((one, False))
+                ordered = sorted(lits)
+                if not ordered:
+                    c = (one, False)
+                elif len(ordered) == 1:
+                    c = ordered[0]
+                else:
+                    c = (cid(("and", tuple(ordered))), False)
             cls[name] = (c[0], c[1] != (op in ("nand", "or")))
         elif op in ("xor", "xnor"):
             odd: dict[int, int] = {}
             flip = op == "xnor"
             for i, n in args:
                 flip ^= n
+                if i == one:  # the constant 1 flips the parity
+                    flip ^= True
+                    continue
                 odd[i] = odd.get(i, 0) ^ 1
             ids = tuple(sorted(i for i, k in odd.items() if k))
             if not ids:
-                cls[name] = (cid(("const",)), not flip)
+                cls[name] = (one, not flip)
             elif len(ids) == 1:
                 cls[name] = (ids[0], flip)
             else:
@@ -120,7 +131,9 @@ def structural_classes(graph: GateGraph) -> dict[str, Cls]:
             coef: dict[int, int] = {}
             t = int(g.threshold or 0)
             for (i, n), w in zip(args, g.weights or ()):
-                if n:
+                if i == one:
+                    t -= 0 if n else w
+                elif n:
                     t -= w
                     coef[i] = coef.get(i, 0) - w
                 else:
@@ -131,7 +144,12 @@ def structural_classes(graph: GateGraph) -> dict[str, Cls]:
             c, t, e = args
             if c[1]:
                 t, e = e, t
-            cls[name] = (cid(("ite", c[0], t, e)), False)
+            if c[0] == one:
+                cls[name] = e if c[1] else t  # (one, True) is 0: the swapped branches
+            elif t == e:
+                cls[name] = t
+            else:
+                cls[name] = (cid(("ite", c[0], t, e)), False)
         else:
             cls[name] = (cid(("opaque", name)), False)
     return cls

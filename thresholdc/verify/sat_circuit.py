@@ -276,7 +276,7 @@ class Circuit:
             keep.add(v)
             stack.extend(abs(sub(a)) for a in self.nodes[v].args)
         em = _Emitter(self.nvars)
-        em.clause([TRUE])
+        em.clauses.append([TRUE])  # the constant: a unit clause (clause() would drop it)
         for v in sorted(keep):
             node = self.nodes[v]
             em.node(v, node, tuple(sub(a) for a in node.args))
@@ -610,7 +610,7 @@ def threshold_cnf(weights: Iterable[int], k: int, method: str) -> tuple[CNF, int
     xs = list(range(2, 2 + len(weights)))
     y = 2 + len(weights)
     em = _Emitter(y)
-    em.clause([TRUE])
+    em.clauses.append([TRUE])  # the constant: a unit clause (clause() would drop it)
     lits, ws = tuple(xs), tuple(weights)
     if method == "exact":
         em._exact(y, ws, lits, k)
