@@ -172,9 +172,8 @@ def _add_helper_options(h: Hashed, found: list[list[C.Cut]], options: list[list[
             n = len(c.leaves)
             if n < 2:
                 continue
-            cls = O.classify_cut(c)[1]
-            if cls is not None and cls[0] != "sym":
-                continue
+            if O.classify_cut(c)[1] is not None:
+                continue  # threshold or symmetric: it has its own gadgets
             tried += 1
             if tried > _HELPER_CUTS:
                 break

@@ -79,26 +79,35 @@ class Option:
             if n > KEY_LIMIT:
                 self._keys = tuple((None, 0) for _ in self.gadget)
             else:
-                tabs = G.spec_tables(self.gadget, n)
+                root, parts = _template_keys(self.gadget, n)
                 if self.tt is not None:
-                    assert tabs[-1] == self.tt, "a gadget disagrees with its cut's function"
-                out = []
-                reach: list[tuple[int, ...]] = []
-                for s, t in zip(self.gadget, tabs):
-                    r: set[int] = set()
-                    for x in s.refs:
-                        r.update((x,) if x >= 0 else reach[-x - 1])
-                    pos = tuple(sorted(r))
-                    reach.append(pos)
-                    t = ttable.shrink(t, n, pos)
-                    c = ttable.full(len(pos)) ^ t
-                    leaves = tuple(self.leaves[i] for i in pos)
-                    out.append(((leaves, t), 0) if t <= c else ((leaves, c), 1))
-                self._keys = tuple(out)
+                    assert root == self.tt, "a gadget disagrees with its cut's function"
+                lv = self.leaves
+                self._keys = tuple(((tuple(lv[i] for i in pos), t), flag)
+                                   for pos, t, flag in parts)
         return self._keys
 
     def __repr__(self) -> str:
         return f"Option(leaves={self.leaves}, gadget={self.gadget})"
+
+
+@lru_cache(maxsize=1 << 16)
+def _template_keys(g: Gadget, n: int) -> tuple[int, tuple[tuple[tuple[int, ...], int, int], ...]]:
+    """The root's table over all ``n`` leaves, and per spec the leaf positions it reads
+    (directly or through earlier specs) with its table over them in canonical polarity."""
+    tabs = G.spec_tables(g, n)
+    out = []
+    reach: list[tuple[int, ...]] = []
+    for s, t in zip(g, tabs):
+        r: set[int] = set()
+        for x in s.refs:
+            r.update((x,) if x >= 0 else reach[-x - 1])
+        pos = tuple(sorted(r))
+        reach.append(pos)
+        t = ttable.shrink(t, n, pos)
+        c = ttable.full(len(pos)) ^ t
+        out.append((pos, t, 0) if t <= c else (pos, c, 1))
+    return tabs[-1], tuple(out)
 
 
 # ------------------------------------------------------------------------------ classification
@@ -135,18 +144,23 @@ def classify(tt: int, n: int) -> tuple | None:
 def classify_cut(c: Cut) -> tuple[tuple[int, ...], tuple | None]:
     """The positions of the leaves ``c``'s function depends on, and the classification of the
     function over them."""
-    n = len(c.leaves)
-    sup = ttable.support(c.tt, n)
-    tt = c.tt if len(sup) == n else ttable.shrink(c.tt, n, sup)
-    return sup, classify(tt, len(sup))
+    return _classify_table(c.tt, len(c.leaves))
 
 
-def _cut_options(c: Cut, limits: Limits) -> list[Option]:
-    """The options a cut gives by its function alone (built over the leaves the function
-    depends on; the cut keeps every leaf, which closes the cone)."""
-    sup, cls = classify_cut(c)
+@lru_cache(maxsize=1 << 16)
+def _classify_table(tt: int, n: int) -> tuple[tuple[int, ...], tuple | None]:
+    """:func:`classify_cut` on a table (cached)."""
+    sup = ttable.support(tt, n)
+    small = tt if len(sup) == n else ttable.shrink(tt, n, sup)
+    return sup, classify(small, len(sup))
+
+
+@lru_cache(maxsize=1 << 16)
+def _templates(tt: int, n: int, limits: Limits) -> tuple[Gadget, ...]:
+    """The gadgets (over leaf positions) a function gives by its class, within the limits."""
+    sup, cls = _classify_table(tt, n)
     if cls is None:
-        return []
+        return ()
     if cls[0] == "const":
         gs: list[Gadget] = [(Spec((), (), 1 - cls[1]),)]
     elif cls[0] == "thr":
@@ -154,7 +168,13 @@ def _cut_options(c: Cut, limits: Limits) -> list[Option]:
     else:
         sigma = tuple(-1 if p else 1 for p in cls[1])
         gs = G.symmetric(sigma, cls[2])
-    return [Option(c.leaves, _remap(g, list(sup)), c.tt) for g in gs if limits.fits(g)]
+    return tuple(_remap(g, list(sup)) for g in gs if limits.fits(g))
+
+
+def _cut_options(c: Cut, limits: Limits) -> list[Option]:
+    """The options a cut gives by its function alone (built over the leaves the function
+    depends on; the cut keeps every leaf, which closes the cone)."""
+    return [Option(c.leaves, g, c.tt) for g in _templates(c.tt, len(c.leaves), limits)]
 
 
 # ------------------------------------------------------------------------------ structural options
@@ -289,12 +309,70 @@ def node_options(h: Hashed, v: int, cuts: list[Cut], support: Cut | None,
 # ------------------------------------------------------------------------------ helper options
 
 
-@lru_cache(maxsize=1 << 14)
-def _with_helper(tt: int, g_tt: int, n: int) -> tuple[tuple[int, ...], int, int] | None:
-    """Integer ``(w, u, T)`` of least ``Σ|w| + |u| + |T|`` with ``f = [w·x + u·g ≥ T]`` on
-    every row, or None (an ILP with HiGHS)."""
-    from scipy.optimize import Bounds, LinearConstraint, milp
+def _helper_possible(tt: int, g_tt: int, n: int) -> bool:
+    """A necessary condition for ``f = [w·x + u·g ≥ T]``: between two rows that differ only in
+    ``xᵢ`` and agree on ``g``, ``f`` can only move the way the sign of ``wᵢ`` says, so it must
+    never rise with ``xᵢ`` in one place and fall with it in another."""
+    mask = ttable.full(n)
+    ng = ~g_tt & mask
+    for i in range(n):
+        hi = ttable.var(n, i)
+        s = 1 << i
+        f1 = (tt & hi) >> s
+        f0 = tt & ~hi & mask
+        same = ((g_tt & hi) >> s) & g_tt | ((ng & hi) >> s) & ng  # g equal on both rows
+        same &= ~hi & mask
+        if (f1 & ~f0 & same) and (f0 & ~f1 & same):
+            return False
+    return True
 
+
+def _canonical_order(tt: int, g_tt: int, n: int) -> tuple[int, ...]:
+    """An order of the variables by how often ``f``, ``g`` and both are true with each (ties
+    kept in place), so that pairs equal up to a permutation mostly meet in the cache."""
+    def sig(i: int) -> tuple[int, int, int]:
+        v = ttable.var(n, i)
+        return ((tt & v).bit_count(), (g_tt & v).bit_count(), (tt & g_tt & v).bit_count())
+
+    return tuple(sorted(range(n), key=lambda i: (sig(i), i)))
+
+
+def _permute(tt: int, n: int, order: tuple[int, ...]) -> int:
+    """The table with variable ``order[k]`` moved to position ``k``."""
+    pos = list(range(n))  # pos[j]: where original variable j is now
+    at = list(range(n))   # at[p]: the original variable at position p
+    out = tt
+    for k, j in enumerate(order):
+        p = pos[j]
+        if p != k:
+            out = ttable.swap(out, n, k, p)
+            other = at[k]
+            at[k], at[p] = j, other
+            pos[j], pos[other] = k, p
+    return out
+
+
+def _with_helper(tt: int, g_tt: int, n: int) -> tuple[tuple[int, ...], int, int] | None:
+    """Integer ``(w, u, T)`` with ``f = [w·x + u·g ≥ T]`` on every row, small in
+    ``Σ|w| + |u| + |T|``, or None (solved once per pair up to a permutation)."""
+    if not _helper_possible(tt, g_tt, n):
+        return None
+    order = _canonical_order(tt, g_tt, n)
+    got = _solve_helper(_permute(tt, n, order), _permute(g_tt, n, order), n)
+    if got is None:
+        return None
+    w, u, T = got
+    orig = [0] * n
+    for k, j in enumerate(order):
+        orig[j] = w[k]
+    return tuple(orig), u, T
+
+
+@lru_cache(maxsize=1 << 14)
+def _solve_helper(tt: int, g_tt: int, n: int) -> tuple[tuple[int, ...], int, int] | None:
+    """The LP of least ``Σ|w| + |u| + |T|`` with margin 1 (HiGHS); its rounded solution when
+    that realises ``f``, else the same problem as an ILP."""
+    from scipy.optimize import Bounds, LinearConstraint, linprog, milp
     rows = 1 << n
     r = np.arange(rows)
     X = ((r[:, None] >> np.arange(n)) & 1).astype(float)
@@ -314,37 +392,53 @@ def _with_helper(tt: int, g_tt: int, n: int) -> tuple[tuple[int, ...], int, int]
     cons.append(LinearConstraint(np.vstack([P, Q]), -np.inf, 0.0))
     big = 4 * (1 << n)
     c = np.concatenate([np.zeros(m), np.ones(m)])
-    res = milp(c, constraints=cons, integrality=np.ones(2 * m),
-               bounds=Bounds(np.concatenate([-big * np.ones(m), np.zeros(m)]),
-                             big * np.ones(2 * m)),
+    lo_b = np.concatenate([-big * np.ones(m), np.zeros(m)])
+    hi_b = big * np.ones(2 * m)
+
+    def exact(x: np.ndarray) -> tuple[tuple[int, ...], int, int] | None:
+        x = np.rint(x[:m]).astype(int)
+        w = tuple(int(a) for a in x[:n])
+        u, T = int(x[n]), int(x[n + 1])
+        z = X @ np.array(w, dtype=float) + u * gcol
+        return (w, u, T) if u != 0 and np.array_equal(z >= T, f) else None
+
+    A_ub = np.vstack([-A[f], A[~f], np.vstack([P, Q])])
+    b_ub = np.concatenate([np.zeros(int(f.sum())), -np.ones(int((~f).sum())),
+                           np.zeros(2 * m)])
+    res = linprog(c, A_ub=A_ub, b_ub=b_ub, bounds=list(zip(lo_b, hi_b)), method="highs")
+    if res.status != 0 or res.x is None:
+        return None  # not even the relaxation is feasible
+    got = exact(res.x)
+    if got is not None:
+        return got
+    res = milp(c, constraints=cons, integrality=np.ones(2 * m), bounds=Bounds(lo_b, hi_b),
                options={"time_limit": 2.0})
-    if res.x is None or res.status not in (0,):
+    if res.x is None or res.status != 0:
         return None
-    x = np.rint(res.x[:m]).astype(int)
-    w = tuple(int(a) for a in x[:n])
-    u, T = int(x[n]), int(x[n + 1])
-    # check exactly on every row
-    z = X @ np.array(w, dtype=float) + u * gcol
-    if not np.array_equal(z >= T, f) or u == 0:
-        return None
-    return w, u, T
+    return exact(res.x)
 
 
 def helper_options(c: Cut, g_cut: Cut, g_weights: tuple[int, ...], g_T: int,
                    limits: Limits) -> Option | None:
     """The two-neuron option ``[w·x + u·g ≥ T]`` of cut ``c`` with the helper ``g`` (a
     threshold function whose cut ``g_cut`` has leaves among ``c``'s)."""
-    n = len(c.leaves)
     pos = {x: i for i, x in enumerate(c.leaves)}
-    g_tt = ttable.expand(g_cut.tt, tuple(pos[x] for x in g_cut.leaves), n)
-    found = _with_helper(c.tt, g_tt, n)
+    gpos = tuple(pos[x] for x in g_cut.leaves)
+    gadget = _helper_template(c.tt, len(c.leaves), g_cut.tt, gpos, g_weights, g_T, limits)
+    return None if gadget is None else Option(c.leaves, gadget, c.tt)
+
+
+@lru_cache(maxsize=1 << 16)
+def _helper_template(tt: int, n: int, g_small: int, gpos: tuple[int, ...],
+                     g_weights: tuple[int, ...], g_T: int, limits: Limits) -> Gadget | None:
+    """:func:`helper_options` over leaf positions (cached)."""
+    g_tt = ttable.expand(g_small, gpos, n)
+    found = _with_helper(tt, g_tt, n)
     if found is None:
         return None
     w, u, T = found
     gw = [0] * n
-    for x, wx in zip(g_cut.leaves, g_weights):
-        gw[pos[x]] = wx
+    for p, wx in zip(gpos, g_weights):
+        gw[p] = wx
     gadget = G.helper(tuple(gw), g_T, w, u, T)
-    if not limits.fits(gadget):
-        return None
-    return Option(c.leaves, gadget, c.tt)
+    return gadget if limits.fits(gadget) else None
