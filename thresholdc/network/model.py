@@ -143,6 +143,21 @@ class Network:
         >>> z[:, 0].tolist(), a[:, 0].tolist()
         ([0.5, -0.5], [1.0, 0.0])
         """
+        Z, V = self.run_units(X)
+        return Z.T.astype(float), V[len(self.inputs):].T.astype(float)
+
+    def run_units(self, X: Any) -> tuple[np.ndarray, np.ndarray]:
+        """The fast path behind :meth:`forward`: ``Z`` of shape (neurons, rows) and the values
+        of every unit (inputs first, then neurons) of shape (units, rows).
+
+        The dtype is float32 where that is exact (step networks with half-integer parameters
+        and 0/1 or ±1 inputs), else float64.
+
+        >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+        >>> Z, V = net.run_units([[0], [1]])
+        >>> Z.shape, V.tolist()
+        ((1, 2), [[0.0, 1.0], [1.0, 0.0]])
+        """
         X = np.asarray(X, dtype=float)
         if X.ndim != 2 or X.shape[1] != len(self.inputs):
             raise ValueError(
@@ -150,10 +165,11 @@ class Network:
             )
         rows = X.shape[0]
         base = len(self.inputs)
+        dtype = np.float32 if self._exact_in_float32 else np.float64
         # Units × rows; one sparse product per layer (neurons of a layer are independent).
-        values = np.empty((base + len(self.neurons), rows), dtype=float)
+        values = np.empty((base + len(self.neurons), rows), dtype=dtype)
         values[:base] = X.T
-        Z = np.empty((len(self.neurons), rows), dtype=float)
+        Z = np.empty((len(self.neurons), rows), dtype=dtype)
         bipolar = self.encoding == "bipolar"
         for idx, W, b, groups in self._layer_plan:
             z = W @ values
@@ -161,13 +177,69 @@ class Network:
             Z[idx] = z
             for name, sel in groups:
                 if name == "step":
-                    a = (z[sel] > 0).astype(float)
+                    a = (z[sel] > 0).astype(dtype)
                     if bipolar:
-                        a = 2.0 * a - 1.0
+                        a = 2 * a - 1
                 else:
                     a = act.get(name).forward(z[sel])
                 values[base + idx[sel]] = a
-        return Z.T, values[base:].T
+        return Z, values
+
+    def unit_index(self) -> dict[str, int]:
+        """The row of each unit in :meth:`run_units`' values (inputs first, then neurons)."""
+        names = list(self.inputs) + [n.name for n in self.neurons]
+        return {name: i for i, name in enumerate(names)}
+
+    def unit_values(self, X: Any) -> tuple[np.ndarray, dict[str, int]]:
+        """All unit values ``(rows, inputs + neurons)`` and the column of each unit name."""
+        _, V = self.run_units(X)
+        return V.T.astype(float), self.unit_index()
+
+    def evaluate(self, X: Any) -> np.ndarray:
+        """Output values, ``(rows, len(outputs))``, for input rows ``X`` (rows × inputs).
+
+        >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+        >>> net.evaluate([[0], [1]]).tolist()
+        [[1.0], [0.0]]
+        """
+        _, V = self.run_units(X)
+        return V[self._output_rows].T.astype(float)
+
+    @cached_property
+    def _output_rows(self) -> list[int]:
+        index = self.unit_index()
+        return [index[o.source] for o in self.outputs]
+
+    @property
+    def decision_threshold(self) -> float:
+        """Where an output value reads as true: 0.5 (binary) or 0 (bipolar)."""
+        return 0.0 if self.encoding == "bipolar" else 0.5
+
+    def decide(self, X: Any) -> np.ndarray:
+        """Boolean outputs ``(rows, len(outputs))``: an output is true above the threshold.
+
+        >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+        >>> net.decide([[0], [1]]).tolist()
+        [[True], [False]]
+        """
+        _, V = self.run_units(X)
+        return (V[self._output_rows] > self.decision_threshold).T
+
+    @cached_property
+    def _exact_in_float32(self) -> bool:
+        """True when float32 computes every pre-activation exactly: all neurons step, weights
+        and biases multiples of 1/2, every |Σ w·x + b| far below 2^24, inputs 0/1 or ±1."""
+        if self.features is not None and any(f.get("kind") == "real" for f in self.features):
+            return False
+        for n in self.neurons:
+            if n.activation != "step":
+                return False
+            terms = [*n.weights, n.bias]
+            if any(float(2 * t) != int(2 * t) for t in terms):
+                return False
+            if sum(abs(t) for t in terms) >= 2**22:
+                return False
+        return True
 
     @cached_property
     def _layer_plan(self) -> list[tuple[np.ndarray, Any, np.ndarray, list]]:
@@ -191,51 +263,14 @@ class Network:
                 rows_.extend([r] * len(n.inputs))
                 cols_.extend(index[i] for i in n.inputs)
                 vals_.extend(float(w) for w in n.weights)
-            W = sparse.csr_matrix((vals_, (rows_, cols_)), shape=(len(idx), total))
-            b = np.array([float(self.neurons[j].bias) for j in idx])
+            dtype = np.float32 if self._exact_in_float32 else np.float64
+            W = sparse.csr_matrix((vals_, (rows_, cols_)), shape=(len(idx), total), dtype=dtype)
+            b = np.array([float(self.neurons[j].bias) for j in idx], dtype=dtype)
             names = [self.neurons[j].activation for j in idx]
             groups = [(a, np.array([k for k, x in enumerate(names) if x == a]))
                       for a in sorted(set(names))]
             plan.append((idx, W, b, groups))
         return plan
-
-    def unit_values(self, X: Any) -> tuple[np.ndarray, dict[str, int]]:
-        """All unit values ``(rows, inputs + neurons)`` and the column of each unit name."""
-        X = np.asarray(X, dtype=float)
-        _, A = self.forward(X)
-        values = np.concatenate([X.reshape(len(X), -1), A], axis=1)
-        names = list(self.inputs) + [n.name for n in self.neurons]
-        return values, {name: i for i, name in enumerate(names)}
-
-    def evaluate(self, X: Any) -> np.ndarray:
-        """Output values, ``(rows, len(outputs))``, for input rows ``X`` (rows × inputs).
-
-        >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
-        >>> net.evaluate([[0], [1]]).tolist()
-        [[1.0], [0.0]]
-        """
-        X = np.asarray(X, dtype=float)
-        _, A = self.forward(X)
-        col = {name: i for i, name in enumerate(self.inputs)}
-        pos = {n.name: j for j, n in enumerate(self.neurons)}
-        out = np.empty((X.shape[0], len(self.outputs)))
-        for k, o in enumerate(self.outputs):
-            out[:, k] = A[:, pos[o.source]] if o.source in pos else X[:, col[o.source]]
-        return out
-
-    @property
-    def decision_threshold(self) -> float:
-        """Where an output value reads as true: 0.5 (binary) or 0 (bipolar)."""
-        return 0.0 if self.encoding == "bipolar" else 0.5
-
-    def decide(self, X: Any) -> np.ndarray:
-        """Boolean outputs ``(rows, len(outputs))``: an output is true above the threshold.
-
-        >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
-        >>> net.decide([[0], [1]]).tolist()
-        [[True], [False]]
-        """
-        return self.evaluate(X) > self.decision_threshold
 
     # ------------------------------------------------------------------ dense form
     def dense_layers(self) -> list[tuple[np.ndarray, np.ndarray, str]]:

@@ -61,26 +61,24 @@ def assignments(n: int, start: int, stop: int) -> np.ndarray:
 
 
 def _output_margins(net: Network, X: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Output values, per-output margins, and the smallest |z| of every step neuron."""
-    Z, A = net.forward(X)
-    col = {name: i for i, name in enumerate(net.inputs)}
-    pos = {n.name: j for j, n in enumerate(net.neurons)}
+    """Output values and per-output margins ``(rows, outputs)``, and the smallest |z| of every
+    step neuron over these rows."""
+    Z, V = net.run_units(X)
+    base = len(net.inputs)
+    index = net.unit_index()
     thr = net.decision_threshold
-    values = np.empty((len(X), len(net.outputs)))
+    rows = [index[o.source] for o in net.outputs]
+    values = V[rows].T.astype(float)
     margins = np.empty_like(values)
-    for k, o in enumerate(net.outputs):
-        if o.source in pos:
-            j = pos[o.source]
-            values[:, k] = A[:, j]
-            if net.neurons[j].activation == "step":
-                margins[:, k] = np.abs(Z[:, j])
-            else:
-                margins[:, k] = np.abs(A[:, j] - thr)
-        else:
-            values[:, k] = X[:, col[o.source]]
+    for k, r in enumerate(rows):
+        if r < base:
             margins[:, k] = 0.5
+        elif net.neurons[r - base].activation == "step":
+            margins[:, k] = np.abs(Z[r - base])
+        else:
+            margins[:, k] = np.abs(values[:, k] - thr)
     step = [j for j, n in enumerate(net.neurons) if n.activation == "step"]
-    zmin = np.abs(Z[:, step]).min(axis=0) if step and len(X) else np.zeros(0)
+    zmin = np.abs(Z[step]).min(axis=1).astype(float) if step and len(X) else np.zeros(0)
     return values, margins, zmin
 
 
