@@ -11,6 +11,8 @@ Rules
       most ``keep`` cuts per node are passed on to its readers: the smallest, then those whose
       leaves lie deepest (a fixed order, so the result is deterministic).  Every candidate of a
       node (before the ``keep`` pruning) is returned for synthesis.
+    * A node whose function over one of its cuts is constant passes only that cut on, and is
+      never a leaf of its readers' cuts (they see through it to what closes it).
     * Graph walks are loops over the topological order (no recursion).
     * *Support cuts*: a node whose whole support (the inputs it depends on) is larger than ``k``
       but at most ``support_limit`` also gets that support as a cut, evaluated over the inputs,
@@ -131,6 +133,7 @@ def enumerate_cuts(h: Hashed, k: int, *, limit: int = 24, keep: int = 10) -> lis
     passed: list[list[Cut]] = [[] for _ in range(N)]
     found: list[list[Cut]] = [[] for _ in range(N)]
     local: dict[int, int] = {}
+    constant: set[int] = set()
     full = ttable.full
     for v in range(1, N):
         op = h.op[v]
@@ -142,7 +145,8 @@ def enumerate_cuts(h: Hashed, k: int, *, limit: int = 24, keep: int = 10) -> lis
         partial: dict[int, tuple[Cut, ...]] = {0: ()}
         for lit in fans + tuple(2 * x for x in h.ghost.get(v, ())):
             f = lit >> 1
-            choices = (_trivial(f), *passed[f])
+            # a node that is constant over some cut is never a leaf: readers see through it
+            choices = passed[f] if f in constant else (_trivial(f), *passed[f])
             new: dict[int, tuple[Cut, ...]] = {}
             for mask, ch in partial.items():
                 for c in choices:
@@ -177,6 +181,11 @@ def enumerate_cuts(h: Hashed, k: int, *, limit: int = 24, keep: int = 10) -> lis
             if len(kept) >= keep:
                 break
         passed[v] = kept
+        for c in cands:
+            if c.tt == 0 or c.tt == full(len(c.leaves)):
+                constant.add(v)
+                passed[v] = [c]
+                break
     return found
 
 

@@ -337,10 +337,19 @@ def hash_gates(gates: GateGraph) -> Hashed:
         op = g.op
         c, cneg = classes[sig]
         got = of_class.get(c)
-        if got is not None:
-            lit_of[sig] = 2 * got[0] ^ got[1] ^ int(cneg)
-            continue
         args = [lit_of[a] for a in g.args]
+        if got is not None:
+            nid = got[0]
+            lit_of[sig] = 2 * nid ^ got[1] ^ int(cneg)
+            # a cone may be walked through this signal too: what it reads beyond the node's
+            # own arguments (a cancelled pair) are ghost arguments of the node (those made
+            # after the node cannot be; a check treats them as free, and the node ignores them)
+            if nid:
+                extra = {a >> 1 for a in args} - {a >> 1 for a in h.fanins[nid]} - {0, nid}
+                extra = {x for x in extra if x < nid} - set(h.ghost.get(nid, ()))
+                if extra:
+                    h.ghost[nid] = tuple(sorted(set(h.ghost.get(nid, ())) | extra))
+            continue
         if op == "input":
             nid = h.node(("input",), ())
             h.inputs.append(nid)
