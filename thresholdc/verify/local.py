@@ -35,6 +35,7 @@ python-sat).
 
 from __future__ import annotations
 
+import math
 import time
 from typing import Any
 
@@ -52,6 +53,8 @@ from .sat_miter import prove_equivalent
 __all__ = ["verify_local", "structural_classes", "LOCAL_MAX_LEAVES", "RULES_EXHAUSTIVE_MAX"]
 
 LOCAL_MAX_LEAVES = 16
+#: The class id of the constants in :func:`structural_classes`: (0, False) is 1, (0, True) 0.
+CONST_CLASS = 0
 RULES_EXHAUSTIVE_MAX = 16
 _CHUNK = 1 << 16
 _RANDOM_ROWS = 256
@@ -85,6 +88,23 @@ def structural_classes(graph: GateGraph) -> dict[str, Cls]:
         return table.setdefault(key, len(table))
 
     one = cid(("const",))  # the class of constant 1 is (one, False); of 0, (one, True)
+    assert one == CONST_CLASS
+
+    def and_class(args: list[Cls]) -> Cls:
+        """The class of the conjunction of ``args`` (constants folded, x ∧ ¬x is 0)."""
+        lits = set(args)
+        if (one, True) in lits or any((i, not n) in lits for i, n in lits):
+            return (one, True)
+        lits.discard((one, False))
+        ordered = sorted(lits)
+        if not ordered:
+            return (one, False)
+        if len(ordered) == 1:
+            return ordered[0]
+        return (cid(("and", tuple(ordered))), False)
+
+    def neg(c: Cls) -> Cls:
+        return (c[0], not c[1])
     for name, g in graph.gates.items():
         op = g.op
         args = [cls[a] for a in g.args]
@@ -98,18 +118,7 @@ def structural_classes(graph: GateGraph) -> dict[str, Cls]:
             cls[name] = (args[0][0], not args[0][1])
         elif op in ("and", "nand", "or", "nor"):
             inverted = op in ("or", "nor")
-            lits = {(i, n != inverted) for i, n in args}
-            if (one, True) in lits or any((i, not n) in lits for i, n in lits):
-                c = (one, True)  # a false argument, or x and not x
-            else:
-                lits.discard((one, False))
-                ordered = sorted(lits)
-                if not ordered:
-                    c = (one, False)
-                elif len(ordered) == 1:
-                    c = ordered[0]
-                else:
-                    c = (cid(("and", tuple(ordered))), False)
+            c = and_class([(i, n != inverted) for i, n in args])
             cls[name] = (c[0], c[1] != (op in ("nand", "or")))
         elif op in ("xor", "xnor"):
             odd: dict[int, int] = {}
@@ -139,15 +148,34 @@ def structural_classes(graph: GateGraph) -> dict[str, Cls]:
                 else:
                     coef[i] = coef.get(i, 0) + w
             terms = tuple(sorted((i, w) for i, w in coef.items() if w))
-            cls[name] = (cid((op, terms, t)), False)
+            holds = (lambda v, t=t: v >= t) if op == "threshold" else (lambda v, t=t: v == t)
+            lo = sum(min(w, 0) for _, w in terms)
+            hi = sum(max(w, 0) for _, w in terms)
+            step = 0
+            for _, w in terms:
+                step = math.gcd(step, abs(w))
+            if op == "threshold" and (lo >= t or hi < t):
+                cls[name] = (one, hi < t)  # always true, or never
+            elif op == "equal" and terms and (t < lo or t > hi or t % step):
+                cls[name] = (one, True)  # the sum never reaches t
+            elif len(terms) <= 1:
+                i, w = terms[0] if terms else (one, 0)
+                at0, at1 = holds(0), holds(w)
+                cls[name] = (one, not at0) if at0 == at1 or i == one else (i, at0)
+            else:
+                cls[name] = (cid((op, terms, t)), False)
         elif op == "ite":
             c, t, e = args
             if c[1]:
                 t, e = e, t
-            if c[0] == one:
-                cls[name] = e if c[1] else t  # (one, True) is 0: the swapped branches
-            elif t == e:
-                cls[name] = t
+            c = (c[0], False)
+            if c[0] == one or t == e:
+                cls[name] = t  # after the swap a constant condition is 1
+            elif t[0] == one:  # c ? 1 : e is c or e;  c ? 0 : e is not c and e
+                cls[name] = neg(and_class([neg(c), neg(e)])) if not t[1] else \
+                    and_class([neg(c), e])
+            elif e[0] == one:  # c ? t : 1 is not c or t;  c ? t : 0 is c and t
+                cls[name] = neg(and_class([c, neg(t)])) if not e[1] else and_class([c, t])
             else:
                 cls[name] = (cid(("ite", c[0], t, e)), False)
         else:
@@ -328,6 +356,11 @@ class _Local:
             stack.extend(self.neurons[base].inputs)
         self.helpers.update(u for u in sub if u != name)
         consts: dict[int, bool] = {}
+        if CONST_CLASS in index:  # a constant leaf is no variable: it is 1 (flag False)
+            consts[CONST_CLASS] = True
+            leaf_ids.remove(CONST_CLASS)
+            index.clear()
+            index.update((i, k) for k, i in enumerate(leaf_ids))
         for e in extras:  # signals the leaves do not determine: constants, or free
             value = self._constant(e)
             if value is None:
@@ -451,6 +484,8 @@ class _Local:
             if base in upos:
                 return ("n", upos[base], neg)
             i, flag = self.carried[base]
+            if i in consts:
+                return ("c", consts[i] != (flag != neg))
             return ("l", index[i], flag != neg)
 
         gate_part = tuple(
@@ -532,7 +567,10 @@ class _Local:
                 v = units[base]
             else:
                 i, f = self.carried[base]
-                v = ~cols[index[i]] if f else cols[index[i]]
+                if i in consts:
+                    v = np.full(rows, consts[i] != f)
+                else:
+                    v = ~cols[index[i]] if f else cols[index[i]]
             return ~v if neg else v
 
         for u in sorted(sub, key=self.position.__getitem__):
@@ -560,7 +598,10 @@ class _Local:
             lin: dict[str, int] = {}
 
             def form(s: str) -> int:
-                return lin[s] if s in lin else 1 << index[self.cls[s][0]]
+                if s in lin:
+                    return lin[s]
+                i = self.cls[s][0]
+                return 1 << index[i] if i in index else 0  # a constant adds no leaf
 
             for s in sorted(region, key=self.order.__getitem__):
                 lin[s] = 0
@@ -586,6 +627,8 @@ class _Local:
                 if base in sub:
                     continue
                 cid, flag = self.carried[base]
+                if cid not in index:
+                    return False  # a constant input: keep it simple, not symmetric
                 eff[index[cid]] = eff.get(index[cid], 0.0) + (-w if neg != flag else w)
             if eff and (len(eff) != len(index) or len(set(eff.values())) != 1):
                 return False
