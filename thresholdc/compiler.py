@@ -5,8 +5,8 @@ activation and layering → verify; it stores the options and the verification r
 network's ``meta`` and returns the network together with a summary of what happened.
 
 >>> net = compile_rules("input a, b\\nboth = a and b\\n")
->>> net.neurons[0].weights, net.neurons[0].bias, net.meta["verification"]["result"]
-((1, 1), -1.5, 'equal')
+>>> net.neurons[0].weights == (1, 1), net.neurons[0].bias, net.meta["verification"]["result"]
+(True, -1.5, 'equal')
 """
 
 from __future__ import annotations

@@ -5,7 +5,6 @@ Training (backpropagation) only keeps a neuron's output ``a``, so every activati
 ``step`` has no useful derivative (0 everywhere); it is the exact form a compiled network has.
 
 >>> import numpy as np
-from scipy.special import expit
 >>> SIGMOID.forward(np.array([0.0]))
 array([0.5])
 >>> SIGMOID.derivative(np.array([0.5]))
