@@ -294,20 +294,51 @@ class _Local:
                 continue
             self.cones[name] = (root, leaves)
         self.alias: dict[str, tuple[str, bool]] = {}
-        self.carried: dict[str, Cls] = {u: self.cls[u] for u in self.net.inputs if u in self.cls}
         for n in self.net.neurons:
-            if n.name in self.cones:
-                self.carried[n.name] = self.cls[self.cones[n.name][0]]
-            elif len(n.inputs) == 1:
+            if n.name not in self.cones and len(n.inputs) == 1:
                 copy = n.bias <= 0 < n.weights[0] + n.bias
                 negate = n.weights[0] + n.bias <= 0 < n.bias
                 if copy or negate:
                     base, neg = self.resolve(n.inputs[0])
                     self.alias[n.name] = (base, neg != negate)
-                    if base in self.carried:
-                        i, f = self.carried[base]
-                        self.carried[n.name] = (i, f != (neg != negate))
+        self._output_cones()
+        self.carried: dict[str, Cls] = {u: self.cls[u] for u in self.net.inputs if u in self.cls}
+        for n in self.net.neurons:
+            if n.name in self.cones:
+                self.carried[n.name] = self.cls[self.cones[n.name][0]]
+            elif n.name in self.alias:
+                base, neg = self.alias[n.name]
+                if base in self.carried:
+                    i, f = self.carried[base]
+                    self.carried[n.name] = (i, f != neg)
         return not self.problems
+
+    def _output_cones(self) -> None:
+        """An output read from an unrecorded neuron gets a cone of its own: root the
+        output's signal, leaves the recorded units (or inputs) that neuron's sub-network
+        reads.  It is then checked like any other cone."""
+        out_sig = dict(self.graph.outputs)
+        for o in self.net.outputs:
+            base, neg = self.resolve(o.source)
+            sig = out_sig.get(o.name)
+            if neg or sig is None or base not in self.neurons or base in self.cones:
+                continue
+            leaves: list[str] = []
+            seen: set[str] = set()
+            stack = [base]
+            while stack:
+                u = stack.pop()
+                if u in seen:
+                    continue
+                seen.add(u)
+                b, _ = self.resolve(u)
+                if b in self.input_set or (b in self.cones and b != base):
+                    leaf = b if b in self.input_set else self.cones[b][0]
+                    if leaf not in leaves:
+                        leaves.append(leaf)
+                elif b in self.neurons:
+                    stack.extend(self.neurons[b].inputs)
+            self.cones[base] = (sig, leaves)
 
     def resolve(self, unit: str) -> tuple[str, bool]:
         """The unit a relay chain starts from, and whether it is negated on the way."""
