@@ -45,6 +45,17 @@ def totals(net: Network) -> dict[str, Any]:
     }
 
 
+def _count(n: int, one: str, many: str | None = None) -> str:
+    """``1 gate``, ``2 gates``."""
+    return f"{n} {one if n == 1 else (many or one + 's')}"
+
+
+def _number(x: float) -> int | float:
+    """An integral value as an int (printed as in the network file), else the float."""
+    x = float(x)
+    return int(x) if x.is_integer() and abs(x) < 2**53 else x
+
+
 def run(args: argparse.Namespace) -> int:
     like = load(args.like) if args.like else None
     net = load(args.network, like=like)
@@ -60,8 +71,8 @@ def run(args: argparse.Namespace) -> int:
                             {
                                 "name": n.name,
                                 "inputs": list(n.inputs),
-                                "weights": [float(w) for w in n.weights],
-                                "bias": float(n.bias),
+                                "weights": [_number(w) for w in n.weights],
+                                "bias": _number(n.bias),
                                 "activation": n.activation,
                                 "role": n.role,
                                 "origin": n.origin,
@@ -81,7 +92,7 @@ def run(args: argparse.Namespace) -> int:
     for L in net.layer_sizes():
         units = [n for n in net.neurons if n.layer == L]
         out.append("")
-        out.append(f"layer {L} ({len(units)} neuron{'s' if len(units) != 1 else ''})")
+        out.append(f"layer {L} ({_count(len(units), 'neuron')})")
         rows = [
             (
                 n.name,
@@ -101,9 +112,10 @@ def run(args: argparse.Namespace) -> int:
         o.name if o.name == o.source else f"{o.name} <- {o.source}" for o in net.outputs))
     t = totals(net)
     out.append(
-        f"totals: {t['neurons']} neurons ({t['gate']} gates, {t['relay']} relays, "
-        f"{t['extra']} extra), {t['parameters']} parameters ({t['weights']} weights + "
-        f"{t['biases']} biases), depth {t['depth']}, "
+        f"totals: {_count(t['neurons'], 'neuron')} ({_count(t['gate'], 'gate')}, "
+        f"{_count(t['relay'], 'relay')}, {t['extra']} extra), "
+        f"{_count(t['parameters'], 'parameter')} ({_count(t['weights'], 'weight')} + "
+        f"{_count(t['biases'], 'bias', 'biases')}), depth {t['depth']}, "
         f"{'strict layered' if t['strict'] else 'direct connections across layers'}"
     )
     sys.stdout.write("\n".join(out) + "\n")
