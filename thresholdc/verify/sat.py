@@ -37,7 +37,14 @@ __all__ = ["verify_sat", "source_side", "network_side", "gates_side", "confirm_c
 
 
 def source_side(source: Any) -> Callable[[Circuit, dict[str, int]], dict[str, int]]:
-    """A miter side for the source: its rule AST, or its netlist's gates."""
+    """A miter side for the source: its rule AST, or its netlist's gates.
+
+    >>> from thresholdc.source import Source
+    >>> side = source_side(Source.from_text("input a\\ny = not a\\n", "t.rules"))
+    >>> c = Circuit()
+    >>> side(c, {"a": c.new_input()})
+    {'y': -2}
+    """
     program = getattr(source, "program", None)
     if program is not None:
         def build(c: Circuit, ins: dict[str, int]) -> dict[str, int]:
@@ -48,7 +55,14 @@ def source_side(source: Any) -> Callable[[Circuit, dict[str, int]], dict[str, in
 
 
 def gates_side(graph: Any) -> Callable[[Circuit, dict[str, int]], dict[str, int]]:
-    """A miter side for a gate graph."""
+    """A miter side for a gate graph.
+
+    >>> from thresholdc.synth.gates import Gate, GateGraph
+    >>> g = GateGraph.build(["a"], [("y", "n")], [("n", Gate("not", ("a",)))])
+    >>> c = Circuit()
+    >>> gates_side(g)(c, {"a": c.new_input()})
+    {'y': -2}
+    """
     def build(c: Circuit, ins: dict[str, int]) -> dict[str, int]:
         lits = encode_gates(c, graph, ins)
         return {name: lits[sig] for name, sig in graph.outputs}
@@ -56,7 +70,14 @@ def gates_side(graph: Any) -> Callable[[Circuit, dict[str, int]], dict[str, int]
 
 
 def network_side(net: Network) -> Callable[[Circuit, dict[str, int]], dict[str, int]]:
-    """A miter side for a step network."""
+    """A miter side for a step network.
+
+    >>> from thresholdc.network.model import Neuron, Output
+    >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("y", "n"),))
+    >>> c = Circuit()
+    >>> network_side(net)(c, {"a": c.new_input()})
+    {'y': -2}
+    """
     def build(c: Circuit, ins: dict[str, int]) -> dict[str, int]:
         lits = encode_network(c, net, ins)
         return {o.name: lits[o.source] for o in net.outputs}
@@ -67,7 +88,15 @@ def confirm_counterexample(
     net: Network, source: Any, assignment: dict[str, int]
 ) -> list[Counterexample]:
     """The outputs on which ``net`` and ``source`` really differ at ``assignment``, found by
-    simulating both (an empty list when they agree there)."""
+    simulating both (an empty list when they agree there).
+
+    >>> from thresholdc.network.model import Neuron, Output
+    >>> from thresholdc.source import Source
+    >>> src = Source.from_text("input a\\ny = a\\n", "t.rules")
+    >>> net = Network(("a",), (Neuron("y", 1, ("a",), (-1,), 0.5),), (Output("y", "y"),))
+    >>> [(c.output, c.expected, c.actual) for c in confirm_counterexample(net, src, {"a": 1})]
+    [('y', True, 0.0)]
+    """
     xs = np.array([[assignment[u] for u in source.inputs]], dtype=np.uint8)
     expected = np.asarray(source.evaluate(xs), dtype=bool)[0]
     xn = np.array([[assignment[u] for u in net.inputs]], dtype=float)
@@ -86,7 +115,12 @@ def confirm_counterexample(
 
 
 def miter_summary(outcome: MiterOutcome) -> str:
-    """A short account of how a miter was decided, for a report's proofs or notes."""
+    """A short account of how a miter was decided, for a report's proofs or notes.
+
+    >>> miter_summary(MiterOutcome("equal", stats={"candidates": 0, "nodes_b": 0}))
+    'every node of the second side is a node of the first after structural hashing; no \
+solver call needed'
+    """
     st = outcome.stats
     parts = []
     if "candidates" in st:

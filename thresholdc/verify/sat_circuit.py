@@ -284,7 +284,11 @@ class Circuit:
 
 
 def node_value(node: Node, args: list[np.ndarray]) -> np.ndarray:
-    """The value of one node from its argument values (bool arrays)."""
+    """The value of one node from its argument values (bool arrays).
+
+    >>> node_value(Node("geq", (2, 3), (2, 1), 2), [np.array([0, 1]), np.array([1, 1])])
+    array([False,  True])
+    """
     if node.op == "and":
         return np.logical_and.reduce(args)
     if node.op == "xor":

@@ -42,7 +42,14 @@ __all__ = ["encode_gates", "gate_literal", "encode_network", "encode_program",
 
 
 def gate_literal(c: Circuit, g: Any, args: list[int], name: str = "?") -> int:
-    """The literal of one gate of a gate graph, from its arguments' literals."""
+    """The literal of one gate of a gate graph, from its arguments' literals.
+
+    >>> from thresholdc.synth.gates import Gate
+    >>> c = Circuit()
+    >>> a, b = c.new_input(), c.new_input()
+    >>> gate_literal(c, Gate("nor", ("a", "b")), [a, b]) == -c.or_([a, b])
+    True
+    """
     op = g.op
     if op == "const":
         return TRUE if g.value else FALSE
@@ -73,7 +80,14 @@ def gate_literal(c: Circuit, g: Any, args: list[int], name: str = "?") -> int:
 
 
 def encode_gates(c: Circuit, graph: GateGraph, inputs: dict[str, int]) -> dict[str, int]:
-    """The literal of every signal of ``graph`` (one loop over the gates, in order)."""
+    """The literal of every signal of ``graph`` (one loop over the gates, in order).
+
+    >>> from thresholdc.synth.gates import Gate
+    >>> g = GateGraph.build(["a"], [("n", "n")], [("n", Gate("not", ("a",)))])
+    >>> c = Circuit()
+    >>> encode_gates(c, g, {"a": c.new_input()})
+    {'a': 2, 'n': -2}
+    """
     lit: dict[str, int] = {}
     for name, g in graph.gates.items():
         if g.op == "input":
@@ -84,7 +98,16 @@ def encode_gates(c: Circuit, graph: GateGraph, inputs: dict[str, int]) -> dict[s
 
 
 def check_step_network(net: Network) -> None:
-    """Raise UsageError unless ``net`` is a binary step network with Boolean inputs."""
+    """Raise UsageError unless ``net`` is a binary step network with Boolean inputs.
+
+    >>> from thresholdc.network.model import Neuron, Output
+    >>> check_step_network(Network(("a",), (Neuron("y", 1, ("a",), (1,), 0, "relu"),),
+    ...                            (Output("y", "y"),)))
+    Traceback (most recent call last):
+    ...
+    thresholdc.errors.UsageError: <input>: SAT and local verification need a step network; \
+this one has relu neurons (verify a soft network exhaustively, or check its certificate)
+    """
     soft = sorted({n.activation for n in net.neurons if n.activation != "step"})
     if soft:
         raise UsageError(
@@ -126,7 +149,14 @@ def integer_threshold(weights: Any, bias: float) -> tuple[list[int], int]:
 
 
 def encode_network(c: Circuit, net: Network, inputs: dict[str, int]) -> dict[str, int]:
-    """The literal of every unit of a step network (inputs by name, then each neuron)."""
+    """The literal of every unit of a step network (inputs by name, then each neuron).
+
+    >>> from thresholdc.network.model import Neuron, Output
+    >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+    >>> c = Circuit()
+    >>> encode_network(c, net, {"a": c.new_input()})
+    {'a': 2, 'n': -2}
+    """
     check_step_network(net)
     lit: dict[str, int] = {name: inputs[name] for name in net.inputs}
     for n in net.neurons:
@@ -221,6 +251,13 @@ def encode_program(c: Circuit, program: ast.Program, inputs: dict[str, int]) -> 
     """The literal of every input and needed definition of a Boolean rule program.
 
     Expressions are walked with an explicit stack (long chains do not recurse).
+
+    >>> from thresholdc.syntax.parser import parse
+    >>> c = Circuit()
+    >>> lits = encode_program(c, parse("input a, b\\ny = not (a or b)\\n"),
+    ...                       {"a": c.new_input(), "b": c.new_input()})
+    >>> lits["y"] == c.and_([-lits["a"], -lits["b"]])
+    True
     """
     if program.is_typed():
         raise UsageError(

@@ -86,7 +86,12 @@ class MiterOutcome:
 
 
 def available_solvers() -> list[str]:
-    """Names of the python-sat back ends that can be created here, preferred first."""
+    """Names of the python-sat back ends that can be created here, preferred first.
+
+    >>> names = available_solvers()
+    >>> all(n in SOLVER_PREFERENCE + NON_INCREMENTAL for n in names)
+    True
+    """
     try:
         from pysat.solvers import Solver
     except ImportError:
@@ -102,7 +107,11 @@ def available_solvers() -> list[str]:
 
 
 def default_solver() -> str | None:
-    """The preferred incremental back end available, or None without python-sat."""
+    """The preferred incremental back end available, or None without python-sat.
+
+    >>> default_solver() in SOLVER_PREFERENCE + (None,)
+    True
+    """
     for name in available_solvers():
         if name not in NON_INCREMENTAL:
             return name
@@ -362,6 +371,11 @@ def solve_cnf(
     Without ``pairs`` the clauses are solved once (satisfiable or not).  Returns the
     messages, whether the child finished, the seconds spent, and the child's exit code when
     it ended by itself (None when it was stopped at the time limit).
+
+    >>> messages, finished, _, _ = solve_cnf([[1], [2, 3], [-2], [-3]], solver="minisat22",
+    ...                                      time_limit=10)
+    >>> finished, messages[-2][0]
+    (True, 'unsat')
     """
     if top is None:
         top = max((abs(lit) for cl in clauses for lit in cl), default=1)
@@ -431,6 +445,14 @@ def prove_equivalent(
     ``build_a``/``build_b`` add a side to the circuit given the input literals by name and
     return the literal of each output by name.  ``time_limit`` (seconds) bounds the whole
     check; the solver runs in a child process that is ended when it is reached.
+
+    >>> def one(c, ins):
+    ...     return {"y": c.or_([ins["a"], ins["b"]])}
+    >>> def other(c, ins):
+    ...     return {"y": c.xor_([ins["a"], ins["b"]])}
+    >>> out = prove_equivalent(["a", "b"], ["y"], one, other, time_limit=10)
+    >>> out.status, out.differing["y"]
+    ('different', {'a': 1, 'b': 1})
     """
     t0 = time.perf_counter()
     deadline = t0 + time_limit
