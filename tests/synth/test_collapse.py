@@ -378,6 +378,18 @@ def test_merged_signals_share_a_structural_class_of_the_local_check():
             seen[lit >> 1] = (c[0], c[1] != (lit & 1))
 
 
+def test_a_cut_never_holds_a_leaf_inside_another_part_of_its_cone():
+    # y = g xor (a and g): over the leaves {a, b, c, g} the cone reads g at both places; a
+    # table built by expanding g on one side would differ from it when g is left free
+    g = build(["a", "b", "c"], [("y", "y")], [
+        ("g", Gate("threshold", ("a", "b", "c"), (-1, 1, 1), 2)),
+        ("t", Gate("and", ("a", "g"))), ("y", Gate("xor", ("g", "t")))])
+    for k in (2, 4, 6):
+        for fan_in in (None, 2):
+            net = collapse(g, cut_size=k, max_fan_in=fan_in)
+            check_all(net, g)
+
+
 def test_outputs_of_inputs_negations_and_constants():
     g = build(["a", "b"], [("a", "a"), ("na", "na"), ("one", "one"), ("x", "x"),
                            ("nx", "nx"), ("x2", "x")], [

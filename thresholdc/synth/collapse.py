@@ -148,13 +148,14 @@ def collapse(
 # ------------------------------------------------------------------------------ helper options
 
 _HELPER_CUTS = 6  # non-threshold cuts per node tried with a helper
-_HELPER_CANDIDATES = 4  # helpers tried per cut
+_HELPER_CANDIDATES = 6  # helpers tried per cut
 
 
 def _add_helper_options(h: Hashed, found: list[list[C.Cut]], options: list[list[O.Option]],
                         limits: O.Limits) -> None:
     """Two-neuron options ``[w·x + u·g ≥ T]`` where ``g`` is a threshold function that some
     other node computes over the same leaves (or all but one of them)."""
+    fanout = h.fanouts()
     by_mask: dict[int, list[tuple[int, C.Cut, tuple[int, ...], int]]] = {}
     for v in range(1, len(h.op)):
         for c in found[v]:
@@ -181,6 +182,8 @@ def _add_helper_options(h: Hashed, found: list[list[C.Cut]], options: list[list[
             if n > 2:
                 for x in c.leaves:
                     cands.extend(by_mask.get(c.mask & ~(1 << x), ()))
+            # nodes read in several places (or outputs) first: they get neurons anyway
+            cands.sort(key=lambda e: (-fanout[e[0]], -e[0]))
             got = 0
             seen: set[tuple[int, int]] = set()
             for u, gc, gw, gT in cands:

@@ -47,6 +47,35 @@ class Cover:
         self.n_root: dict = {}
         self.n_help: dict = {}
         self.total = 0
+        # the nodes some option of which has each root function: a helper with such a key
+        # is likely shared with that node's own neuron
+        self.root_of: dict = {}
+        for v, opts in enumerate(options):
+            for o in opts:
+                k = o.keys()[-1][0]
+                if k is not None:
+                    self.root_of.setdefault(k, set()).add(v)
+        self.flow_cost = [[self._flow_cost(v, o) for o in opts] for v, opts in enumerate(options)]
+
+    def _flow_cost(self, v: int, o: Option) -> float:
+        """Neurons of ``o`` for area flow: a helper that another node's option has as its root
+        counts half (it will often be shared)."""
+        keys = o.keys()
+        c = 0.0
+        for i, (k, _) in enumerate(keys):
+            if i < len(keys) - 1 and k is not None and self.root_of.get(k, set()) - {v}:
+                c += 0.5
+            else:
+                c += 1.0
+        return c
+
+    def _shared(self, v: int, o: Option) -> int:
+        """How many of ``o``'s helpers a needed node other than ``v`` could compute as its
+        own neuron (a tie-break: the next pass can then share it)."""
+        keys = o.keys()
+        nref = self.nref
+        return sum(1 for k, _ in keys[:-1] if k is not None
+                   and any(u != v and nref[u] > 0 for u in self.root_of.get(k, ())))
 
     # -------------------------------------------------------------- key accounting
     @staticmethod
@@ -137,8 +166,9 @@ class Cover:
             if not opts:
                 continue
             best = None
+            costs = self.flow_cost[v]
             for i, o in enumerate(opts):
-                f = o.cost + sum(flow[x] for x in o.leaves)
+                f = costs[i] + sum(flow[x] for x in o.leaves)
                 key = (f, self._arrive(v, o), i)
                 if best is None or key < best:
                     best = key
@@ -176,11 +206,11 @@ class Cover:
                 self.choice[v] = i
                 added = self._ref(v)
                 self._deref(v)
-                key = (added, self._arrive(v, o), i)
+                key = (added, self._arrive(v, o), -self._shared(v, o), i)
                 if best is None or key < best:
                     best = key
             assert best is not None
-            self.choice[v] = best[2]
+            self.choice[v] = best[-1]
             self.total += self._ref(v) - freed
             self.nref[v] = refs
             self.arrival[v] = best[1]

@@ -3,13 +3,15 @@
 Rules
     * A *cut* of node ``v`` is a set of nodes (its *leaves*) such that every path from an input
       to ``v`` passes through a leaf; it is *k-feasible* with at most ``k`` leaves.  The cuts of
-      ``v`` are the unions of one cut (or the node itself) per argument of ``v``.
+      ``v`` are the unions of one cut (or the node itself) per argument of ``v``, except a
+      union in which one leaf lies inside the cone of another argument's cut: its table would
+      read that node through its cone, not as the free leaf a local check makes of it.
     * Each cut carries the function of ``v`` over its leaves (leaves in increasing node order,
       leaf ``i`` being variable ``i`` of the table).  The function may ignore a leaf (through
       reconvergence); the leaf stays, because a cut is what closes the cone structurally.
     * At most ``limit`` partial unions are kept while merging the arguments of a node, and at
-      most ``keep`` cuts per node are passed on to its readers: the smallest, then those whose
-      leaves lie deepest (a fixed order, so the result is deterministic).  Every candidate of a
+      most ``keep`` cuts per node are passed on to its readers: those of least area flow, then
+      the smallest (a fixed order, so the result is deterministic).  Every candidate of a
       node (before the ``keep`` pruning) is returned for synthesis.
     * A node whose function over one of its cuts is constant passes only that cut on, and is
       never a leaf of its readers' cuts (they see through it to what closes it).
@@ -43,17 +45,19 @@ MAX_LOCAL = 12
 
 
 class Cut(NamedTuple):
-    """Leaves as a bit mask over node ids and as a sorted tuple, and the node's table."""
+    """Leaves as a bit mask over node ids and as a sorted tuple, the node's table over them,
+    and the cone (the nodes between the leaves and the node, the node included) as a mask."""
 
     mask: int
     leaves: tuple[int, ...]
     tt: int
+    cone: int = 0
 
 
 @cache
 def _trivial(v: int) -> Cut:
     """The cut ``{v}`` of ``v`` itself."""
-    return Cut(1 << v, (v,), 0b10)
+    return Cut(1 << v, (v,), 0b10, 0)
 
 
 def _bits(mask: int) -> tuple[int, ...]:
@@ -135,6 +139,19 @@ def enumerate_cuts(h: Hashed, k: int, *, limit: int = 24, keep: int = 10) -> lis
     local: dict[int, int] = {}
     constant: set[int] = set()
     full = ttable.full
+    # area flow of a cut (common practice in cut-based mapping): the flow of its leaves, a
+    # node's flow being that of its best cut plus one, shared among its readers; cheap leaves
+    # (inputs, much-read nodes) make big cones, which is what a neuron should swallow
+    fanout = h.fanouts()
+    flow = [0.0] * N
+    flow_memo: dict[int, float] = {}
+
+    def flow_of(mask: int) -> float:
+        got = flow_memo.get(mask)
+        if got is None:
+            got = flow_memo[mask] = sum(flow[x] for x in _bits(mask))
+        return got
+
     for v in range(1, N):
         op = h.op[v]
         fans = h.fanins[v]
@@ -142,24 +159,31 @@ def enumerate_cuts(h: Hashed, k: int, *, limit: int = 24, keep: int = 10) -> lis
             level[v] = 1 + max(level[lit >> 1] for lit in fans)
         if op in ("input", "real") or len(fans) > MAX_LOCAL:
             continue
-        partial: dict[int, tuple[Cut, ...]] = {0: ()}
+        # partial unions: leaf mask -> (cone mask, the cut chosen per argument)
+        partial: dict[int, tuple[int, tuple[Cut, ...]]] = {0: (0, ())}
         for lit in fans + tuple(2 * x for x in h.ghost.get(v, ())):
             f = lit >> 1
             # a node that is constant over some cut is never a leaf: readers see through it
             choices = passed[f] if f in constant else (_trivial(f), *passed[f])
-            new: dict[int, tuple[Cut, ...]] = {}
-            for mask, ch in partial.items():
+            new: dict[int, tuple[int, tuple[Cut, ...]]] = {}
+            for mask, (cone, ch) in partial.items():
                 for c in choices:
                     m2 = mask | c.mask
                     if m2 in new or m2.bit_count() > k:
                         continue
-                    new[m2] = ch + (c,)
+                    c2 = cone | c.cone
+                    if c2 & m2:
+                        # a leaf inside another argument's cone: the table (which reads that
+                        # node through its cone) would not be the cone's function with every
+                        # leaf free, which is what a local check evaluates
+                        continue
+                    new[m2] = (c2, ch + (c,))
             if len(new) > limit:
-                order = sorted(new, key=lambda m: (m.bit_count(), m))[:limit]
+                order = sorted(new, key=lambda m: (flow_of(m), m.bit_count(), m))[:limit]
                 new = {m: new[m] for m in order}
             partial = new
         out: dict[int, Cut] = {}
-        for mask, ch in partial.items():
+        for mask, (cone, ch) in partial.items():
             leaves = _bits(mask)
             n = len(leaves)
             pos = {leaf: i for i, leaf in enumerate(leaves)}
@@ -169,10 +193,11 @@ def enumerate_cuts(h: Hashed, k: int, *, limit: int = 24, keep: int = 10) -> lis
                 if lit & 1:
                     t ^= full(n)
                 args.append(t)
-            out[mask] = Cut(mask, leaves, node_table(h, v, args, n, local))
-        cands = sorted(out.values(), key=lambda c: (len(c.leaves), -sum(level[x] for x in c.leaves),
-                                                    c.mask))
+            out[mask] = Cut(mask, leaves, node_table(h, v, args, n, local), cone | (1 << v))
+        cands = sorted(out.values(), key=lambda c: (flow_of(c.mask), len(c.leaves), c.mask))
         found[v] = cands
+        if cands:
+            flow[v] = (1.0 + flow_of(cands[0].mask)) / max(1, fanout[v])
         kept: list[Cut] = []
         for c in cands:
             if any(d.mask & c.mask == d.mask for d in kept):
@@ -236,5 +261,8 @@ def support_cuts(h: Hashed, k: int, support_limit: int, *, cone_limit: int = 400
         for u in sorted(cone):
             args = [val[lit >> 1] ^ (full if lit & 1 else 0) for lit in h.fanins[u]]
             val[u] = node_table(h, u, args, n, local)
-        out[v] = Cut(s, leaves, val[v])
+        cone_mask = 0
+        for u in cone:
+            cone_mask |= 1 << u
+        out[v] = Cut(s, leaves, val[v], cone_mask)
     return out

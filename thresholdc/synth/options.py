@@ -44,6 +44,9 @@ __all__ = ["Option", "Limits", "classify", "node_options", "helper_options", "KE
 #: Gadgets over at most this many leaves carry truth-table keys (so neurons can be shared).
 KEY_LIMIT = 10
 
+#: Parities of at most this many leaves get a counting gadget under every literal polarity.
+PARITY_VARIANTS = 4
+
 
 @dataclass(frozen=True, slots=True)
 class Limits:
@@ -166,9 +169,30 @@ def _templates(tt: int, n: int, limits: Limits) -> tuple[Gadget, ...]:
     elif cls[0] == "thr":
         gs = [G.threshold(cls[1], cls[2])]
     else:
-        sigma = tuple(-1 if p else 1 for p in cls[1])
-        gs = G.symmetric(sigma, cls[2])
+        gs = []
+        for pol in _polarities(cls, len(sup)):
+            small = tt if len(sup) == n else ttable.shrink(tt, n, sup)
+            values = _values(small, len(sup), pol)
+            gs.extend(G.symmetric(tuple(-1 if p else 1 for p in pol), values))
     return tuple(_remap(g, list(sup)) for g in gs if limits.fits(g))
+
+
+def _polarities(cls: tuple, n: int) -> list[tuple[int, ...]]:
+    """The literal polarities to count under: the one found, and for a parity of at most
+    :data:`PARITY_VARIANTS` leaves every polarity (their helpers differ: one of them may be a
+    neuron the circuit has anyway, such as the carry beside a sum)."""
+    pol = tuple(cls[1])
+    values = cls[2]
+    parity = all(values[c] != values[c - 1] for c in range(1, len(values)))
+    if not parity or n > PARITY_VARIANTS:
+        return [pol]
+    return [(0,) + tuple((r >> i) & 1 for i in range(n - 1)) for r in range(1 << (n - 1))]
+
+
+def _values(tt: int, n: int, pol: tuple[int, ...]) -> tuple[int, ...]:
+    """``f`` at a row with ``c`` true literals (literal i is ``xᵢ xor pol[i]``), per ``c``."""
+    base = sum(p << i for i, p in enumerate(pol))
+    return tuple((tt >> (base ^ ((1 << c) - 1))) & 1 for c in range(n + 1))
 
 
 def _cut_options(c: Cut, limits: Limits) -> list[Option]:

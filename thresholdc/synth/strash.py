@@ -54,6 +54,7 @@ class Hashed:
         self.origin: list[str | None] = [None]
         self.flat: dict[int, tuple[int, ...]] = {}
         self.ghost: dict[int, tuple[int, ...]] = {}
+        self.inner: dict[int, frozenset[int]] = {}
         self.lit_of: dict[str, int] = {}
         self.value: dict[int, int] = {}
         self.inputs: list[int] = []
@@ -392,20 +393,22 @@ def _flatten(h: Hashed) -> None:
             continue
         if op == "and":
             out: list[int] = []
-            grew = False
+            inner: set[int] = set()  # the chain nodes a flattened list reads through
             for lit in h.fanins[nid]:
                 sub = lit >> 1
                 if not lit & 1 and h.op[sub] == "and":
                     out.extend(h.flat.get(sub, h.fanins[sub]))
-                    grew = True
+                    inner.add(sub)
+                    inner.update(h.inner.get(sub, ()))
                 else:
                     out.append(lit)
-            if grew:
+            if inner:
                 fan = sorted(set(out))
                 if len(h.fanins[nid]) < len(fan) <= FLAT_LIMIT and not any(
-                    x ^ 1 in fan for x in fan
+                    x ^ 1 in fan or (x >> 1) in inner for x in fan
                 ):
                     h.flat[nid] = tuple(fan)
+                    h.inner[nid] = frozenset(inner)
         elif op == "xor":
             odd: dict[int, int] = {}
             grew = False
