@@ -123,6 +123,9 @@ def _syntax_error(err: UnexpectedInput) -> RuleError:
     if not history or history[-1] is not tok:
         history.append(tok)  # a token the contextual lexer only found by its fallback
     prev = history[-2] if len(history) >= 2 else None
+    if tok.type == "EQUAL" and prev is not None and prev.type in ("INPUT", "OUTPUT"):
+        # 'input = …' or 'output = …': a definition of a name that is a keyword
+        return _at(f"'{prev.value}' is a keyword and cannot be used as a name", prev)
     if tok.type == "$END":
         opened = open_brackets()
         if opened:
