@@ -27,7 +27,7 @@ Rules
 >>> h = hash_gates(g)
 >>> cands = enumerate_cuts(h, 4)
 >>> [(c.leaves, bin(c.tt)) for c in cands[h.lit_of["y"] >> 1]]
-[((1, 4), '0b10'), ((1, 2, 3), '0b10101000')]
+[((1, 2, 3), '0b10101000'), ((1, 4), '0b10')]
 """
 
 from __future__ import annotations
