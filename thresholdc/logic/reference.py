@@ -265,10 +265,20 @@ def _combine(node: Expr, args: list[np.ndarray]) -> np.ndarray:
             return count == 0
         return count % 2 == 1  # parity
     assert isinstance(node, Compare)
-    total = np.zeros(args[0].shape, dtype=np.int64)
+    # Exact integer sums: int64 while no sum can leave its range, else Python integers.
+    bound = sum(abs(t.coef) for t in node.terms)
+    exact = np.int64 if bound < 2**62 else object
+    total = np.zeros(args[0].shape, dtype=exact)
     for term, value in zip(node.terms, args, strict=True):
-        total += term.coef * value.astype(np.int64)
+        total += term.coef * value.astype(np.int64).astype(exact)
     rhs, op = node.rhs, node.op
+    if exact is object:
+        return _compare(total, op, rhs).astype(bool)
+    return _compare(total, op, rhs)
+
+
+def _compare(total: np.ndarray, op: str, rhs: int) -> np.ndarray:
+    """``total OP rhs`` row by row."""
     if op == ">=":
         return total >= rhs
     if op == ">":
