@@ -47,6 +47,22 @@ def _flip(lit: Lit) -> Lit:
     return (lit[0], not lit[1])
 
 
+def _fold(terms: list[tuple[Lit, int]]) -> tuple[dict[str, int], int]:
+    """``Σ w·lit`` as ``Σ coef[u]·u + const``: a negated unit gives ``−w·u + w``, a constant
+    literal adds ``w·value``; repeated units merge."""
+    coef: dict[str, int] = {}
+    const = 0
+    for (unit, neg), w in terms:
+        if unit is None:
+            const += w * int(neg)
+        elif neg:
+            coef[unit] = coef.get(unit, 0) - w
+            const += w
+        else:
+            coef[unit] = coef.get(unit, 0) + w
+    return coef, const
+
+
 class _Mapper:
     """Builds neurons for one gate graph."""
 
@@ -66,16 +82,7 @@ class _Mapper:
     ) -> Lit:
         """A literal for ``[Σ w·lit ≥ T]``: a new neuron, or a plain literal/constant when the
         folded sum reads at most one unit."""
-        coef: dict[str, int] = {}
-        const = 0
-        for (unit, neg), w in terms:
-            if unit is None:
-                const += w * int(neg)
-            elif neg:
-                coef[unit] = coef.get(unit, 0) - w
-                const += w
-            else:
-                coef[unit] = coef.get(unit, 0) + w
+        coef, const = _fold(terms)
         inputs = [u for u, w in coef.items() if w != 0]
         weights = [coef[u] for u in inputs]
         bias = const - T + 0.5
@@ -172,16 +179,7 @@ class _Mapper:
 
     def equal(self, sig: str, terms: list[tuple[Lit, int]], T: int, origin: str | None) -> Lit:
         """[Σ w·lit == T] with one helper neuron (or one neuron at the ends of the range)."""
-        coef: dict[str, int] = {}
-        const = 0
-        for (unit, neg), w in terms:
-            if unit is None:
-                const += w * int(neg)
-            elif neg:
-                coef[unit] = coef.get(unit, 0) - w
-                const += w
-            else:
-                coef[unit] = coef.get(unit, 0) + w
+        coef, const = _fold(terms)
         T -= const
         plain = [((u, False), w) for u, w in coef.items() if w]
         hi = sum(w for _, w in plain if w > 0)
