@@ -100,3 +100,18 @@ def test_limit_and_unused_definitions(tmp_path, capsys):
     assert code == 0 and t["rows"] == [[0, 0, 0], [0, 1, 0]]
     assert (t["shown_rows"], t["total_rows"]) == (2, 4)
     assert err.startswith("thresholdc: warning: ") and "junk" in err
+
+
+def test_an_error_while_evaluating_leaves_no_partial_table(tmp_path, capsys, monkeypatch):
+    # DESIGN.md §5: one clear error, no half-written output
+    from thresholdc.errors import DataError
+
+    def fail(source, X):
+        raise DataError("cannot evaluate", file=source.file)
+
+    monkeypatch.setattr(table, "_evaluate", fail)
+    src = write(tmp_path, "t.rules", "input a\ny = not a\n")
+    for extra in ([], ["--json"]):
+        code, out, err = run(capsys, "table", src, *extra)
+        assert code == 2 and out == ""
+        assert err == f"thresholdc: error: {src}: cannot evaluate\n"

@@ -108,6 +108,13 @@ def table_rows(source: Source, limit: int) -> tuple[np.ndarray, np.ndarray, int]
     return X, Y, total
 
 
+def _chunk(source: Source, radices: list[int], start: int, stop: int) -> tuple[np.ndarray,
+                                                                             np.ndarray]:
+    """Rows ``start .. stop-1``: value indices and outputs (0/1), both int64."""
+    X = _digits(radices, start, stop)
+    return X, _evaluate(source, X).astype(np.int64)
+
+
 def _shown(source: Source, total: int, limit: int) -> int:
     """How many rows to print; refuses more than MAX_TABLE_ROWS."""
     shown = total if limit <= 0 else min(limit, total)
@@ -150,6 +157,9 @@ def run(args: argparse.Namespace) -> int:
     shown = _shown(source, total, args.limit)
     if source.program is not None and source.program.unused:
         warn(f"unused definition(s), not in the table: {', '.join(source.program.unused)}")
+    # The first chunk is evaluated before anything is printed, so a mistake found while
+    # evaluating leaves no partial table behind.
+    chunk = _chunk(source, radices, 0, min(_CHUNK, shown))
     out = sys.stdout
     n_out = len(outputs)
     if args.json:
@@ -177,8 +187,7 @@ def run(args: argparse.Namespace) -> int:
         out.write("  ".join(header) + "\n")
     for start in range(0, shown, _CHUNK):
         stop = min(start + _CHUNK, shown)
-        X = _digits(radices, start, stop)
-        Y = _evaluate(source, X).astype(np.int64)
+        X, Y = chunk if start == 0 else _chunk(source, radices, start, stop)
         zeros = np.zeros(len(X), dtype=np.int64)
         indices = [X[:, j] for j in range(X.shape[1])] + [Y[:, k] for k in range(n_out)]
         if args.json:
