@@ -20,6 +20,7 @@ from typing import Any
 import numpy as np
 
 from .errors import RuleError
+from .files import read_text
 from .syntax.ast import Program
 from .synth.gates import GateGraph
 
@@ -30,21 +31,7 @@ NETLIST_SUFFIXES = (".bench", ".blif")
 
 def read_source_text(path: str) -> str:
     """The UTF-8 text of a source file, or a RuleError saying why it cannot be read."""
-    try:
-        with open(path, "rb") as fh:
-            data = fh.read()
-    except FileNotFoundError:
-        raise RuleError("no such file", file=path) from None
-    except IsADirectoryError:
-        raise RuleError("is a folder, not a file", file=path) from None
-    except PermissionError:
-        raise RuleError("permission denied", file=path) from None
-    except OSError as exc:
-        raise RuleError(f"cannot read: {exc.strerror}", file=path) from None
-    try:
-        return data.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        raise RuleError(f"not UTF-8 text (bad byte at offset {exc.start})", file=path) from None
+    return read_text(path, RuleError)
 
 
 @dataclass

@@ -20,6 +20,7 @@ import tempfile
 from typing import Any
 
 from ..errors import NetworkFileError
+from ..files import read_text as _read_text
 from . import activations as act
 from .model import ENCODINGS, ROLES, Network, Neuron, Output
 
@@ -274,19 +275,7 @@ def loads(text: str, file: str = "<network>") -> Network:
 
 def read_text(path: str) -> str:
     """The UTF-8 text of ``path``, or a NetworkFileError that says why it cannot be read."""
-    try:
-        with open(path, encoding="utf-8") as fh:
-            return fh.read()
-    except FileNotFoundError:
-        raise NetworkFileError("no such file", file=path) from None
-    except IsADirectoryError:
-        raise NetworkFileError("is a folder, not a file", file=path) from None
-    except PermissionError:
-        raise NetworkFileError("permission denied", file=path) from None
-    except UnicodeDecodeError:
-        raise NetworkFileError("not UTF-8 text", file=path) from None
-    except OSError as exc:
-        raise NetworkFileError(f"cannot read: {exc.strerror}", file=path) from None
+    return _read_text(path, NetworkFileError)
 
 
 def load(path: str) -> Network:

@@ -36,6 +36,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import DataError, UsageError
+from ..files import read_text
 
 __all__ = [
     "Table",
@@ -108,22 +109,7 @@ class Dataset:
 # --------------------------------------------------------------------------- reading
 def _read_text(path: str) -> str:
     """The UTF-8 text of ``path`` (a leading byte-order mark dropped), or a DataError."""
-    try:
-        with open(path, "rb") as fh:
-            raw = fh.read()
-    except FileNotFoundError:
-        raise DataError("no such file", file=path) from None
-    except IsADirectoryError:
-        raise DataError("is a folder, not a file", file=path) from None
-    except PermissionError:
-        raise DataError("permission denied", file=path) from None
-    except OSError as exc:
-        raise DataError(f"cannot read: {exc.strerror}", file=path) from None
-    try:
-        return raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        line = raw[: exc.start].count(b"\n") + 1
-        raise DataError("not UTF-8 text", file=path, line=line) from None
+    return read_text(path, DataError)
 
 
 def read_table(path: str) -> Table:
