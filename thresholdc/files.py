@@ -15,9 +15,10 @@ from .errors import ThresholdcError
 __all__ = ["read_text"]
 
 
-def read_text(path: str, error: type[ThresholdcError]) -> str:
-    """The UTF-8 text of ``path`` (a leading byte-order mark dropped), or ``error`` saying why
-    it cannot be read: missing, a folder, not permitted, not UTF-8 (with the line)."""
+def read_text(path: str, error: type[ThresholdcError], *, keep_bom: bool = False) -> str:
+    """The UTF-8 text of ``path``, or ``error`` saying why it cannot be read: missing, a
+    folder, not permitted, not UTF-8 (with the line).  A leading byte-order mark is dropped
+    unless ``keep_bom`` (rule files keep it, so the text hashes to the file's own bytes)."""
     try:
         with open(path, "rb") as fh:
             raw = fh.read()
@@ -30,7 +31,7 @@ def read_text(path: str, error: type[ThresholdcError]) -> str:
     except OSError as exc:
         raise error(f"cannot read: {exc.strerror}", file=path) from None
     try:
-        return raw.decode("utf-8-sig")
+        return raw.decode("utf-8" if keep_bom else "utf-8-sig")
     except UnicodeDecodeError as exc:
         line = raw[: exc.start].count(b"\n") + 1
         raise error("not UTF-8 text", file=path, line=line) from None

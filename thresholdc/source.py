@@ -31,7 +31,7 @@ NETLIST_SUFFIXES = (".bench", ".blif")
 
 def read_source_text(path: str) -> str:
     """The UTF-8 text of a source file, or a RuleError saying why it cannot be read."""
-    return read_text(path, RuleError)
+    return read_text(path, RuleError, keep_bom=True)
 
 
 @dataclass
