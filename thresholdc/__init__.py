@@ -27,11 +27,15 @@ from .network.model import Network, Neuron, Output  # noqa: E402
 from .network.relu import to_relu  # noqa: E402
 from .network.soften import apply_activation  # noqa: E402
 from .source import Source, load_source  # noqa: E402
+from .syntax.importers import parse_bench, parse_blif  # noqa: E402
 from .synth.identify import MAX_VARIABLES, Realisation, identify, is_threshold  # noqa: E402
 from .train import TrainResult, load_data, score, train  # noqa: E402
+from .verify.auto import verify_network  # noqa: E402
 from .verify.bounds import verify_bounds  # noqa: E402
 from .verify.certificate import CertificateCheck, check_certificate  # noqa: E402
+from .verify.local import verify_local  # noqa: E402
 from .verify.report import Report  # noqa: E402
+from .verify.sat import verify_sat  # noqa: E402
 from .verify.typed import verify_typed  # noqa: E402
 
 __all__ = [
@@ -45,6 +49,11 @@ __all__ = [
     "load_any",
     "verify",
     "verify_bounds",
+    "verify_network",
+    "verify_local",
+    "verify_sat",
+    "parse_bench",
+    "parse_blif",
     "verify_typed",
     "load_source",
     "identify",
