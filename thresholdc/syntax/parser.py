@@ -179,18 +179,34 @@ def _at(message: str, tok: Token, fallback: Token | None = None) -> RuleError:
     return RuleError(message, line=span.line, column=span.column)
 
 
+_ITE_PLACEMENT = (
+    "'if … then … else …' stands only as a whole right-hand side, inside brackets or as a call "
+    "argument: write '(if … then … else …)'"
+)
+
+
 def _message(tok: Token, expected: set[str], prev: Token | None) -> str:
     """The plain-words message for an unexpected token."""
     after = f" after {_show(prev)}" if prev is not None and prev.type != "_NL" else ""
     is_expr = "NOT_KW" in expected
     if expected <= _END and tok.type not in _END:
         return _unexpected(tok)
+    if (
+        tok.type in ("IF", "NOT_KW", "TRUE", "FALSE")
+        and {"NAME", "LPAR"} <= expected
+        and not is_expr
+    ):
+        # a term of a weighted comparison: a name, a call or a bracketed expression
+        if tok.type == "IF":
+            return _ITE_PLACEMENT
+        shown = f"({tok.value} …)" if tok.type == "NOT_KW" else f"({tok.value})"
+        return (
+            f"expected an operand (a name, a call or a bracketed expression){after}, found "
+            f"'{tok.value}': put it in brackets, as in '{shown}'"
+        )
     if tok.type in _KEYWORD_TYPES and "NAME" in expected:
         if tok.type == "IF" and is_expr:
-            return (
-                "'if … then … else …' stands only as a whole right-hand side, inside brackets "
-                "or as a call argument: write '(if … then … else …)'"
-            )
+            return _ITE_PLACEMENT
         if not is_expr or tok.type not in _EXPR_START:
             if is_expr:
                 return f"expected an expression{after}, found the keyword '{tok.value}'"
