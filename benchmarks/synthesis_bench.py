@@ -1,9 +1,10 @@
 """The collapsing pass on arithmetic netlists: neurons, depth, limits and time.
 
 Circuits come from ``benchmarks/gen_circuits.py`` (ripple-carry adders of XOR/AND/OR, array
-multipliers of AND and NOR full adders, comparators, XOR parity trees) plus two written here
-(an array multiplier of XOR/AND/OR full adders, and a parity tree whose XOR gates are four
-NAND gates each).  Per circuit, from one run:
+multipliers of AND and NOR full adders, comparators, XOR parity trees) plus some written here:
+an array multiplier of XOR/AND/OR full adders, a parity tree whose XOR gates are four NAND
+gates each, a single-error-correcting decoder (XOR syndrome trees and AND decoding, also with
+NAND XORs) and multiplexer trees (AND/OR, and NAND).  Per circuit, from one run:
 
 * ``gates``: logic gates (inverters and buffers not counted);
 * ``base``: the baseline, one neuron per gate with inverters free and XOR/XNOR two neurons;
@@ -111,12 +112,85 @@ def nand_parity(n: int) -> str:
     return "\n".join(lines) + "\n"
 
 
+class _Bench:
+    """.bench lines with fresh gate names; ``nand=True`` writes XOR as four NANDs and a 2:1
+    multiplexer as three NANDs and an inverter."""
+
+    def __init__(self, title: str, nand: bool = False) -> None:
+        self.lines = [f"# {title} (generated)"]
+        self.count = 0
+        self.nand = nand
+
+    def gate(self, op: str, *args: str, name: str | None = None) -> str:
+        if name is None:
+            self.count += 1
+            name = f"u{self.count}"
+        self.lines.append(f"{name} = {op}({', '.join(args)})")
+        return name
+
+    def xor(self, p: str, q: str, name: str | None = None) -> str:
+        if not self.nand:
+            return self.gate("XOR", p, q, name=name)
+        m = self.gate("NAND", p, q)
+        return self.gate("NAND", self.gate("NAND", p, m), self.gate("NAND", q, m), name=name)
+
+    def mux(self, s: str, a: str, b: str, name: str | None = None) -> str:
+        """``a`` when ``s``, else ``b``."""
+        if not self.nand:
+            return self.gate("OR", self.gate("AND", s, a),
+                             self.gate("AND", self.gate("NOT", s), b), name=name)
+        return self.gate("NAND", self.gate("NAND", s, a),
+                         self.gate("NAND", self.gate("NOT", s), b), name=name)
+
+    def text(self) -> str:
+        return "\n".join(self.lines) + "\n"
+
+
+def sec(n_data: int = 32, n_check: int = 8, nand: bool = False) -> str:
+    """A single-error-correcting decoder: syndromes are XOR trees over the data bits of each
+    check group and the received check bit; each data bit is flipped when the syndrome equals
+    its column (an AND of syndrome literals)."""
+    import itertools
+
+    b = _Bench(f"{n_data}-bit single-error-correcting decoder", nand)
+    d = [f"d{i}" for i in range(n_data)]
+    c = [f"c{j}" for j in range(n_check)]
+    b.lines += [f"INPUT({x})" for x in d + c] + [f"OUTPUT(o{i})" for i in range(n_data)]
+    codes = list(itertools.combinations(range(n_check), 3))[:n_data]
+    syn = []
+    for j in range(n_check):
+        terms = [d[i] for i, code in enumerate(codes) if j in code] + [c[j]]
+        while len(terms) > 1:
+            terms = [b.xor(terms[k], terms[k + 1]) if k + 1 < len(terms) else terms[k]
+                     for k in range(0, len(terms), 2)]
+        syn.append(terms[0])
+    neg = [b.gate("NOT", x) for x in syn]
+    for i, code in enumerate(codes):
+        err = b.gate("AND", *[syn[j] if j in code else neg[j] for j in range(n_check)])
+        b.xor(d[i], err, name=f"o{i}")
+    return b.text()
+
+
+def mux_tree(select: int, nand: bool = False) -> str:
+    """A 2**select : 1 multiplexer as a tree of 2:1 multiplexers."""
+    b = _Bench(f"{1 << select}:1 multiplexer tree", nand)
+    d = [f"d{i}" for i in range(1 << select)]
+    s = [f"s{j}" for j in range(select)]
+    b.lines += [f"INPUT({x})" for x in d + s] + ["OUTPUT(y)"]
+    level = d
+    for j in range(select):
+        level = [b.mux(s[j], level[k + 1], level[k],
+                       name="y" if len(level) == 2 else None) for k in range(0, len(level), 2)]
+    return b.text()
+
+
 def circuits(quick: bool) -> list[tuple[str, str]]:
     """(name, .bench text) of every benchmark circuit."""
     if quick:
         return [("adder8", gc.adder(8)), ("mult4", gc.multiplier(4)),
                 ("xmult4", xor_multiplier(4)), ("cmp8", gc.comparator(8)),
-                ("parity16", gc.parity(16)), ("nparity16", nand_parity(16))]
+                ("parity16", gc.parity(16)), ("nparity16", nand_parity(16)),
+                ("sec16", sec(16, 6)), ("nmux16", mux_tree(4, nand=True))]
     return [
         ("adder16", gc.adder(16)), ("adder32", gc.adder(32)), ("adder64", gc.adder(64)),
         ("mult8", gc.multiplier(8)), ("mult12", gc.multiplier(12)),
@@ -124,6 +198,8 @@ def circuits(quick: bool) -> list[tuple[str, str]]:
         ("xmult16", xor_multiplier(16)), ("cmp16", gc.comparator(16)),
         ("cmp32", gc.comparator(32)), ("parity32", gc.parity(32)),
         ("parity64", gc.parity(64)), ("nparity32", nand_parity(32)),
+        ("sec32", sec(32, 8)), ("nsec32", sec(32, 8, nand=True)),
+        ("mux64", mux_tree(6)), ("nmux64", mux_tree(6, nand=True)),
     ]
 
 

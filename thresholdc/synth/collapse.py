@@ -133,7 +133,7 @@ def collapse(
     options: list[list[O.Option]] = [[] for _ in range(N)]
     for v in range(1, N):
         if h.op[v] != "input":
-            options[v] = O.node_options(h, v, found[v], support.get(v), limits)
+            options[v] = O.node_options(h, v, found[v], support.get(v), limits, options)
     _add_helper_options(h, found, options, limits)
     roots = []
     for _, sig in gates.outputs:

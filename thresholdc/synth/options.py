@@ -63,10 +63,12 @@ class Option:
     """A gadget for a node over its leaves (node ids, increasing), computing ``tt`` over them
     (``tt`` is None when there are too many leaves for a table)."""
 
-    __slots__ = ("leaves", "gadget", "tt", "cost", "depth", "_keys")
+    __slots__ = ("leaves", "gadget", "tt", "cost", "depth", "cone", "_keys")
 
-    def __init__(self, leaves: tuple[int, ...], gadget: Gadget, tt: int | None) -> None:
+    def __init__(self, leaves: tuple[int, ...], gadget: Gadget, tt: int | None,
+                 cone: int = 0) -> None:
         self.leaves = leaves
+        self.cone = cone  # the nodes between the leaves and the node (a mask), when known
         self.gadget = gadget
         self.tt = tt
         self.cost = len(gadget)
@@ -198,7 +200,8 @@ def _values(tt: int, n: int, pol: tuple[int, ...]) -> tuple[int, ...]:
 def _cut_options(c: Cut, limits: Limits) -> list[Option]:
     """The options a cut gives by its function alone (built over the leaves the function
     depends on; the cut keeps every leaf, which closes the cone)."""
-    return [Option(c.leaves, g, c.tt) for g in _templates(c.tt, len(c.leaves), limits)]
+    return [Option(c.leaves, g, c.tt, c.cone)
+            for g in _templates(c.tt, len(c.leaves), limits)]
 
 
 # ------------------------------------------------------------------------------ structural options
@@ -285,7 +288,10 @@ def _gate_option(h: Hashed, v: int, lits: tuple[int, ...], limits: Limits) -> Op
     leaves = tuple(lit >> 1 for lit in srt)
     g = _remap(g, where)
     tt = G.evaluate(g, len(leaves)) if len(leaves) <= KEY_LIMIT else None
-    return Option(leaves, g, tt)
+    cone = 1 << v
+    for x in h.inner.get(v, ()) if lits is h.flat.get(v) else ():
+        cone |= 1 << x
+    return Option(leaves, g, tt, cone)
 
 
 def real_option(h: Hashed, v: int) -> Option:
@@ -296,9 +302,10 @@ def real_option(h: Hashed, v: int) -> Option:
 
 
 def node_options(h: Hashed, v: int, cuts: list[Cut], support: Cut | None,
-                 limits: Limits) -> list[Option]:
-    """Every option of node ``v``: from its cuts, its support cut, its flattened chain and its
-    own gate.  Raises UsageError when no option keeps within the limits."""
+                 limits: Limits, prior: list[list[Option]] | None = None) -> list[Option]:
+    """Every option of node ``v``: from its cuts, its support cut, its flattened chain, its
+    own gate, and (with the options ``prior`` of earlier nodes) an ``and``/``xor`` of a
+    one-neuron argument.  Raises UsageError when no option keeps within the limits."""
     if h.op[v] == "real":
         return [real_option(h, v)]
     out: list[Option] = []
@@ -322,11 +329,90 @@ def node_options(h: Hashed, v: int, cuts: list[Cut], support: Cut | None,
     if flat is not None:
         add(_gate_option(h, v, flat, limits))
     add(_gate_option(h, v, h.fanins[v], limits))
+    if prior is not None:
+        for o in _composed_options(h, v, prior, limits):
+            add(o)
     if not out:
         raise UsageError(
             f"signal {h.rep[v]!r} cannot be built within the limits "
             f"(max_fan_in={limits.fan_in}, max_weight={limits.weight})"
         )
+    return out
+
+
+# ------------------------------------------------------------------------------ composed options
+
+_COMPOSE_PER_ARGUMENT = 3  # one-neuron options of an argument composed with the rest
+
+#: Composed options stop at this |weight| (each level multiplies the weights it builds on).
+COMPOSE_WEIGHT_LIMIT = 32
+
+
+def _composed_options(h: Hashed, v: int, prior: list[list[Option]], limits: Limits
+                      ) -> list[Option]:
+    """Options of an ``and`` (any arity) or a two-input ``xor`` one argument of which has a
+    one-neuron option ``e = [s ≥ T]`` (``s = Σ w·x`` over its leaves), the others being read
+    as leaves; the cone may then be wider than the cut size.
+
+    * ``and(y₁ … y_m, e) = [s + B·Σ yⱼ ≥ T + m·B]`` with ``B = max s − T + 1``;
+    * ``xor(y, e)``: ``h = [s + B·y ≥ T + B]`` (e and y) and ``[s + B·y − C·h ≥ T]`` with
+      ``B = max(max s − T + 1, T − min s)`` and ``C = max s + B − T + 1``.
+    """
+    op = h.op[v]
+    fans = h.fanins[v]
+    if v in h.ghost or op not in ("and", "xor") or len(fans) < 2:
+        return []
+    if op == "xor" and len(fans) != 2:
+        return []
+    out: list[Option] = []
+    for i, lit in enumerate(fans):
+        b = lit >> 1
+        others = [fans[j] for j in range(len(fans)) if j != i]
+        other_mask = 0
+        for y in others:
+            other_mask |= 1 << (y >> 1)
+        singles = [o for o in prior[b] if o.cost == 1 and o.leaves and o.cone
+                   and not o.cone & other_mask
+                   and not any((y >> 1) in o.leaves for y in others)]
+        singles.sort(key=lambda o: (-len(o.leaves), o.leaves))
+        for o in singles[:_COMPOSE_PER_ARGUMENT]:
+            spec = o.gadget[0]
+            w = {o.leaves[r]: wt for r, wt in zip(spec.refs, spec.weights)}
+            T = spec.T
+            if lit & 1:  # the argument is read complemented: not [s ≥ T] = [-s ≥ 1 - T]
+                w = {x: -wt for x, wt in w.items()}
+                T = 1 - T
+            smax = sum(wt for wt in w.values() if wt > 0)
+            smin = sum(wt for wt in w.values() if wt < 0)
+            leaves = tuple(sorted(set(o.leaves) | {y >> 1 for y in others}))
+            pos = {x: k for k, x in enumerate(leaves)}
+            base = {pos[x]: wt for x, wt in w.items()}
+            if op == "and":
+                B = smax - T + 1
+                terms = dict(base)
+                T2 = T + len(others) * B
+                for y in others:
+                    if y & 1:  # B·(1 − x)
+                        terms[pos[y >> 1]] = terms.get(pos[y >> 1], 0) - B
+                        T2 -= B
+                    else:
+                        terms[pos[y >> 1]] = terms.get(pos[y >> 1], 0) + B
+                gadget: Gadget = (G._spec(terms, T2),)
+            else:
+                y = others[0]
+                B = max(smax - T + 1, T - smin)
+                Cw = smax + B - T + 1
+                terms = dict(base)
+                ty, off = (B, 0) if not y & 1 else (-B, B)  # B·y, y possibly 1 − x
+                terms[pos[y >> 1]] = ty
+                hspec = G._spec(terms, T + B - off)
+                root = dict(terms)
+                root[-1] = -Cw
+                gadget = (hspec, G._spec(root, T - off))
+            if not limits.fits(gadget) or G.max_weight(gadget) > COMPOSE_WEIGHT_LIMIT:
+                continue
+            tt = G.evaluate(gadget, len(leaves)) if len(leaves) <= KEY_LIMIT else None
+            out.append(Option(leaves, gadget, tt, o.cone | (1 << v)))
     return out
 
 
@@ -449,7 +535,7 @@ def helper_options(c: Cut, g_cut: Cut, g_weights: tuple[int, ...], g_T: int,
     pos = {x: i for i, x in enumerate(c.leaves)}
     gpos = tuple(pos[x] for x in g_cut.leaves)
     gadget = _helper_template(c.tt, len(c.leaves), g_cut.tt, gpos, g_weights, g_T, limits)
-    return None if gadget is None else Option(c.leaves, gadget, c.tt)
+    return None if gadget is None else Option(c.leaves, gadget, c.tt, c.cone)
 
 
 @lru_cache(maxsize=1 << 16)
