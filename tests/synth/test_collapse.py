@@ -227,6 +227,20 @@ def test_atleast_three_of_five_and_f_is_one_neuron():
     assert len(net.neurons) == 1
 
 
+def test_cones_wider_than_the_cut_size():
+    # the and of a literal with a wide threshold gate is one neuron, the xor two, whatever
+    # the cut size (a single-error-correcting decoder's output: data xor all syndromes)
+    names = [f"s{i}" for i in range(8)] + ["d"]
+    g = build(names, [("y", "y"), ("z", "z")], [
+        ("e", Gate("and", tuple(names[:8]))), ("y", Gate("xor", ("d", "e"))),
+        ("m", Gate("threshold", tuple(names[:7]), (1,) * 7, 3)),
+        ("z", Gate("and", ("m", "d")))])
+    net = collapse(g, cut_size=4)
+    check_all(net, g)
+    assert len(net.neurons) == 3
+    assert net.meta["cones"]["z"]["leaves"] == names[:7] + ["d"]
+
+
 def majority_as_sop(names: list[str]) -> list[tuple[str, Gate]]:
     """Majority of an odd number of inputs as the or of every and of (n+1)/2 of them."""
     k = len(names) // 2 + 1
