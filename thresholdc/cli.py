@@ -27,8 +27,7 @@ class _Parser(argparse.ArgumentParser):
     """An ArgumentParser whose errors follow thresholdc's one-line format (exit 2)."""
 
     def error(self, message: str) -> None:  # type: ignore[override]
-        self.print_usage(sys.stderr)
-        sys.stderr.write(f"thresholdc: error: {message}\n")
+        sys.stderr.write(f"thresholdc: error: {message} (see '{self.prog} --help')\n")
         raise SystemExit(2)
 
 

@@ -88,8 +88,10 @@ class ThresholdcError(Exception):
         head = f"thresholdc: error: {self.location()}: {self.message}"
         if self.line is None or self.column is None or self.source_line is None:
             return head
-        src = self.source_line.rstrip("\r\n").expandtabs(1)
-        return f"{head}\n{src}\n{' ' * (self.column - 1)}^"
+        src = self.source_line.rstrip("\r\n")
+        # Keep the line exactly; the caret line copies its tabs so it lines up at any width.
+        pad = "".join("\t" if ch == "\t" else " " for ch in src[: self.column - 1])
+        return f"{head}\n{src}\n{pad}^"
 
     def __str__(self) -> str:
         return f"{self.location()}: {self.message}"

@@ -9,6 +9,7 @@ from typing import Any
 
 from ..compiler import compile_file
 from ..errors import UsageError
+from ..network.fileformat import check_writable
 from .common import add_parser, fmt_num, print_json, warn
 
 SUFFIXES = (".json", ".onnx", ".npz")
@@ -64,6 +65,7 @@ def run(args: argparse.Namespace) -> int:
             f"unknown output suffix {suffix or '(none)'!r} for {args.output}; "
             f"supported: {', '.join(SUFFIXES)}"
         )
+    check_writable(args.output)
     result = compile_file(
         args.source,
         layered=args.layered or suffix == ".npz",
@@ -138,6 +140,13 @@ def summarise(source: str, output: str, result: Any) -> dict[str, Any]:
     return out
 
 
+def _count(n: int, word: str) -> str:
+    """``1 bias``, ``2 biases``, ``3 weights``."""
+    if n == 1:
+        return f"1 {word}"
+    return f"{n} {word}es" if word.endswith("s") else f"{n} {word}s"
+
+
 def _names(names: list[str], limit: int = 8) -> str:
     shown = ", ".join(names[:limit])
     return shown + (f", … (+{len(names) - limit})" if len(names) > limit else "")
@@ -159,7 +168,8 @@ def render_summary(s: dict[str, Any]) -> str:
         f"  inputs       {len(s['inputs'])} ({_names(s['inputs'])})",
         f"  outputs      {len(s['outputs'])} ({_names(s['outputs'])})",
         f"  neurons      {s['neurons']} ({layers or 'none'})",
-        f"  parameters   {p['total']} ({p['weights']} weights + {p['biases']} biases)",
+        f"  parameters   {p['total']} ({_count(p['weights'], 'weight')} + "
+        f"{_count(p['biases'], 'bias')})",
         f"  depth        {s['depth']}",
         f"  activation   {s['activation']}",
     ]

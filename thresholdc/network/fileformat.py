@@ -19,12 +19,15 @@ import os
 import tempfile
 from typing import Any
 
-from ..errors import NetworkFileError
+from ..errors import NetworkFileError, UsageError
 from ..files import read_text as _read_text
 from . import activations as act
 from .model import ENCODINGS, ROLES, Network, Neuron, Output
 
-__all__ = ["FORMAT", "VERSION", "dumps", "loads", "load", "save", "check_network", "atomic_write"]
+__all__ = [
+    "FORMAT", "VERSION", "dumps", "loads", "load", "save", "check_network", "atomic_write",
+    "check_writable",
+]
 
 FORMAT = "thresholdc-network"
 VERSION = 1
@@ -85,7 +88,11 @@ def atomic_write(path: str, data: bytes | str) -> None:
     """Write ``data`` to ``path`` through a temporary file in the same folder, then rename,
     so a failure never leaves a half-written file."""
     folder = os.path.dirname(os.path.abspath(path))
-    fd, tmp = tempfile.mkstemp(dir=folder, prefix=".thresholdc-", suffix=".tmp")
+    check_writable(path)
+    try:
+        fd, tmp = tempfile.mkstemp(dir=folder, prefix=".thresholdc-", suffix=".tmp")
+    except OSError as exc:
+        raise UsageError(f"cannot write here: {exc.strerror}", file=path) from None
     umask = os.umask(0)
     os.umask(umask)
     try:
@@ -97,6 +104,16 @@ def atomic_write(path: str, data: bytes | str) -> None:
         if os.path.exists(tmp):
             os.unlink(tmp)
         raise
+
+
+def check_writable(path: str) -> None:
+    """Raise UsageError when ``path`` cannot be written: its folder is missing or it is a
+    folder itself (checked before long work, so no time is lost on a bad ``-o``)."""
+    folder = os.path.dirname(os.path.abspath(path))
+    if not os.path.isdir(folder):
+        raise UsageError("cannot write: no such folder", file=path)
+    if os.path.isdir(path):
+        raise UsageError("cannot write: is a folder", file=path)
 
 
 def save(net: Network, path: str) -> None:
@@ -266,9 +283,11 @@ def loads(text: str, file: str = "<network>") -> Network:
     try:
         data = json.loads(text)
     except json.JSONDecodeError as exc:
+        lines = text.splitlines()
+        line = lines[exc.lineno - 1] if exc.lineno <= len(lines) else ""
         raise NetworkFileError(
             f"not a JSON network file: {exc.msg}", file=file, line=exc.lineno, column=exc.colno,
-            source_line=text.splitlines()[exc.lineno - 1] if text.splitlines() else None,
+            source_line=line,
         ) from None
     return from_dict(data, file)
 

@@ -33,7 +33,12 @@ from .ast import (
     Term,
 )
 
-__all__ = ["RuleBuilder", "Number", "Value", "PendingCompare", "PendingIn"]
+__all__ = ["RuleBuilder", "Number", "Value", "PendingCompare", "PendingIn", "MAX_COEFFICIENT"]
+
+# Coefficients and right sides of weighted comparisons stay below 2^31, so every weighted sum a
+# compiled neuron forms is exact in float64 (and the common cases in float32).
+MAX_COEFFICIENT = 2**31
+
 
 _NOSPAN = Span(0, 0)
 
@@ -283,6 +288,10 @@ class RuleBuilder(Transformer):
         text = str(coef)
         if not text.isdigit():
             raise error_at(f"coefficients must be integers, found {text}", coef)
+        if int(text) >= MAX_COEFFICIENT:
+            raise error_at(
+                f"coefficient {text} is too large (coefficients must be below 2^31)", coef
+            )
         return (int(text), operand, span_of(coef), True)
 
     def first_term(self, children: list) -> tuple[int, Expr, Span, bool]:
@@ -327,6 +336,10 @@ class RuleBuilder(Transformer):
                 rhs,
             )
         built = tuple(Term(c, operand, span) for c, operand, span, _ in terms)
+        if abs(int(rhs.text)) >= MAX_COEFFICIENT:
+            raise error_at(
+                f"the right side {rhs.text} is too large (it must lie within ±2^31)", rhs
+            )
         return Compare(built, str(op), int(rhs.text), first_span)
 
     def category_test(self, children: list) -> PendingIn:
