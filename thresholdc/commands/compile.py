@@ -49,8 +49,8 @@ def register(subparsers: Any) -> None:
     p.add_argument("--simplify-support", type=int, default=6, metavar="N",
                    help="simplify definitions reading at most N names with sympy (0: off; "
                    "default 6)")
-    p.add_argument("--method", choices=("auto", "exhaustive", "local", "sat"), default="auto",
-                   help="verification method (default auto)")
+    p.add_argument("--method", choices=("auto", "exhaustive", "local", "sat", "bounds"),
+                   default="auto", help="verification method (default auto)")
     p.add_argument("--max-inputs", type=int, default=24, metavar="N",
                    help="largest number of inputs checked exhaustively (default 24)")
     p.add_argument("--time-limit", type=float, default=60.0, metavar="S",
