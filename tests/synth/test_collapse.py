@@ -58,9 +58,12 @@ def gate_value(g: Gate, args: list[np.ndarray]) -> np.ndarray:
 def check_cones(net, g: GateGraph) -> None:
     """Local verification written here: every listed neuron, over its leaves alone, against
     the gate-graph region between the leaves and its root (a signal of a leaf's structural
-    class stops the walk; the classes are the local check's own).  An input the walk reaches
-    that is not a leaf is a free variable: the root must not depend on it."""
+    class stops the walk; the classes are the local check's own, and a leaf of the constant
+    class is that constant).  An input the walk reaches that is not a leaf is a free
+    variable: the root must not depend on it."""
     cls = structural_classes(g)
+    const_class = structural_classes(
+        GateGraph.build([], [], [("k", Gate("const", value=1))]))["k"][0]
     cones = net.meta["cones"]
     neurons = {n.name: n for n in net.neurons}
     for name, cone in cones.items():
@@ -84,6 +87,9 @@ def check_cones(net, g: GateGraph) -> None:
         n = len(leaves) + len(free)
         assert n <= 14
         X = rows(n).astype(bool)
+        for i, leaf in enumerate(leaves):  # a leaf of the constant class is that constant
+            if cls[leaf][0] == const_class:
+                X[:, i] = not cls[leaf][1]
         by_class = {cls[leaf][0]: (X[:, i], cls[leaf][1]) for i, leaf in enumerate(leaves)}
         # the network from the leaf units alone
         netval: dict[str, np.ndarray] = {leaf: X[:, i] for i, leaf in enumerate(leaves)}

@@ -78,29 +78,27 @@ class Cover:
                    and any(u != v and nref[u] > 0 for u in self.root_of.get(k, ())))
 
     # -------------------------------------------------------------- key accounting
-    @staticmethod
-    def _count(roots: int, helps: int) -> int:
-        return max(roots, 1 if helps else 0)
-
     def _add(self, o: Option) -> int:
-        """Take ``o``'s neurons into the cover; return how many neurons that adds."""
+        """Take ``o``'s neurons into the cover; return how many neurons that adds.
+
+        A key's neurons are ``max(roots, 1 if helpers else 0)``."""
         keys = o.keys()
         added = 0
         last = len(keys) - 1
+        n_root, n_help = self.n_root, self.n_help
         for i, (k, _) in enumerate(keys):
             if k is None:
                 added += 1
-                continue
-            r = self.n_root.get(k, 0)
-            hcount = self.n_help.get(k, 0)
-            before = self._count(r, hcount)
-            if i == last:
-                r += 1
-                self.n_root[k] = r
+            elif i == last:
+                r = n_root.get(k, 0)
+                n_root[k] = r + 1
+                if r or not n_help.get(k, 0):
+                    added += 1
             else:
-                hcount += 1
-                self.n_help[k] = hcount
-            added += self._count(r, hcount) - before
+                hc = n_help.get(k, 0)
+                n_help[k] = hc + 1
+                if not hc and not n_root.get(k, 0):
+                    added += 1
         return added
 
     def _remove(self, o: Option) -> int:
@@ -108,20 +106,20 @@ class Cover:
         keys = o.keys()
         freed = 0
         last = len(keys) - 1
+        n_root, n_help = self.n_root, self.n_help
         for i, (k, _) in enumerate(keys):
             if k is None:
                 freed += 1
-                continue
-            r = self.n_root.get(k, 0)
-            hcount = self.n_help.get(k, 0)
-            before = self._count(r, hcount)
-            if i == last:
-                r -= 1
-                self.n_root[k] = r
+            elif i == last:
+                r = n_root[k] - 1
+                n_root[k] = r
+                if r or not n_help.get(k, 0):
+                    freed += 1
             else:
-                hcount -= 1
-                self.n_help[k] = hcount
-            freed += before - self._count(r, hcount)
+                hc = n_help[k] - 1
+                n_help[k] = hc
+                if not hc and not n_root.get(k, 0):
+                    freed += 1
         return freed
 
     def _ref(self, v: int) -> int:
