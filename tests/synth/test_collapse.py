@@ -319,7 +319,20 @@ def parity_xnor_mix(names: list[str]) -> list[tuple[str, Gate]]:
     return gates
 
 
-@pytest.mark.parametrize("style", [parity_chain, parity_tree, parity_sop, parity_xnor_mix])
+def parity_nand(names: list[str]) -> list[tuple[str, Gate]]:
+    """Parity as a chain of XORs, each written as four NAND gates (common practice)."""
+    gates = []
+    prev = names[0]
+    for i, x in enumerate(names[1:]):
+        out = "y" if i == len(names) - 2 else f"x~{i}"
+        gates += [(f"m{i}", Gate("nand", (prev, x))), (f"l{i}", Gate("nand", (prev, f"m{i}"))),
+                  (f"r{i}", Gate("nand", (x, f"m{i}"))), (out, Gate("nand", (f"l{i}", f"r{i}")))]
+        prev = out
+    return gates
+
+
+@pytest.mark.parametrize("style", [parity_chain, parity_tree, parity_sop, parity_xnor_mix,
+                                   parity_nand])
 def test_parity_of_seven_is_three_neurons_however_written(style):
     # ⌈log2(7 + 1)⌉ = 3 neurons, one per bit of the count of true inputs (common practice)
     names = [f"x{i}" for i in range(7)]

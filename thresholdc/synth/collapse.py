@@ -5,7 +5,8 @@ Passes, in order (each returns new objects; the gate graph is not changed):
 1. structural hashing (:mod:`~thresholdc.synth.strash`): duplicate gates merge, inverters and
    buffers become complemented edges, constants fold, and/or/xor chains are flattened;
 2. cut enumeration (:mod:`~thresholdc.synth.cuts`): up to ``cut_size`` leaves per cut, each
-   with its truth table, plus the whole input support of nodes with a small one;
+   with its truth table, plus the whole input support of nodes with a small one; parity
+   chains found by function (:mod:`~thresholdc.synth.parity`: XOR written as NAND gates);
 3. options (:mod:`~thresholdc.synth.options`): a cut whose function is a threshold function is
    one neuron; symmetric functions get counting constructions (parity of ``n`` in
    ⌈log2(n+1)⌉ neurons); ``[w·x + u·g ≥ T]`` with another node's neuron ``g`` as a helper;
@@ -47,6 +48,7 @@ from . import cuts as C
 from . import options as O
 from .cover import Cover
 from .gates import GateGraph
+from .parity import parity_chains, parity_options
 from .strash import Hashed, hash_gates
 
 __all__ = ["collapse", "SUPPORT_LIMIT"]
@@ -130,10 +132,15 @@ def collapse(
     found = C.enumerate_cuts(h, cut_size)
     support = C.support_cuts(h, cut_size, max(cut_size, SUPPORT_LIMIT))
     N = len(h.op)
+    chains = parity_chains(h, found)
     options: list[list[O.Option]] = [[] for _ in range(N)]
     for v in range(1, N):
         if h.op[v] != "input":
             options[v] = O.node_options(h, v, found[v], support.get(v), limits, options)
+            if v in chains:
+                o = parity_options(chains[v], limits)
+                if o is not None:
+                    options[v].append(o)
     _add_helper_options(h, found, options, limits)
     roots = []
     for _, sig in gates.outputs:
