@@ -84,15 +84,19 @@ def check_cones(net, g: GateGraph) -> None:
             if g.gates[s].op == "input":
                 free.append(s)
             stack.extend(g.gates[s].args)
-        n = len(leaves) + len(free)
+        # one variable per leaf class (two leaves of one class carry one value), then the
+        # free inputs; a leaf of the constant class is that constant
+        classes = sorted({cls[leaf][0] for leaf in leaves})
+        n = len(classes) + len(free)
         assert n <= 14
         X = rows(n).astype(bool)
-        for i, leaf in enumerate(leaves):  # a leaf of the constant class is that constant
-            if cls[leaf][0] == const_class:
-                X[:, i] = not cls[leaf][1]
-        by_class = {cls[leaf][0]: (X[:, i], cls[leaf][1]) for i, leaf in enumerate(leaves)}
+        col = {c: X[:, i] for i, c in enumerate(classes)}
+        if const_class in col:
+            col[const_class] = np.ones(len(X), dtype=bool)
+        by_class = {c: (col[c], False) for c in classes}
+        leafval = {leaf: col[cls[leaf][0]] ^ cls[leaf][1] for leaf in leaves}
         # the network from the leaf units alone
-        netval: dict[str, np.ndarray] = {leaf: X[:, i] for i, leaf in enumerate(leaves)}
+        netval: dict[str, np.ndarray] = dict(leafval)
         stack = [name]
         while stack:
             u = stack[-1]
@@ -112,7 +116,7 @@ def check_cones(net, g: GateGraph) -> None:
             netval[u] = z > 0
             stack.pop()
         # the gate graph from the leaves (and the free inputs)
-        gval: dict[str, np.ndarray] = {x: X[:, len(leaves) + i] for i, x in enumerate(free)}
+        gval: dict[str, np.ndarray] = {x: X[:, len(classes) + i] for i, x in enumerate(free)}
         stack = [root]
         while stack:
             s = stack[-1]

@@ -203,12 +203,18 @@ def test_every_cut_table_is_the_node_as_a_function_of_its_leaves(g, k):
             if not all(x in vals for x in c.leaves) or v not in vals:
                 continue
             # on every row of the circuit, the table read at the leaves' values is the node
-            idx = sum(vals[x].astype(np.int64) << i for i, x in enumerate(c.leaves))
-            got = (c.tt >> idx) & 1 if c.leaves else np.full(len(X), c.tt & 1)
-            assert np.array_equal(got.astype(bool), vals[v])
+            assert np.array_equal(read_table(c, vals, len(X)), vals[v])
     for v, c in support_cuts(h, 2, 5).items():
-        idx = sum(vals[x].astype(np.int64) << i for i, x in enumerate(c.leaves))
-        assert np.array_equal(((c.tt >> idx) & 1).astype(bool), vals[v])
+        assert np.array_equal(read_table(c, vals, len(X)), vals[v])
+
+
+def read_table(c, vals: dict[int, np.ndarray], rows: int) -> np.ndarray:
+    """The cut's table read at its leaves' values on every row."""
+    bits = np.array([(c.tt >> r) & 1 for r in range(1 << len(c.leaves))], dtype=bool)
+    idx = np.zeros(rows, dtype=np.int64)
+    for i, x in enumerate(c.leaves):
+        idx |= vals[x].astype(np.int64) << i
+    return bits[idx]
 
 
 def test_hashing_merges_duplicates_and_folds_inverters():

@@ -522,7 +522,7 @@ def _solve_helper(tt: int, g_tt: int, n: int) -> tuple[tuple[int, ...], int, int
     if got is not None:
         return got
     res = milp(c, constraints=cons, integrality=np.ones(2 * m), bounds=Bounds(lo_b, hi_b),
-               options={"time_limit": 2.0})
+               options={"node_limit": 2000})  # a work bound, not a clock: deterministic
     if res.x is None or res.status != 0:
         return None
     return exact(res.x)
