@@ -123,7 +123,23 @@ def _synthesise(source: Source, shape: dict[str, Any]) -> tuple[Network, Network
         max_weight=shape["max_weight"],
         reserved=source.names,
     )
+    # Keep the per-gate mapping where the cover did not win (fewest neurons, then depth) and
+    # the mapping also meets the limits.
+    if _size(mapped) < _size(collapsed) and _within(mapped, shape):
+        return mapped, mapped
     return mapped, collapsed
+
+
+def _size(net: Network) -> tuple[int, int]:
+    return (len(net.neurons), net.depth)
+
+
+def _within(net: Network, shape: dict[str, Any]) -> bool:
+    """True when ``net`` meets the fan-in and |weight| limits of the options."""
+    stats = network_stats(net)
+    return (shape["max_fan_in"] is None or stats["max_fan_in"] <= shape["max_fan_in"]) and (
+        shape["max_weight"] is None or stats["max_weight"] <= shape["max_weight"]
+    )
 
 
 def _activate(net: Network, shape: dict[str, Any]) -> Network:
