@@ -79,3 +79,39 @@ def test_random_rules_collapse_to_the_reference_function(text, k, fan_in):
     assert report.result == "equal", (text, report.notes)
     if fan_in is not None:
         assert all(nn.fan_in <= fan_in for nn in net.neurons)
+
+
+def neurons_of(text: str) -> int:
+    """Neurons of the collapsed network of a rule file (checked against the reference)."""
+    program = parse(text, "t.rules")
+    gates = lower_to_gates(program)
+    net = collapse(gates)
+    n = len(gates.inputs)
+    X = ((np.arange(1 << n)[:, None] >> np.arange(n)) & 1).astype(np.uint8)
+    assert np.array_equal(net.decide(X), evaluate(program, X).astype(bool))
+    return len(net.neurons)
+
+
+def test_known_constructions_written_as_rules():
+    # Muroga 1971: the full adder in two threshold gates
+    assert neurons_of("input a, b, c\nsum = a ^ b ^ c\ncarry = majority(a, b, c)\n") == 2
+    assert neurons_of("input a, b, c\ny = a and (b or c)\n") == 1
+    assert neurons_of("input a, b, c, d, e, f\ny = atleast(3, a, b, c, d, e) and f\n") == 1
+    assert neurons_of("input a, b, c, d, e\ny = atmost(2, a, b, c, d, e)\n") == 1
+
+
+def test_parity_of_seven_rules_is_three_neurons_however_written():
+    # ⌈log2(7 + 1)⌉ = 3 neurons (common practice)
+    head = "input a, b, c, d, e, f, g\n"
+    names = "abcdefg"
+    terms = []
+    for r in range(128):
+        if bin(r).count("1") % 2:
+            terms.append("(" + " and ".join(x if (r >> i) & 1 else f"not {x}"
+                                             for i, x in enumerate(names)) + ")")
+    for body in ("y = a ^ b ^ c ^ d ^ e ^ f ^ g\n",
+                 "y = parity(a, parity(b, c), d xor (e xor f), g)\n",
+                 "p = a xor b\nq = p xor c\nr = q xor d\ns = r xor e\nt = s xor f\n"
+                 "y = t xor g\noutput y\n",
+                 "y = " + " or ".join(terms) + "\n"):
+        assert neurons_of(head + body) == 3, body
