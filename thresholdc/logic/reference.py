@@ -32,6 +32,7 @@ from ..syntax.ast import (
     Not,
     Program,
     RealTest,
+    sub_expressions,
 )
 
 __all__ = ["evaluate", "evaluate_columns"]
@@ -159,19 +160,7 @@ def _run(program: Program, env: dict[str, np.ndarray], rows: int) -> dict[str, n
     return env
 
 
-def _children(node: Expr) -> tuple:
-    """The operands of a node, in order."""
-    if isinstance(node, BinOp):
-        return (node.left, node.right)
-    if isinstance(node, Not):
-        return (node.operand,)
-    if isinstance(node, Ite):
-        return (node.cond, node.then, node.other)
-    if isinstance(node, Call):
-        return node.args
-    if isinstance(node, Compare):
-        return tuple(t.operand for t in node.terms)
-    return ()
+_children = sub_expressions
 
 
 def _evaluate_expr(

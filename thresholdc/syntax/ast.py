@@ -41,6 +41,7 @@ __all__ = [
     "BINARY_OPS",
     "CALLS",
     "COMPARE_OPS",
+    "sub_expressions",
 ]
 
 BINARY_OPS = ("and", "or", "xor", "implies", "iff")
@@ -178,6 +179,25 @@ class RealTest:
 
 
 Expr = Name | Const | Not | BinOp | Ite | Call | Compare | CategoryTest | RealTest
+
+
+def sub_expressions(node: Expr) -> tuple[Expr, ...]:
+    """The operands of a node, in source order (none for names, constants and tests).
+
+    >>> sub_expressions(BinOp("and", Name("a"), Not(Name("b"))))
+    (a, (not b))
+    """
+    if isinstance(node, BinOp):
+        return (node.left, node.right)
+    if isinstance(node, Not):
+        return (node.operand,)
+    if isinstance(node, Ite):
+        return (node.cond, node.then, node.other)
+    if isinstance(node, Call):
+        return node.args
+    if isinstance(node, Compare):
+        return tuple(t.operand for t in node.terms)
+    return ()
 
 
 @dataclass(frozen=True, slots=True)

@@ -31,6 +31,7 @@ from .ast import (
     Program,
     RealTest,
     Term,
+    sub_expressions,
 )
 from .transform import Number, PendingCompare, PendingIn, Value, error_at
 
@@ -142,19 +143,7 @@ def _collect_outputs(
 # ---- names and types inside expressions ----------------------------------------------------
 
 
-def _children(node: Expr) -> tuple:
-    """The sub-expressions of a node, in source order."""
-    if isinstance(node, BinOp):
-        return (node.left, node.right)
-    if isinstance(node, Not):
-        return (node.operand,)
-    if isinstance(node, Ite):
-        return (node.cond, node.then, node.other)
-    if isinstance(node, Call):
-        return node.args
-    if isinstance(node, Compare):
-        return tuple(t.operand for t in node.terms)
-    return ()
+_children = sub_expressions
 
 
 def _rebuild(node: Expr, kids: list) -> Expr:
