@@ -278,25 +278,26 @@ def and_tree(sigma: tuple[int, ...], limit: int) -> Gadget:
         items.append((-len(specs), 1))
 
 
-def parity_tree(n: int, limit: int | None, weight: int | None) -> Gadget | None:
-    """The parity of ``n`` leaves within a fan-in and weight limit: parities of groups, then
-    the parity of the group results (the last group read plainly)."""
+@cache
+def _direct_parity(n: int, limit: int | None, weight: int | None) -> Gadget | None:
+    """The smallest single counting construction of the parity of ``n`` that fits."""
     best = None
     for build in (counting, blocks, steps):
         g = build((1,) * n, tuple(c & 1 for c in range(n + 1)))
-        if g is not None and _fits(g, limit, weight):
-            if best is None or len(g) < len(best):
-                best = g
-    if best is not None:
-        return best
-    if n <= 2:
-        return None
-    # split into groups small enough to fit, each a sub-gadget whose root feeds the next level
-    for size in range(n - 1, 1, -1):
-        sub = parity_tree(size, limit, weight)
-        if sub is not None:
-            break
-    else:
+        if g is not None and _fits(g, limit, weight) and (best is None or len(g) < len(best)):
+            best = g
+    return best
+
+
+@cache
+def parity_tree(n: int, limit: int | None, weight: int | None) -> Gadget | None:
+    """The parity of ``n`` leaves within a fan-in and weight limit: one construction when one
+    fits, else parities of the largest groups that fit, level by level (a loop)."""
+    direct = _direct_parity(n, limit, weight)
+    if direct is not None or n <= 2:
+        return direct
+    size = next((s for s in range(n - 1, 1, -1) if _direct_parity(s, limit, weight)), None)
+    if size is None:
         return None
     specs: list[Spec] = []
     refs: list[int] = list(range(n))
@@ -307,9 +308,8 @@ def parity_tree(n: int, limit: int | None, weight: int | None) -> Gadget | None:
             if len(group) == 1:
                 nxt.append(group[0])
                 continue
-            g = parity_tree(len(group), limit, weight)
-            if g is None:
-                return None
+            g = _direct_parity(len(group), limit, weight)
+            assert g is not None  # smaller groups fit when a larger one does
             base = len(specs)
             for s in g:
                 new_refs = tuple(group[r] if r >= 0 else -(base + (-r - 1)) - 1 for r in s.refs)
