@@ -237,3 +237,23 @@ def test_xor_chains_are_flattened():
     g = GateGraph.build(names, [("y", prev)], gates)
     h = hash_gates(g)
     assert len(h.flat[h.lit_of[prev] >> 1]) == 7
+
+
+def run_gadget(g, X: np.ndarray) -> np.ndarray:
+    """A gadget's root on the rows ``X`` (rows × leaves), neuron by neuron."""
+    vals: list[np.ndarray] = []
+    for s in g:
+        z = np.zeros(len(X), dtype=np.int64)
+        for r, w in zip(s.refs, s.weights):
+            z += w * (X[:, r] if r >= 0 else vals[-r - 1])
+        vals.append((z >= s.T).astype(np.int64))
+    return vals[-1].astype(bool)
+
+
+@pytest.mark.parametrize("limit, weight", [(2, 1), (4, 4), (8, None)])
+def test_wide_parity_trees_within_limits(limit, weight):
+    rng = np.random.default_rng(3)
+    X = rng.integers(0, 2, (500, 64))
+    g = G.parity_tree(64, limit, weight)
+    assert G.fits(g, limit, weight)
+    assert np.array_equal(run_gadget(g, X), X.sum(axis=1) % 2 == 1)
