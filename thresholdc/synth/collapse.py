@@ -48,6 +48,7 @@ from . import cuts as C
 from . import options as O
 from .cover import Cover
 from .gates import GateGraph
+from .helpers import add_helper_options
 from .parity import parity_chains, parity_options
 from .strash import Hashed, hash_gates
 
@@ -141,7 +142,7 @@ def collapse(
                 o = parity_options(chains[v], limits)
                 if o is not None:
                     options[v].append(o)
-    _add_helper_options(h, found, options, limits)
+    add_helper_options(h, found, options, limits)
     roots = []
     for _, sig in gates.outputs:
         x = h.lit_of[sig] >> 1
@@ -150,59 +151,6 @@ def collapse(
     cover = Cover(N, options, roots, h.fanouts())
     cover.run()
     return _build(gates, h, cover, set(reserved))
-
-
-# ------------------------------------------------------------------------------ helper options
-
-_HELPER_CUTS = 6  # non-threshold cuts per node tried with a helper
-_HELPER_CANDIDATES = 6  # helpers tried per cut
-
-
-def _add_helper_options(h: Hashed, found: list[list[C.Cut]], options: list[list[O.Option]],
-                        limits: O.Limits) -> None:
-    """Two-neuron options ``[w·x + u·g ≥ T]`` where ``g`` is a threshold function that some
-    other node computes over the same leaves (or all but one of them)."""
-    fanout = h.fanouts()
-    by_mask: dict[int, list[tuple[int, C.Cut, tuple[int, ...], int]]] = {}
-    for v in range(1, len(h.op)):
-        for c in found[v]:
-            if len(c.leaves) < 2:
-                continue
-            sup, cls = O.classify_cut(c)
-            if cls is not None and cls[0] == "thr":
-                ws = [0] * len(c.leaves)
-                for i, w in zip(sup, cls[1]):
-                    ws[i] = w
-                by_mask.setdefault(c.mask, []).append((v, c, tuple(ws), cls[2]))
-    for v in range(1, len(h.op)):
-        tried = 0
-        for c in found[v]:
-            n = len(c.leaves)
-            if n < 2:
-                continue
-            if O.classify_cut(c)[1] is not None:
-                continue  # threshold or symmetric: it has its own gadgets
-            tried += 1
-            if tried > _HELPER_CUTS:
-                break
-            cands = list(by_mask.get(c.mask, ()))
-            if n > 2:
-                for x in c.leaves:
-                    cands.extend(by_mask.get(c.mask & ~(1 << x), ()))
-            # nodes read in several places (or outputs) first: they get neurons anyway
-            cands.sort(key=lambda e: (-fanout[e[0]], -e[0]))
-            got = 0
-            seen: set[tuple[int, int]] = set()
-            for u, gc, gw, gT in cands:
-                if u == v or (gc.mask, gc.tt) in seen:
-                    continue
-                seen.add((gc.mask, gc.tt))
-                o = O.helper_options(c, gc, gw, gT, limits)
-                if o is not None:
-                    options[v].append(o)
-                    got += 1
-                    if got >= _HELPER_CANDIDATES:
-                        break
 
 
 # ------------------------------------------------------------------------------ the network

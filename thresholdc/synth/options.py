@@ -5,9 +5,9 @@ Rules
       :func:`thresholdc.synth.identify.identify`, the smallest realisation).
     * A cut whose function is symmetric (a function of how many literals are true) gets every
       counting construction of :mod:`thresholdc.synth.gadgets` that keeps within the limits.
-    * A cut whose function is ``[Σ w·x + u·g ≥ T]`` for a threshold function ``g`` of the same
-      leaves that another node computes over them gets a two-neuron gadget; when that node is
-      implemented by the same neuron, the helper is shared (the cover counts it once).
+    * (:mod:`thresholdc.synth.helpers` adds two-neuron options ``[Σ w·x + u·g ≥ T]`` with
+      another node's threshold function ``g`` as the helper; the cover counts a helper once
+      when that node's own neuron computes it.)
     * Every node also has the gadget of its own gate over its arguments, and a flattened
       ``and``/``xor`` chain its gate over all the chain's arguments; fan-in and weight limits
       are met by trees.  An option breaking a limit is dropped.
@@ -39,7 +39,7 @@ from .cuts import Cut
 from .gadgets import Gadget, Spec
 from .strash import Hashed
 
-__all__ = ["Option", "Limits", "classify", "node_options", "helper_options", "KEY_LIMIT"]
+__all__ = ["Option", "Limits", "classify", "classify_cut", "node_options", "KEY_LIMIT"]
 
 #: Gadgets over at most this many leaves carry truth-table keys (so neurons can be shared).
 KEY_LIMIT = 10
@@ -414,141 +414,3 @@ def _composed_options(h: Hashed, v: int, prior: list[list[Option]], limits: Limi
             tt = G.evaluate(gadget, len(leaves)) if len(leaves) <= KEY_LIMIT else None
             out.append(Option(leaves, gadget, tt, o.cone | (1 << v)))
     return out
-
-
-# ------------------------------------------------------------------------------ helper options
-
-
-def _helper_possible(tt: int, g_tt: int, n: int) -> bool:
-    """A necessary condition for ``f = [w·x + u·g ≥ T]``: between two rows that differ only in
-    ``xᵢ`` and agree on ``g``, ``f`` can only move the way the sign of ``wᵢ`` says, so it must
-    never rise with ``xᵢ`` in one place and fall with it in another."""
-    mask = ttable.full(n)
-    ng = ~g_tt & mask
-    for i in range(n):
-        hi = ttable.var(n, i)
-        s = 1 << i
-        f1 = (tt & hi) >> s
-        f0 = tt & ~hi & mask
-        same = ((g_tt & hi) >> s) & g_tt | ((ng & hi) >> s) & ng  # g equal on both rows
-        same &= ~hi & mask
-        if (f1 & ~f0 & same) and (f0 & ~f1 & same):
-            return False
-    return True
-
-
-def _canonical_order(tt: int, g_tt: int, n: int) -> tuple[int, ...]:
-    """An order of the variables by how often ``f``, ``g`` and both are true with each (ties
-    kept in place), so that pairs equal up to a permutation mostly meet in the cache."""
-    def sig(i: int) -> tuple[int, int, int]:
-        v = ttable.var(n, i)
-        return ((tt & v).bit_count(), (g_tt & v).bit_count(), (tt & g_tt & v).bit_count())
-
-    return tuple(sorted(range(n), key=lambda i: (sig(i), i)))
-
-
-def _permute(tt: int, n: int, order: tuple[int, ...]) -> int:
-    """The table with variable ``order[k]`` moved to position ``k``."""
-    pos = list(range(n))  # pos[j]: where original variable j is now
-    at = list(range(n))   # at[p]: the original variable at position p
-    out = tt
-    for k, j in enumerate(order):
-        p = pos[j]
-        if p != k:
-            out = ttable.swap(out, n, k, p)
-            other = at[k]
-            at[k], at[p] = j, other
-            pos[j], pos[other] = k, p
-    return out
-
-
-def _with_helper(tt: int, g_tt: int, n: int) -> tuple[tuple[int, ...], int, int] | None:
-    """Integer ``(w, u, T)`` with ``f = [w·x + u·g ≥ T]`` on every row, small in
-    ``Σ|w| + |u| + |T|``, or None (solved once per pair up to a permutation)."""
-    if not _helper_possible(tt, g_tt, n):
-        return None
-    order = _canonical_order(tt, g_tt, n)
-    got = _solve_helper(_permute(tt, n, order), _permute(g_tt, n, order), n)
-    if got is None:
-        return None
-    w, u, T = got
-    orig = [0] * n
-    for k, j in enumerate(order):
-        orig[j] = w[k]
-    return tuple(orig), u, T
-
-
-@lru_cache(maxsize=1 << 14)
-def _solve_helper(tt: int, g_tt: int, n: int) -> tuple[tuple[int, ...], int, int] | None:
-    """The LP of least ``Σ|w| + |u| + |T|`` with margin 1 (HiGHS); its rounded solution when
-    that realises ``f``, else the same problem as an ILP."""
-    from scipy.optimize import Bounds, LinearConstraint, linprog, milp
-    rows = 1 << n
-    r = np.arange(rows)
-    X = ((r[:, None] >> np.arange(n)) & 1).astype(float)
-    f = np.array([(tt >> i) & 1 for i in range(rows)], dtype=bool)
-    gcol = np.array([(g_tt >> i) & 1 for i in range(rows)], dtype=float)
-    m = n + 2  # w (n), u, T ; then |.| bounds t (m)
-    A = np.zeros((rows, 2 * m))
-    A[:, :n] = X
-    A[:, n] = gcol
-    A[:, n + 1] = -1.0
-    lo = np.where(f, 0.0, -np.inf)
-    hi = np.where(f, np.inf, -1.0)
-    cons = [LinearConstraint(A, lo, hi)]
-    eye = np.eye(m)
-    P = np.hstack([eye, -eye])   # v - t <= 0
-    Q = np.hstack([-eye, -eye])  # -v - t <= 0
-    cons.append(LinearConstraint(np.vstack([P, Q]), -np.inf, 0.0))
-    big = 4 * (1 << n)
-    c = np.concatenate([np.zeros(m), np.ones(m)])
-    lo_b = np.concatenate([-big * np.ones(m), np.zeros(m)])
-    hi_b = big * np.ones(2 * m)
-
-    def exact(x: np.ndarray) -> tuple[tuple[int, ...], int, int] | None:
-        x = np.rint(x[:m]).astype(int)
-        w = tuple(int(a) for a in x[:n])
-        u, T = int(x[n]), int(x[n + 1])
-        z = X @ np.array(w, dtype=float) + u * gcol
-        return (w, u, T) if u != 0 and np.array_equal(z >= T, f) else None
-
-    A_ub = np.vstack([-A[f], A[~f], np.vstack([P, Q])])
-    b_ub = np.concatenate([np.zeros(int(f.sum())), -np.ones(int((~f).sum())),
-                           np.zeros(2 * m)])
-    res = linprog(c, A_ub=A_ub, b_ub=b_ub, bounds=list(zip(lo_b, hi_b)), method="highs")
-    if res.status != 0 or res.x is None:
-        return None  # not even the relaxation is feasible
-    got = exact(res.x)
-    if got is not None:
-        return got
-    res = milp(c, constraints=cons, integrality=np.ones(2 * m), bounds=Bounds(lo_b, hi_b),
-               options={"node_limit": 2000})  # a work bound, not a clock: deterministic
-    if res.x is None or res.status != 0:
-        return None
-    return exact(res.x)
-
-
-def helper_options(c: Cut, g_cut: Cut, g_weights: tuple[int, ...], g_T: int,
-                   limits: Limits) -> Option | None:
-    """The two-neuron option ``[w·x + u·g ≥ T]`` of cut ``c`` with the helper ``g`` (a
-    threshold function whose cut ``g_cut`` has leaves among ``c``'s)."""
-    pos = {x: i for i, x in enumerate(c.leaves)}
-    gpos = tuple(pos[x] for x in g_cut.leaves)
-    gadget = _helper_template(c.tt, len(c.leaves), g_cut.tt, gpos, g_weights, g_T, limits)
-    return None if gadget is None else Option(c.leaves, gadget, c.tt, c.cone)
-
-
-@lru_cache(maxsize=1 << 16)
-def _helper_template(tt: int, n: int, g_small: int, gpos: tuple[int, ...],
-                     g_weights: tuple[int, ...], g_T: int, limits: Limits) -> Gadget | None:
-    """:func:`helper_options` over leaf positions (cached)."""
-    g_tt = ttable.expand(g_small, gpos, n)
-    found = _with_helper(tt, g_tt, n)
-    if found is None:
-        return None
-    w, u, T = found
-    gw = [0] * n
-    for p, wx in zip(gpos, g_weights):
-        gw[p] = wx
-    gadget = G.helper(tuple(gw), g_T, w, u, T)
-    return gadget if limits.fits(gadget) else None
