@@ -3,12 +3,14 @@
 Rules
     * A *literal* is ``2·node + negated``; node 0 is the constant 0, so literal 0 is false and
       literal 1 is true.  ``not`` and ``buf`` gates make no node: they change the literal.
-    * Which signals share a node is decided by the structural classes of the local check
-      (:func:`thresholdc.verify.local.structural_classes`, restated here so synthesis needs no
-      verifier): ``buf`` is its argument, ``not`` flips, ``or``/``nand``/``nor`` are (negated)
-      ``and`` of (negated) arguments, xor/xnor fold argument negations and cancel pairs,
-      threshold/equal gates fold negated arguments, ``ite`` with a negated condition swaps its
-      branches, commutative arguments are sorted.  So every merge is one the check recognises.
+    * Which signals share a node is decided by structural classes that refine those of the
+      local check (:func:`thresholdc.verify.local.structural_classes`; its core rules are
+      restated here so synthesis needs no verifier): ``buf`` is its argument, ``not`` flips,
+      ``or``/``nand``/``nor`` are (negated) ``and`` of (negated) arguments, xor/xnor fold
+      argument negations and cancel pairs, threshold/equal gates fold negated arguments,
+      ``ite`` with a negated condition swaps its branches, commutative arguments are sorted.
+      The check folds constants too (it merges more); every merge made here is one it
+      recognises, which a test checks.
     * Each node's *function* is the first gate of its class in a one-level canonical form over
       its argument literals: ``and`` (sorted, repeats dropped), ``xor`` (arguments plain,
       polarity moved out), ``thr`` (``Σ wᵢ·litᵢ ≥ T`` with positive weights, in lowest terms;
@@ -232,9 +234,9 @@ def _ite(h: Hashed, c: int, t: int, e: int) -> int:
 
 
 def _classes(gates: GateGraph) -> tuple[dict[str, tuple[int, bool]], int | None]:
-    """The structural class ``(id, negated)`` of every signal (the rules of
-    :func:`thresholdc.verify.local.structural_classes`, restated), and the id of the constant
-    class (true when not negated)."""
+    """The structural class ``(id, negated)`` of every signal (the core rules of
+    :func:`thresholdc.verify.local.structural_classes`, without its constant folding), and the
+    id of the constant class (true when not negated)."""
     table: dict[tuple, int] = {}
     cls: dict[str, tuple[int, bool]] = {}
 
