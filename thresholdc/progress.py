@@ -39,6 +39,9 @@ class _Silent:
     def set_postfix_str(self, s: str) -> None:
         pass
 
+    def set_postfix(self, *args: Any, **kwargs: Any) -> None:
+        pass
+
     def close(self) -> None:
         pass
 
@@ -49,9 +52,14 @@ class _Silent:
         self.close()
 
 
-def bar(total: int, desc: str, *, unit: str = "it") -> Any:
-    """A tqdm bar on a terminal when enabled, else a silent one (both are context managers)."""
-    if not is_enabled():
+def bar(total: int, desc: str, *, unit: str = "it", show: bool | None = None) -> Any:
+    """A tqdm bar on a terminal when enabled, else a silent one (both are context managers).
+
+    ``show`` overrides the context's setting (a caller's own ``progress=`` option); a bar is
+    still shown only on a terminal.
+    """
+    on = is_enabled() if show is None else (show and sys.stderr.isatty())
+    if not on:
         return _Silent()
     try:
         from tqdm import tqdm

@@ -28,7 +28,6 @@ checks it.
 from __future__ import annotations
 
 import math
-import sys
 from collections.abc import Iterator
 from dataclasses import replace
 from decimal import ROUND_CEILING, Decimal
@@ -37,6 +36,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import UsageError
+from ..progress import bar as progress_bar
 from .model import Network
 
 __all__ = [
@@ -234,15 +234,11 @@ def _row_chunks(n_inputs: int, chunk: int, progress: bool) -> Iterator[tuple[int
     """``(start, stop)`` ranges covering 0 … 2**n_inputs − 1, with an optional tqdm bar."""
     total = 1 << n_inputs
     starts = range(0, total, chunk)
-    if progress and sys.stderr.isatty() and len(starts) > 4:
-        try:
-            from tqdm import tqdm
-
-            starts = tqdm(starts, desc="margins", unit="chunk", leave=False)
-        except ImportError:
-            pass
-    for start in starts:
-        yield start, min(start + chunk, total)
+    shown = progress_bar(len(starts), "margins", unit="chunk", show=progress and len(starts) > 4)
+    with shown:
+        for start in starts:
+            yield start, min(start + chunk, total)
+            shown.update(1)
 
 
 def _plan(net: Network) -> list[tuple[np.ndarray, np.ndarray, float]]:

@@ -29,6 +29,7 @@ from typing import Any
 
 import numpy as np
 
+from ..progress import bar as progress_bar
 from .loop import fit_params
 from .mlp import data_loss
 
@@ -60,16 +61,8 @@ class AnchorChoice:
 
 
 def _bar(total: int, progress: bool) -> Any:
-    """A tqdm bar over the cross-validation fits on a terminal, else None."""
-    import sys
-
-    if not progress or not sys.stderr.isatty():
-        return None
-    try:
-        from tqdm import tqdm
-    except ImportError:
-        return None
-    return tqdm(total=total, desc="choosing anchor", unit="fit", leave=False, file=sys.stderr)
+    """A bar over the cross-validation fits on a terminal (silent otherwise)."""
+    return progress_bar(total, "choosing anchor", unit="fit", show=progress)
 
 
 def choose_anchor(
@@ -98,7 +91,7 @@ def choose_anchor(
     loss = fit_options.get("loss", "mse")
     parts = np.array_split(rng.permutation(n), folds)
     seeds = rng.integers(0, 2**63 - 1, size=folds)
-    bar = _bar(len(grid) * folds, progress)
+    shown = _bar(len(grid) * folds, progress)
     scores = []
     try:
         for lam in grid:
@@ -112,13 +105,11 @@ def choose_anchor(
                 value, _ = data_loss(fit.weights, fit.biases, activations, X[test], T[test],
                                      cols, loss)
                 held.append(value)
-                if bar is not None:
-                    bar.update(1)
+                shown.update(1)
             held_arr = np.asarray(held)
             se = float(held_arr.std(ddof=1) / np.sqrt(folds)) if folds > 1 else 0.0
             scores.append((float(lam), float(held_arr.mean()), se))
     finally:
-        if bar is not None:
-            bar.close()
+        shown.close()
     chosen = min(scores, key=lambda s: (s[1], -s[0]))
     return AnchorChoice(chosen[0], "cross-validation", tuple(scores))

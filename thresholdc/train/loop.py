@@ -30,6 +30,7 @@ from typing import Any
 
 import numpy as np
 
+from ..progress import bar as progress_bar
 from .mlp import data_loss, loss_and_grad
 
 __all__ = ["OPTIMIZERS", "Epoch", "Fit", "SGD", "Adam", "make_optimizer", "fit_params"]
@@ -143,14 +144,10 @@ def _penalty(params: Sequence[np.ndarray], target: Sequence[np.ndarray], lam: fl
 
 
 def _bar(total: int, desc: str, progress: bool) -> Any:
-    """A tqdm bar over ``total`` epochs on a terminal, else None."""
+    """A bar over ``total`` epochs on a terminal, else None."""
     if not progress or not sys.stderr.isatty():
         return None
-    try:
-        from tqdm import tqdm
-    except ImportError:
-        return None
-    return tqdm(total=total, desc=desc, unit="epoch", leave=False, file=sys.stderr)
+    return progress_bar(total, desc, unit="epoch", show=True)
 
 
 def fit_params(
