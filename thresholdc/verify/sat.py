@@ -24,7 +24,7 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import UsageError
+from ..errors import VerificationUndecided
 from ..network.model import Network
 from .exhaustive import check_names
 from .report import Counterexample, OutputReport, Report
@@ -179,7 +179,8 @@ def verify_sat(
     try:
         import pysat  # noqa: F401
     except ImportError:
-        raise UsageError(
+        # Not a usage mistake: no available method can decide (compile stores "skipped").
+        raise VerificationUndecided(
             "SAT verification needs python-sat (pip install 'thresholdc[sat]')"
         ) from None
     kind = "rules" if getattr(source, "program", None) is not None else "netlist"
