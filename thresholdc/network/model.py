@@ -21,7 +21,6 @@ with ``W`` of shape ``(n_out, n_in)``.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
 from dataclasses import dataclass, field, replace
 from functools import cached_property
 from typing import Any
@@ -190,11 +189,6 @@ class Network:
         names = list(self.inputs) + [n.name for n in self.neurons]
         return {name: i for i, name in enumerate(names)}
 
-    def unit_values(self, X: Any) -> tuple[np.ndarray, dict[str, int]]:
-        """All unit values ``(rows, inputs + neurons)`` and the column of each unit name."""
-        _, V = self.run_units(X)
-        return V.T.astype(float), self.unit_index()
-
     def evaluate(self, X: Any) -> np.ndarray:
         """Output values, ``(rows, len(outputs))``, for input rows ``X`` (rows × inputs).
 
@@ -314,6 +308,7 @@ class Network:
 
         >>> import tempfile, os
         >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+        >>> from thresholdc.network.fileformat import load
         >>> p = os.path.join(tempfile.mkdtemp(), "n.json"); net.save(p)
         >>> load(p).neurons[0].bias
         0.5
@@ -341,14 +336,3 @@ class Network:
             f"outputs={len(self.outputs)}, depth={self.depth})"
         )
 
-
-def load(path: str) -> Network:
-    """Read a network file (see :func:`thresholdc.network.fileformat.load`)."""
-    from .fileformat import load as _load
-
-    return _load(path)
-
-
-def as_rows(X: Sequence[Sequence[float]] | np.ndarray) -> np.ndarray:
-    """``X`` as a 2-D float array."""
-    return np.atleast_2d(np.asarray(X, dtype=float))
