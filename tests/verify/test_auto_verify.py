@@ -161,5 +161,5 @@ def test_big_tables_within_the_bound_go_local_first(monkeypatch):
     monkeypatch.setattr(sys.modules["thresholdc.verify.auto"], "verify_sat",
                         lambda *a, **k: Report("undecided", "sat", 0, [], notes=["x"]))
     report = verify_network(replace(net, meta={}), src)
-    assert (report.result, report.method) == ("equal", "exhaustive")
+    assert (report.result, report.method) == ("equal", "local+sat+exhaustive")
     assert "local: the network records no gate cones (meta.cones)" in report.notes

@@ -1,16 +1,19 @@
-"""Choosing a verification method: ``auto``, ``exhaustive``, ``local`` or ``sat``.
+"""Choosing a verification method: ``auto``, ``exhaustive``, ``local``, ``sat`` or ``bounds``.
 
-``auto`` checks every assignment when there are at most ``max_inputs`` inputs and the table
-is small (2^inputs × (neurons + 1) at most :data:`EXHAUSTIVE_WORK`).  Otherwise it runs
-``local`` (each neuron against its recorded gate cone, plus the rules-to-gates step for rule
-files) and, when that does not decide, a full ``sat`` miter in the rest of the time budget;
-within ``max_inputs`` the exhaustive check still decides what those could not.  Typed sources
-and soft networks above the bound go to their own methods (``verify_typed``,
-``verify_bounds``).  The report says which methods ran (``method``: ``exhaustive``,
-``local``, ``sat`` or ``local+sat``) and what each proved (``proofs``); its result is
-``equal`` only when equality is proven end to end, ``different`` with counterexamples
-re-simulated on both sides, and ``undecided`` otherwise (with notes saying what was and was
-not shown).
+``auto``'s rule is a work bound, not an input count alone: it checks every assignment when
+there are at most ``max_inputs`` inputs *and* the table is small, 2^inputs × (neurons + 1)
+unit evaluations at most :data:`EXHAUSTIVE_WORK` (2^23; e.g. 20 inputs with at most 7
+neurons).  Otherwise, for a step network, it runs ``local`` (each neuron against its
+recorded gate cone, plus the rules-to-gates step for rule files); every output that local
+left undecided goes to a ``sat`` miter in the rest of the time budget; and, within
+``max_inputs``, the exhaustive check decides whatever is still open.  Typed sources and soft
+networks above the bound go to their own methods (``verify_typed``, ``verify_bounds``).
+
+Each output keeps the first decision a method made (``equal`` is a proof, ``different`` a
+re-simulated counterexample; an exact count from a later exhaustive run replaces a count of
+counterexamples found); an output no method decided is ``undecided`` with the bound each
+method reached.  ``method`` names the methods that ran (``local+sat``, …) and ``proofs``
+what each proved.
 
 The input and output names of network and source are compared as sets first: a mismatch is a
 UsageError naming the differing names.
@@ -27,15 +30,15 @@ from __future__ import annotations
 import time
 from typing import Any
 
-from ..errors import UsageError
+from ..errors import UsageError, VerificationUndecided
 from ..network.model import Network
 from .exhaustive import check_names, verify_exhaustive
 from .local import verify_local
-from .report import Report
+from .report import OutputReport, Report, undecided_outputs
 from .sat import verify_sat
 from .sat_encode import check_step_network
 
-__all__ = ["verify_network", "METHODS"]
+__all__ = ["verify_network", "merge_reports", "METHODS"]
 
 METHODS = ("auto", "exhaustive", "local", "sat", "bounds")
 #: Below this many unit evaluations (2^inputs × (neurons + 1)) ``auto`` checks every
@@ -124,35 +127,68 @@ def verify_network(
         if within:
             return verify_exhaustive(net, source, max_inputs=max_inputs)
         return verify_bounds(net, source, time_limit=time_limit)
+    names = [o.name for o in net.outputs]
     try:
-        local = verify_local(net, source, max_inputs=max_inputs, time_limit=time_limit)
+        reports = [verify_local(net, source, max_inputs=max_inputs, time_limit=time_limit)]
     except UsageError as err:
         if within:
             return verify_exhaustive(net, source, max_inputs=max_inputs)
-        return Report("undecided", "auto", 0, [], notes=[f"{bound}, and {err.message}"])
-    if local.result != "undecided":
-        return local
+        return Report("undecided", "auto", 0, undecided_outputs(names, f"{bound}, and "
+                      f"{err.message}"), notes=[f"{bound}, and {err.message}"])
+    notes = [f"local: {note}" for note in reports[0].notes]
     left = time_limit - (time.perf_counter() - t0)
-    notes = [f"local: {note}" for note in local.notes]
-    if left > 0:
-        sat = verify_sat(net, source, time_limit=left)
-        if sat.result != "undecided" or not within:
-            return Report(
-                sat.result,
-                "local+sat",
-                sat.assignments,
-                sat.outputs,
-                proofs=local.proofs + sat.proofs,
-                notes=notes + [f"sat: {note}" for note in sat.notes],
-                seconds=time.perf_counter() - t0,
-            )
-        notes += [f"sat: {note}" for note in sat.notes]
-    elif not within:
-        return Report("undecided", "local", 0, [], proofs=local.proofs,
-                      notes=notes + ["no time left for the SAT check"],
-                      seconds=time.perf_counter() - t0)
-    # within the bound, the exhaustive check decides what local and SAT could not
-    report = verify_exhaustive(net, source, max_inputs=max_inputs)
-    report.notes = notes + report.notes
-    report.seconds = time.perf_counter() - t0
-    return report
+    still = _undecided(reports)
+    if still and left > 0:
+        try:
+            sat = verify_sat(net, source, time_limit=left, outputs=still)
+            reports.append(sat)
+            notes += [f"sat: {note}" for note in sat.notes]
+        except VerificationUndecided as err:
+            notes.append(f"sat: {err.message}")
+    elif still:
+        notes.append("no time left for the SAT check")
+    if _undecided(reports) and within:
+        # within the bound, the exhaustive check decides what local and SAT could not
+        reports.append(verify_exhaustive(net, source, max_inputs=max_inputs))
+        notes += reports[-1].notes
+    merged = merge_reports(names, reports)
+    merged.notes = notes
+    merged.seconds = time.perf_counter() - t0
+    return merged
+
+
+def _undecided(reports: list[Report]) -> list[str]:
+    """The outputs no report has decided yet (in the first report's order)."""
+    decided = {o.name for r in reports for o in r.outputs if o.verdict != "undecided"}
+    return [o.name for o in reports[0].outputs if o.name not in decided]
+
+
+def merge_reports(names: list[str], reports: list[Report]) -> Report:
+    """One report from several methods run one after the other on the same network: each
+    output takes the first decision any method made (every decision is sound, so they
+    cannot conflict), else stays undecided with the bounds each method reached.  The last
+    method that decides an output wins when it counted exactly (exhaustive).
+
+    >>> from thresholdc.verify.report import OutputReport
+    >>> a = Report.of("local", 0, [OutputReport.undecided("y", "local: a cone")])
+    >>> b = Report.of("sat", 0, [OutputReport.proven("y")])
+    >>> merged = merge_reports(["y"], [a, b])
+    >>> merged.method, merged.result
+    ('local+sat', 'equal')
+    """
+    outputs = []
+    for name in names:
+        mine = [o for r in reports for o in r.outputs if o.name == name]
+        decided = [o for o in mine if o.verdict != "undecided"]
+        exact = [o for o in decided if o.exact]
+        if exact:
+            outputs.append(exact[-1])
+        elif decided:
+            outputs.append(decided[0])
+        else:
+            bounds = [o.bound for o in mine if o.bound]
+            outputs.append(OutputReport.undecided(name, "; ".join(bounds) or "not checked"))
+    method = "+".join(dict.fromkeys(r.method for r in reports))
+    proofs = [p for r in reports for p in r.proofs]
+    assignments = max((r.assignments for r in reports), default=0)
+    return Report.of(method, assignments, outputs, proofs=proofs)

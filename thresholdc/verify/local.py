@@ -44,7 +44,7 @@ import numpy as np
 from ..network.model import Network, Neuron
 from ..synth.gates import Gate, GateGraph
 from .exhaustive import assignments, check_names
-from .report import OutputReport, Report
+from .report import Counterexample, OutputReport, Report
 from .sat import confirm_counterexample, gates_side, miter_summary, source_side
 from .sat_circuit import TRUE
 from .sat_encode import check_step_network, gate_literal, integer_threshold
@@ -250,6 +250,10 @@ class _Local:
         self.helpers: set[str] = set()
         self._integer: dict[str, tuple[list[int], int]] = {}
         self.read_by_outputs = {self.resolve_output(o.source) for o in net.outputs}
+        self.cone_ok: dict[str, bool] = {}
+        self.deps: dict[str, set[str]] = {}
+        self.input_cones = 0
+        self.subnet: dict[str, list[str]] = {}
 
     def resolve_output(self, unit: str) -> str:
         """The unit an output reads through its relays (aliases are not known yet: the
@@ -346,7 +350,81 @@ class _Local:
 
     # -- one cone
     def check_cone(self, name: str) -> bool:
-        """Check one listed neuron (its helpers are added to ``helpers``)."""
+        """Check one listed neuron (its helpers are added to ``helpers``); the verdict is
+        kept in ``cone_ok``.  When the check over the leaves fails (a leaf treated as free
+        can take values it never takes, or the cone is not closed by its leaves), the cone
+        is checked again exactly over the primary inputs it depends on, when they are few."""
+        marks = (len(self.mismatch), len(self.problems))
+        ok = self._check_cone(name)
+        if not ok and name in self.deps and self._check_cone_inputs(name):
+            del self.mismatch[marks[0]:]
+            del self.problems[marks[1]:]
+            ok = True
+        self.cone_ok[name] = ok
+        return ok
+
+    def _check_cone_inputs(self, name: str) -> bool:
+        """The neuron against its root on every assignment of the primary inputs that the
+        root and the leaves depend on (at most ``max_leaves`` of them).  Exact: the leaf
+        units are taken to carry their signals' values (proved for them separately)."""
+        root, leaves = self.cones[name]
+        region: list[str] = []
+        support: list[str] = []
+        seen: set[str] = set()
+        stack = [root, *leaves]
+        while stack:
+            s = stack.pop()
+            if s in seen:
+                continue
+            seen.add(s)
+            g = self.graph.gates[s]
+            if g.op == "input":
+                support.append(s)
+                if len(support) > self.max_leaves:
+                    return False
+                continue
+            region.append(s)
+            if len(region) > _REGION_MAX:
+                return False
+            stack.extend(g.args)
+        support.sort(key=self.order.__getitem__)
+        k, cols = self._table(len(support))
+        rows = len(k)
+        val: dict[str, np.ndarray] = {s: cols[j] for j, s in enumerate(support)}
+        for s in sorted(region, key=self.order.__getitem__):
+            g = self.graph.gates[s]
+            val[s] = _gate_value(g, [val[a] for a in g.args], rows)
+        by_class: dict[int, np.ndarray] = {}
+        for s in leaves:  # the value of each leaf class (flag False)
+            i, neg = self.cls[s]
+            by_class.setdefault(i, ~val[s] if neg else val[s])
+        units: dict[str, np.ndarray] = {}
+
+        def unit(u: str) -> np.ndarray:
+            base, neg = self.resolve(u)
+            if base in units:
+                v = units[base]
+            else:
+                i, f = self.carried[base]
+                v = ~by_class[i] if f else by_class[i]
+            return ~v if neg else v
+
+        sub = self.subnet[name]
+        for u in sorted(sub, key=self.position.__getitem__):
+            n = self.neurons[u]
+            W, K = self.integer(u)
+            vals = [unit(i) for i in n.inputs]
+            units[u] = _step(W, K, vals, rows)
+            if u == name and name in self.read_by_outputs:
+                self.margins[name] = float(_abs_z(n, vals, rows).min())
+        self.assignments += rows
+        if not np.array_equal(units[name], val[root]):
+            return False
+        self.input_cones += 1
+        return True
+
+    def _check_cone(self, name: str) -> bool:
+        """Check one listed neuron over the values of its leaves."""
         root, leaves = self.cones[name]
         leaf_ids = sorted({self.cls[s][0] for s in leaves})
         index = {i: k for k, i in enumerate(leaf_ids)}
@@ -361,6 +439,7 @@ class _Local:
         region, extras = found
         # the sub-network from the leaf units to the neuron
         sub: list[str] = []
+        deps: set[str] = set()
         seen = set()
         stack = [name]
         while stack:
@@ -372,6 +451,7 @@ class _Local:
             if u != name:
                 c = self.carried.get(base)
                 if c is not None and c[0] in index:
+                    deps.add(base)
                     continue  # a unit carrying a leaf
                 if base in self.input_set:
                     self.problems.append(
@@ -386,6 +466,8 @@ class _Local:
             sub.append(base)
             stack.extend(self.neurons[base].inputs)
         self.helpers.update(u for u in sub if u != name)
+        self.deps[name] = deps
+        self.subnet[name] = sub
         consts: dict[int, bool] = {}
         if CONST_CLASS in index:  # a constant leaf is no variable: it is 1 (flag False)
             consts[CONST_CLASS] = True
@@ -717,12 +799,9 @@ class _Local:
         return True
 
 
-def _undecided(notes: list[str], t0: float) -> Report:
-    return Report("undecided", "local", 0, [], notes=notes, seconds=time.perf_counter() - t0)
-
-
-def _random_counterexample(net: Network, source: Any) -> list:
-    """Counterexamples found by simulating both sides on random rows (may be none)."""
+def _random_counterexamples(net: Network, source: Any) -> dict[str, list[Counterexample]]:
+    """Counterexamples found by simulating both sides on random rows: for each output that
+    differs on some row, the first such row, re-simulated (may be none)."""
     n = len(source.inputs)
     rng = np.random.default_rng(0)
     X = rng.integers(0, 2, size=(_RANDOM_ROWS, n)).astype(np.uint8)
@@ -730,21 +809,31 @@ def _random_counterexample(net: Network, source: Any) -> list:
     expected = np.asarray(source.evaluate(X), dtype=bool)
     got = net.decide(X[:, perm].astype(float))
     order = [list(source.outputs).index(o.name) for o in net.outputs]
-    diff = np.nonzero((got != expected[:, order]).any(axis=1))[0]
-    if not len(diff):
-        return []
-    assignment = {u: int(X[diff[0], i]) for i, u in enumerate(source.inputs)}
-    return confirm_counterexample(net, source, assignment)
+    diff = got != expected[:, order]
+    found: dict[str, list[Counterexample]] = {}
+    for r in sorted({int(np.nonzero(diff[:, k])[0][0]) for k in np.nonzero(diff.any(axis=0))[0]}):
+        assignment = {u: int(X[r, i]) for i, u in enumerate(source.inputs)}
+        _add(found, confirm_counterexample(net, source, assignment))
+    return found
+
+
+def _add(found: dict[str, list[Counterexample]], more: list[Counterexample]) -> None:
+    for c in more:
+        have = found.setdefault(c.output, [])
+        if all(c.assignment != d.assignment for d in have):
+            have.append(c)
 
 
 def _rules_to_gates(source: Any, graph: GateGraph, time_limit: float,
-                    max_inputs: int) -> tuple[str, str, dict[str, int] | None]:
-    """Check the gate graph against the rules: (status, what was shown, a differing
-    assignment or None)."""
+                    max_inputs: int) -> tuple[dict[str, str], str, list[dict[str, int]]]:
+    """Check the gate graph against the rules, output by output: ({output: equal |
+    different | undecided}, what was shown or what stopped the check, differing
+    assignments)."""
     program = source.program
-    if program.is_typed():
-        return "undecided", "typed inputs: the rules-to-gates step is not checked locally", None
     inputs, outputs = list(source.inputs), list(source.outputs)
+    if program.is_typed():
+        return ({o: "undecided" for o in outputs},
+                "typed inputs: the rules-to-gates step is not checked locally", [])
     n = len(inputs)
     try:
         import pysat  # noqa: F401
@@ -755,24 +844,31 @@ def _rules_to_gates(source: Any, graph: GateGraph, time_limit: float,
     if n <= RULES_EXHAUSTIVE_MAX or (not have_sat and n <= max_inputs):
         sig = dict(graph.outputs)
         total = 1 << n
+        bad = np.zeros(len(outputs), dtype=bool)
+        examples: list[dict[str, int]] = []
         for start in range(0, total, _CHUNK):
             X = assignments(n, start, min(total, start + _CHUNK))
             ref = np.asarray(source.evaluate(X), dtype=bool)
             got = graph.simulate(X, [sig[o] for o in outputs])
-            bad = np.nonzero((ref != got).any(axis=1))[0]
-            if len(bad):
-                return "different", "", {u: int(X[bad[0], i]) for i, u in enumerate(inputs)}
-        return "equal", f"the gate graph equals the rules on all {total} assignments", None
+            diff = ref != got
+            new = diff.any(axis=0) & ~bad
+            for k in np.nonzero(new)[0]:
+                r = int(np.nonzero(diff[:, k])[0][0])
+                examples.append({u: int(X[r, i]) for i, u in enumerate(inputs)})
+            bad |= new
+        status = {o: "different" if b else "equal" for o, b in zip(outputs, bad.tolist())}
+        return status, f"the gate graph equals the rules on all {total} assignments", examples
     if not have_sat:
-        return "undecided", (f"{n} inputs and no python-sat: the rules-to-gates step is not "
-                             "checked"), None
+        return ({o: "undecided" for o in outputs},
+                f"{n} inputs and no python-sat: the rules-to-gates step is not checked", [])
     outcome = prove_equivalent(inputs, outputs, source_side(source), gates_side(graph),
                                time_limit=time_limit)
+    status = {o: "equal" if o in outcome.proven else
+              "different" if o in outcome.differing else "undecided" for o in outputs}
     if outcome.status == "equal":
-        return "equal", f"the gate graph equals the rules (sat: {miter_summary(outcome)})", None
-    if outcome.differing:
-        return "different", "", next(iter(outcome.differing.values()))
-    return "undecided", "the rules-to-gates miter: " + "; ".join(outcome.notes), None
+        return status, f"the gate graph equals the rules (sat: {miter_summary(outcome)})", []
+    return (status, "the rules-to-gates miter: " + ("; ".join(outcome.notes) or "not decided"),
+            list(outcome.differing.values()))
 
 
 def verify_local(
@@ -817,75 +913,119 @@ def verify_local(
     t0 = time.perf_counter()
     check_step_network(net)
     check_names(net, source)
+    names = [o.name for o in net.outputs]
     cones = net.meta.get("cones")
     if not isinstance(cones, dict):
-        return _undecided(["the network records no gate cones (meta.cones)"], t0)
+        return _finish(net, source, {}, "local: the network records no gate cones "
+                       "(meta.cones)", ["the network records no gate cones (meta.cones)"], t0)
     graph = source.gates_like(net) if hasattr(source, "gates_like") else source.gates()
     loc = _Local(net, graph, max_leaves, t0 + time_limit)
     if not loc.setup(cones):
-        return _undecided(loc.problems[:5], t0)
+        return _finish(net, source, {}, f"local: {loc.problems[0]}", loc.problems[:5], t0)
     for n in net.neurons:
         if n.name in loc.cones:
             loc.check_cone(n.name)
     covered = set(loc.cones) | set(loc.alias) | loc.helpers
     stray = [n.name for n in net.neurons if n.name not in covered]
-    if stray:
+    if stray:  # no output reads them through a recorded cone: noted, not fatal
         loc.problems.append(f"neuron(s) in no recorded cone: {', '.join(stray[:5])}")
+    # which units are proven to carry their signal: by induction over the network's order
+    blame: dict[str, str | None] = {u: None for u in net.inputs}
+    for n in net.neurons:
+        if n.name in loc.cones:
+            if not loc.cone_ok.get(n.name, False):
+                blame[n.name] = n.name
+            else:
+                blame[n.name] = next((b for d in sorted(loc.deps.get(n.name, ()))
+                                      if (b := blame.get(d, d)) is not None), None)
+        elif n.name in loc.alias:
+            base = loc.alias[n.name][0]
+            blame[n.name] = blame.get(base, base)
     out_sig = dict(graph.outputs)
+    to_gates: dict[str, str | None] = {}  # None: proven equal to the gate graph's output
     for o in net.outputs:
         base, neg = loc.resolve(o.source)
         c = loc.carried.get(base)
         want = loc.cls.get(out_sig.get(o.name, ""))
         if c is None or want is None or (c[0], c[1] != neg) != want:
-            loc.problems.append(
-                f"output {o.name!r} reads unit {o.source!r}, which does not carry its signal "
-                f"{out_sig.get(o.name)!r}"
-            )
-    if loc.mismatch or loc.problems:
-        found = _random_counterexample(net, source)
-        notes = (loc.mismatch + loc.problems)[:8]
-        if found:
-            return _report_different(net, found, notes, t0)
-        return _undecided(notes, t0)
+            problem = (f"output {o.name!r} reads unit {o.source!r}, which does not carry its "
+                       f"signal {out_sig.get(o.name)!r}")
+            loc.problems.append(problem)
+            to_gates[o.name] = f"local: {problem}"
+        elif blame.get(base, base) is not None:
+            to_gates[o.name] = (f"local: neuron {blame.get(base, base)!r}, which this output "
+                                "depends on, is not proven equal to its gate cone")
+        else:
+            to_gates[o.name] = None
     widest = max((len({loc.cls[s][0] for s in leaves}) for _, leaves in loc.cones.values()),
                  default=0)
+    proven_cones = sum(loc.cone_ok.values())
     proofs = [
-        f"local: each of {len(loc.cones)} neuron(s) equals its gate cone "
+        f"local: {proven_cones} of {len(loc.cones)} neuron(s) equal their gate cone "
         f"({loc.assignments} assignments, at most {widest} leaves"
         + (f"; {loc.symmetric_cones} wide symmetric cone(s) by the count of true leaves"
            if loc.symmetric_cones else "")
-        + (f"; {loc.sat_cones} wide cone(s) by SAT" if loc.sat_cones else "") + ")"
+        + (f"; {loc.sat_cones} wide cone(s) by SAT" if loc.sat_cones else "")
+        + (f"; {loc.input_cones} cone(s) over their primary inputs" if loc.input_cones else "")
+        + ")"
     ]
+    if not proven_cones:
+        proofs = []
+    elif proven_cones == len(loc.cones) and not loc.problems:
+        proofs[0] = proofs[0].replace(f"{proven_cones} of {len(loc.cones)} neuron(s) equal",
+                                      f"each of {len(loc.cones)} neuron(s) equals")
+        proofs[0] = proofs[0].replace("equals their gate cone", "equals its gate cone")
+    found: dict[str, list[Counterexample]] = {}
+    bounds = dict(to_gates)
     if getattr(source, "program", None) is not None:
-        status, shown, assignment = _rules_to_gates(
+        status, shown, differing = _rules_to_gates(
             source, graph, max(time_limit - (time.perf_counter() - t0), 0.0), max_inputs
         )
-        if status == "different":
-            found = confirm_counterexample(net, source, assignment or {})
-            if found:
-                return _report_different(net, found, [], t0)
-            return _undecided(["the gate graph differs from the rules, but the network does "
-                               "not reproduce it (internal error)"], t0)
-        if status != "equal":
-            return Report("undecided", "local", loc.assignments, [], proofs=proofs,
-                          notes=[shown], seconds=time.perf_counter() - t0)
-        proofs.append(f"local: {shown}")
+        for assignment in differing:
+            _add(found, confirm_counterexample(net, source, assignment))
+        for o in names:
+            if bounds[o] is None and status[o] != "equal":
+                bounds[o] = f"local: {shown}" if status[o] == "undecided" else (
+                    "local: the gate graph differs from the rules, but the network does not "
+                    "reproduce it (internal error)")
+        if all(v == "equal" for v in status.values()):
+            proofs.append(f"local: {shown}")
+        elif any(v == "equal" for v in status.values()):
+            proofs.append("local: the gate graph equals the rules on "
+                          + ", ".join(o for o in names if status[o] == "equal"))
     else:
         proofs.append("local: the gate graph is the netlist itself")
+    notes = (loc.mismatch + loc.problems)[:8]
+    return _finish(net, source, bounds, "", notes, t0, found=found, proofs=proofs,
+                   assignments=loc.assignments,
+                   margins={o.name: loc.margins.get(loc.resolve(o.source)[0], 0.5)
+                            for o in net.outputs})
+
+
+def _finish(net: Network, source: Any, bounds: dict[str, str | None], default: str,
+            notes: list[str], t0: float, *, found: dict[str, list[Counterexample]] | None = None,
+            proofs: list[str] | None = None, assignments: int = 0,
+            margins: dict[str, float] | None = None) -> Report:
+    """The local report: an output is equal when ``bounds`` has None for it (proven), else
+    different when a re-simulated counterexample was found (random rows, rules-to-gates),
+    else undecided with its bound (``default`` when ``bounds`` does not name one)."""
+    found = dict(found or {})
+    if any(b is not None for b in bounds.values()) or len(bounds) < len(net.outputs):
+        _add_all(found, _random_counterexamples(net, source))
     outputs = []
     for o in net.outputs:
-        base, _ = loc.resolve(o.source)
-        outputs.append(OutputReport(o.name, True, 0, [], loc.margins.get(base, 0.5)))
-    return Report("equal", "local", loc.assignments, outputs, proofs=proofs,
-                  seconds=time.perf_counter() - t0)
+        bound = bounds.get(o.name, default)
+        if o.name in found:
+            outputs.append(OutputReport.differs(o.name, found[o.name]))
+        elif bound is None:
+            outputs.append(OutputReport.proven(o.name, (margins or {}).get(o.name, 0.5)))
+        else:
+            outputs.append(OutputReport.undecided(o.name, bound))
+    return Report.of("local", assignments, outputs, proofs=list(proofs or []), notes=notes,
+                     seconds=time.perf_counter() - t0)
 
 
-def _report_different(net: Network, found: list, notes: list[str], t0: float) -> Report:
-    """A ``different`` report from confirmed counterexamples."""
-    by_output: dict[str, list] = {}
-    for c in found:
-        by_output.setdefault(c.output, []).append(c)
-    outputs = [OutputReport(o.name, o.name not in by_output, len(by_output.get(o.name, [])),
-                            by_output.get(o.name, []), None) for o in net.outputs]
-    return Report("different", "local", 0, outputs, notes=notes,
-                  seconds=time.perf_counter() - t0)
+def _add_all(found: dict[str, list[Counterexample]],
+             more: dict[str, list[Counterexample]]) -> None:
+    for cs in more.values():
+        _add(found, cs)
