@@ -90,7 +90,8 @@ def test_soft_network_above_the_bound_is_not_an_error():
     net = Network(tuple(xs), (Neuron("y", 1, tuple(xs), (8.0,) * 30, -4.0, "sigmoid"),),
                   (Output("y", "y"),))
     report = verify_network(net, src)  # another method than local/SAT takes it
-    assert report.result in ("equal", "undecided") and report.method not in ("local", "sat")
+    # branch-and-bound decides it: one input fixed to 1 gives z ≥ 4, all at 0 give z = -4
+    assert report.result == "equal" and report.method == "bounds"
     with pytest.raises(UsageError, match="step network"):
         verify_network(net, src, method="sat")
 
