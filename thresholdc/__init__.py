@@ -35,7 +35,7 @@ from .verify.bounds import verify_bounds  # noqa: E402
 from .verify.certificate import CertificateCheck, check_certificate  # noqa: E402
 from .verify.local import verify_local  # noqa: E402
 from .verify.report import Report  # noqa: E402
-from .verify.sat import verify_sat  # noqa: E402
+from .verify.sat.method import verify_sat  # noqa: E402
 from .verify.typed import verify_typed  # noqa: E402
 
 __all__ = [

@@ -20,7 +20,7 @@ from thresholdc.errors import UsageError  # noqa: E402
 from thresholdc.network.model import Network, Neuron, Output  # noqa: E402
 from thresholdc.source import Source  # noqa: E402
 from thresholdc.verify.sat import verify_sat  # noqa: E402
-from thresholdc.verify.sat_miter import available_solvers, prove_equivalent  # noqa: E402
+from thresholdc.verify.sat.miter import available_solvers, prove_equivalent  # noqa: E402
 
 gc = load_gen_circuits()
 

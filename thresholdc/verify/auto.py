@@ -35,8 +35,8 @@ from ..network.model import Network
 from .exhaustive import check_names, verify_exhaustive
 from .local import verify_local
 from .report import OutputReport, Report, undecided_outputs
-from .sat import verify_sat
-from .sat_encode import check_step_network
+from .sat.encode import check_step_network
+from .sat.method import verify_sat
 
 __all__ = ["verify_network", "merge_reports", "METHODS"]
 

@@ -1,6 +1,6 @@
 """Encoders into the SAT circuit IR: a gate graph, a step network, and a rule program.
 
-Each encoder takes a :class:`~thresholdc.verify.sat_circuit.Circuit` and the literals of the
+Each encoder takes a :class:`~thresholdc.verify.sat.circuit.Circuit` and the literals of the
 primary inputs (by name) and returns the literal of every named signal, unit or definition.
 
 * :func:`encode_gates`: one node per gate; ``threshold``/``equal`` gates use the circuit's
@@ -16,7 +16,7 @@ primary inputs (by name) and returns the literal of every named signal, unit or 
 Unsupported inputs raise :class:`~thresholdc.errors.UsageError` (soft or bipolar networks,
 typed inputs).
 
->>> from thresholdc.verify.sat_circuit import Circuit
+>>> from thresholdc.verify.sat.circuit import Circuit
 >>> from thresholdc.network.model import Network, Neuron, Output
 >>> c = Circuit()
 >>> ins = {"a": c.new_input(), "b": c.new_input()}
@@ -31,11 +31,11 @@ import math
 from fractions import Fraction
 from typing import Any
 
-from ..errors import UsageError
-from ..network.model import Network
-from ..syntax import ast
-from ..synth.gates import GateGraph
-from .sat_circuit import FALSE, TRUE, Circuit
+from ...errors import UsageError
+from ...network.model import Network
+from ...syntax import ast
+from ...synth.gates import GateGraph
+from .circuit import FALSE, TRUE, Circuit
 
 __all__ = ["encode_gates", "gate_literal", "encode_network", "encode_program",
            "check_step_network", "integer_threshold"]

@@ -1,8 +1,8 @@
 """SAT verification: a miter between a source (rules or netlist) and a step network.
 
 The source side is encoded straight from the rule AST (or from the netlist's gates), the
-network side neuron by neuron as y ↔ [Σ w·x + b > 0] (see :mod:`.sat_encode`), and the two
-are compared by :func:`~thresholdc.verify.sat_miter.prove_equivalent` — structural hashing,
+network side neuron by neuron as y ↔ [Σ w·x + b > 0] (see :mod:`.encode`), and the two
+are compared by :func:`~thresholdc.verify.sat.miter.prove_equivalent` — structural hashing,
 simulation-guided matching proved on small cuts, then python-sat in a child process ended at
 the time limit.  Every counterexample is re-simulated on both sides (``Network.decide`` and
 ``Source.evaluate``) before it is reported.
@@ -24,13 +24,13 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import VerificationUndecided
-from ..network.model import Network
-from .exhaustive import check_names
-from .report import Counterexample, OutputReport, Report
-from .sat_circuit import Circuit
-from .sat_encode import check_step_network, encode_gates, encode_network, encode_program
-from .sat_miter import MiterOutcome, prove_equivalent
+from ...errors import VerificationUndecided
+from ...network.model import Network
+from ..exhaustive import check_names
+from ..report import Counterexample, OutputReport, Report
+from .circuit import Circuit
+from .encode import check_step_network, encode_gates, encode_network, encode_program
+from .miter import MiterOutcome, prove_equivalent
 
 __all__ = ["verify_sat", "source_side", "network_side", "gates_side", "confirm_counterexample",
            "miter_summary", "miter_report"]
