@@ -30,8 +30,10 @@ def register(subparsers: Any) -> None:
     p.add_argument("source", metavar="SOURCE", help="rule file, .bench or .blif netlist")
     p.add_argument("--method", choices=("auto", "exhaustive", "local", "sat", "bounds"),
                    default="auto",
-                   help="auto: exhaustive up to --max-inputs, else local + SAT for step "
-                   "networks and branch-and-bound (bounds) for soft or trained ones (default)")
+                   help="auto: exhaustive when the table is small (2^inputs x (neurons + 1) "
+                   "<= 2^23 and inputs <= --max-inputs), else local + SAT for step networks "
+                   "(typed SAT for typed rules) and branch-and-bound (bounds) for soft or "
+                   "trained ones (default)")
     p.add_argument("--max-inputs", type=int, default=24, metavar="N",
                    help="largest number of inputs checked exhaustively (default 24)")
     p.add_argument("--time-limit", type=float, default=60.0, metavar="S",

@@ -37,6 +37,7 @@ from .local import verify_local
 from .report import OutputReport, Report, undecided_outputs
 from .sat.encode import check_step_network
 from .sat.method import verify_sat
+from .sat.typed import typed_sat_problem, verify_typed_sat
 
 __all__ = ["verify_network", "merge_reports", "METHODS"]
 
@@ -106,15 +107,18 @@ def verify_network(
         return verify_exhaustive(net, source, max_inputs=max_inputs)
     if method == "local":
         return verify_local(net, source, max_inputs=max_inputs, time_limit=time_limit)
-    if method == "sat":
-        return verify_sat(net, source, time_limit=time_limit)
     from .bounds import verify_bounds
-    from .typed import is_typed_source, verify_typed
+    from .typed import is_typed_source
 
+    if method == "sat":
+        if is_typed_source(source):
+            _needs_sat()
+            return verify_typed_sat(net, source, time_limit=time_limit)
+        return verify_sat(net, source, time_limit=time_limit)
     if method == "bounds":
         return verify_bounds(net, source, time_limit=time_limit)
     if is_typed_source(source):  # valid one-hot assignments, real cells or bands
-        return verify_typed(net, source, max_inputs=max_inputs, time_limit=time_limit)
+        return _typed(net, source, max_inputs, time_limit)
     n = len(source.inputs)
     within = n <= max_inputs
     if within and (1 << n) * (len(net.neurons) + 1) <= EXHAUSTIVE_WORK:
@@ -153,6 +157,45 @@ def verify_network(
         notes += reports[-1].notes
     merged = merge_reports(names, reports)
     merged.notes = notes
+    merged.seconds = time.perf_counter() - t0
+    return merged
+
+
+def _needs_sat() -> None:
+    try:
+        import pysat  # noqa: F401
+    except ImportError:
+        raise VerificationUndecided(
+            "SAT verification needs python-sat (pip install 'thresholdc[sat]')") from None
+
+
+def _typed(net: Network, source: Any, max_inputs: int, time_limit: float) -> Report:
+    """Typed sources: enumerate a small domain (exact counts); for a step network with a
+    larger one, the typed SAT miter, then branch-and-bound for whatever it left open;
+    otherwise (soft networks) the typed method (cells or bands, by enumeration or
+    branch-and-bound)."""
+    from .typed import typed_domain, verify_typed
+
+    problem = None
+    try:
+        _needs_sat()
+        problem = typed_sat_problem(net, source)
+    except VerificationUndecided:
+        pass
+    if problem is None:
+        return verify_typed(net, source, max_inputs=max_inputs, time_limit=time_limit)
+    domain = typed_domain(net, source)
+    if domain.size <= (1 << max_inputs) and domain.size * (len(net.neurons) + 1) <= \
+            EXHAUSTIVE_WORK:
+        return verify_typed(net, source, max_inputs=max_inputs, time_limit=time_limit)
+    t0 = time.perf_counter()
+    reports = [verify_typed_sat(net, source, time_limit=time_limit)]
+    left = time_limit - (time.perf_counter() - t0)
+    if _undecided(reports) and left > 0:
+        reports.append(verify_typed(net, source, max_inputs=max_inputs, time_limit=left))
+    merged = merge_reports([o.name for o in net.outputs], reports)
+    merged.notes = list(dict.fromkeys(n for r in reports for n in r.notes))
+    merged.assignments = domain.size
     merged.seconds = time.perf_counter() - t0
     return merged
 
