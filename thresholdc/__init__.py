@@ -10,8 +10,6 @@
 
 from __future__ import annotations
 
-__version__ = "0.1.0"
-
 from .api import load, verify  # noqa: E402
 from .compiler import CompileResult, compile_file, compile_rules, compile_source  # noqa: E402
 from .errors import (  # noqa: E402
@@ -23,10 +21,11 @@ from .errors import (  # noqa: E402
     VerificationUndecided,
 )
 from .export import load_any, save_any  # noqa: E402
-from .network.model import Network, Neuron, Output  # noqa: E402
+from .ir.network import Network, Neuron, Output  # noqa: E402
+from .ir.reference import Reference
+from .logic.source import load_source, source_from_text
 from .network.relu import to_relu  # noqa: E402
 from .network.soften import apply_activation  # noqa: E402
-from .source import Source, load_source  # noqa: E402
 from .syntax.importers import parse_bench, parse_blif  # noqa: E402
 from .synth.identify import MAX_VARIABLES, Realisation, identify, is_threshold  # noqa: E402
 from .train import TrainResult, load_data, score, train  # noqa: E402
@@ -37,6 +36,7 @@ from .verify.local import verify_local  # noqa: E402
 from .verify.report import Report  # noqa: E402
 from .verify.sat import verify_sat  # noqa: E402
 from .verify.typed import verify_typed  # noqa: E402
+from .version import __version__  # noqa: E402
 
 __all__ = [
     "__version__",
@@ -56,11 +56,12 @@ __all__ = [
     "parse_blif",
     "verify_typed",
     "load_source",
+    "source_from_text",
     "identify",
     "is_threshold",
     "Realisation",
     "MAX_VARIABLES",
-    "Source",
+    "Reference",
     "Network",
     "Neuron",
     "Output",

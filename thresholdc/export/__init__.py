@@ -9,7 +9,7 @@ extras ``torch`` and ``plot``; ONNX needs ``onnx`` (and ``onnxruntime`` to run i
 modules are imported only when used.
 
 >>> import os, tempfile
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
 >>> path = os.path.join(tempfile.mkdtemp(), "n.npz")
 >>> save_any(net, path)
@@ -24,8 +24,8 @@ import os
 from typing import Any
 
 from ..errors import UsageError
+from ..ir.network import Network
 from ..network import fileformat
-from ..network.model import Network
 
 __all__ = [
     "SUFFIXES", "save_any", "load_any", "load_dense",
@@ -95,7 +95,7 @@ def save_any(net: Network, path: str) -> None:
         Any other suffix (the message lists the supported ones), a missing optional
         package, or a network that the format cannot hold.
 
-    >>> from thresholdc.network.model import Network, Output
+    >>> from thresholdc.ir.network import Network, Output
     >>> save_any(Network(("a",), (), (Output("a", "a"),)), "net.txt")  # doctest: +ELLIPSIS
     Traceback (most recent call last):
     ...
@@ -140,7 +140,7 @@ def load_dense(path: str, like: Network | None = None) -> Network:
         A file that cannot be read.
 
     >>> import os, tempfile
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> path = os.path.join(tempfile.mkdtemp(), "n.npz"); save_any(net, path)
     >>> [n.name for n in load_dense(path, like=net).neurons]
