@@ -13,7 +13,7 @@ from pathlib import Path
 from .export import load_any
 from .ir.network import Network
 from .ir.reference import Reference
-from .logic.source import load_source, source_from_text
+from .logic import load_source, source_from_text
 from .verify import Report, verify_network
 
 __all__ = ["load", "verify", "as_source"]

@@ -20,13 +20,10 @@ from . import progress
 from .errors import ThresholdcError, UsageError, VerificationUndecided
 from .ir.network import Network, check_network
 from .ir.reference import Reference
-from .logic.source import load_source, source_from_text
-from .logic.typed import network_features
-from .network.soften import apply_activation, survives
-from .synth import collapse
-from .synth.mapping import map_to_neurons
-from .verify import verify_network
-from .verify.report import Report
+from .logic import load_source, network_features, source_from_text
+from .network import apply_activation, survives
+from .synth import collapse, map_to_neurons
+from .verify import Report, verify_network
 from .version import __version__
 
 __all__ = ["compile_rules", "compile_source", "compile_file", "CompileResult", "DEFAULTS",

@@ -18,7 +18,7 @@ FLOORS: tuple[tuple[str, tuple[str, ...]], ...] = (
     ("synth", ("thresholdc.synth",)),
     ("verify", ("thresholdc.verify",)),
     ("export", ("thresholdc.export",)),
-    ("train", ("thresholdc.train",)),
+    ("train", ("thresholdc.train", "thresholdc.training")),
     ("compiler", ("thresholdc.compiler",)),
     ("api", ("thresholdc.api",)),
     ("commands", ("thresholdc.commands",)),

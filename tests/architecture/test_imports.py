@@ -7,7 +7,7 @@ import pathlib
 import subprocess
 import sys
 
-from tests.architecture.layers import FLOORS, floor_of
+from tests.architecture.layers import FLOORS, STAGES, floor_of
 
 ROOT = pathlib.Path(__file__).resolve().parents[2] / "thresholdc"
 #: Optional extras: only these may be imported inside a function (they may be absent).
@@ -96,3 +96,36 @@ def test_the_layering_check_sees_an_upward_import(monkeypatch, tmp_path):
     assert upward_imports([fake]) == [
         "thresholdc.ir.fake:1 (ir) imports thresholdc.synth.cuts (synth)"
     ]
+
+
+def test_other_floors_reach_a_stage_through_its_init():
+    # ``from ..network import insert_relays``, not ``from ..network.layering import ...``; the
+    # one exception is a name equal to its module (``synth.identify.identify``), which a stage
+    # ``__init__`` must not re-export (it would hide the module).
+    around = []
+    for path in sorted(ROOT.rglob("*.py")):
+        here = _module_name(path)
+        for target, node, _ in _imports(path):
+            parts = target.split(".")
+            if (parts[0] != "thresholdc" or len(parts) < 3 or parts[1] not in STAGES
+                    or floor_of(target) == floor_of(here)):
+                continue
+            names = [alias.name for alias in getattr(node, "names", [])]
+            if isinstance(node, ast.ImportFrom) and names == [parts[-1]]:
+                continue
+            around.append(f"{here}:{node.lineno} imports {target}")
+    assert around == []
+
+
+def test_no_stage_init_hides_a_submodule():
+    for stage in STAGES:
+        init = ROOT / stage / "__init__.py"
+        if not init.exists():
+            continue
+        public = set()
+        for node in ast.parse(init.read_text(encoding="utf-8")).body:
+            if isinstance(node, ast.Assign) and getattr(node.targets[0], "id", "") == "__all__":
+                public = set(ast.literal_eval(node.value))
+        submodules = {p.stem for p in (ROOT / stage).glob("*.py")} | {
+            p.name for p in (ROOT / stage).iterdir() if (p / "__init__.py").exists()}
+        assert public & submodules == set(), stage

@@ -10,7 +10,7 @@ from typing import Any
 from ..compiler import compile_file
 from ..errors import UsageError
 from ..export import save_any
-from ..network.fileformat import check_writable
+from ..network import check_writable
 from .common import add_parser, fmt_num, print_json, warn
 
 SUFFIXES = (".json", ".onnx", ".npz")

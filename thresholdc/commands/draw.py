@@ -9,7 +9,7 @@ from typing import Any
 
 from ..errors import UsageError
 from ..export import draw, load_any
-from ..network.fileformat import load
+from ..network import load
 from .common import add_parser
 
 FORMATS = (".png", ".svg")

@@ -9,7 +9,7 @@ from typing import Any
 
 from ..errors import UsageError
 from ..export import SUFFIXES, load_any, save_any
-from ..network.fileformat import load
+from ..network import load
 from .common import add_parser, print_json
 
 

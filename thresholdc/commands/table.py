@@ -22,8 +22,8 @@ import numpy as np
 
 from ..errors import UsageError
 from ..ir.reference import Reference
-from ..logic import reference
-from ..logic.source import load_source
+from ..logic import evaluate as evaluate_rules
+from ..logic import load_source
 from .common import add_parser, warn
 
 __all__ = ["register", "run", "table_rows", "MAX_TABLE_ROWS"]
@@ -85,7 +85,7 @@ def _evaluate(source: Reference, X: np.ndarray) -> np.ndarray:
     """Outputs ``(rows, outputs)`` as 0/1 for rows of value indices."""
     program = source.program
     if program is not None and program.is_typed():
-        return reference.evaluate(program, X).astype(np.uint8)
+        return evaluate_rules(program, X).astype(np.uint8)
     return np.asarray(source.evaluate(X.astype(np.uint8)), dtype=np.uint8)
 
 

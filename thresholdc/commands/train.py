@@ -10,9 +10,7 @@ from typing import Any
 from ..api import load
 from ..errors import UsageError
 from ..export import save_any
-from ..train.data import load_data, parse_label_specs
-from ..train.fit import DEFAULT_LR, DEFAULTS, train
-from ..train.scoring import score
+from ..train import DEFAULT_LR, DEFAULTS, load_data, parse_label_specs, score, train
 from .common import add_parser, fmt_num, print_json
 from .score import add_data_arguments
 

@@ -8,9 +8,8 @@ from typing import Any
 
 from ..api import load, verify
 from ..errors import VerificationUndecided
-from ..logic.source import load_source
-from ..verify.certificate import check_certificate
-from ..verify.report import Report
+from ..logic import load_source
+from ..verify import Report, check_certificate
 from .common import add_parser, fmt_num, format_table, print_json
 
 

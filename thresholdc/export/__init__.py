@@ -25,7 +25,8 @@ from typing import Any
 
 from ..errors import UsageError
 from ..ir.network import Network
-from ..network import fileformat
+from ..network import load as load_network_file
+from ..network import save as save_network_file
 
 __all__ = [
     "SUFFIXES", "save_any", "load_any", "load_dense",
@@ -104,7 +105,7 @@ def save_any(net: Network, path: str) -> None:
     suffix = _suffix(path, SUFFIXES, "to write a network")
     try:
         if suffix == ".json":
-            fileformat.save(net, path)
+            save_network_file(net, path)
         elif suffix == ".npz":
             _module("npz", None, "writing .npz").save_npz(net, path)
         else:
@@ -165,5 +166,5 @@ def load_any(path: str, like: Network | None = None) -> Network:
     """
     suffix = _suffix(path, SUFFIXES, "to read a network from")
     if suffix == ".json":
-        return fileformat.load(path)
+        return load_network_file(path)
     return load_dense(path, like)

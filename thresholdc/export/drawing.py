@@ -44,7 +44,7 @@ from matplotlib.path import Path
 
 from ..errors import UsageError
 from ..ir.network import Network
-from ..network.fileformat import atomic_write
+from ..network import atomic_write
 
 __all__ = ["draw", "figure", "render", "FORMATS", "MAX_NEURONS"]
 

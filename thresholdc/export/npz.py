@@ -28,7 +28,7 @@ import numpy as np
 
 from ..errors import NetworkFileError
 from ..ir.network import Network
-from ..network.fileformat import atomic_write
+from ..network import atomic_write
 from .dense import dense_form, network_from_layers
 
 __all__ = ["to_arrays", "npz_bytes", "save_npz", "load_npz", "from_arrays"]

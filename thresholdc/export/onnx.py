@@ -40,7 +40,7 @@ import onnx
 from onnx import TensorProto, helper, numpy_helper
 
 from ..ir.network import Network
-from ..network.fileformat import atomic_write
+from ..network import atomic_write
 from ..version import __version__
 from .dense import dense_form
 

@@ -44,7 +44,7 @@ import heapq
 from ..errors import UsageError
 from ..ir.gates import GateGraph
 from ..ir.network import Network, Neuron, Output
-from ..network.layering import assign_layers, fresh_name
+from ..network import assign_layers, fresh_name
 from . import candidates, cuts
 from .cover import Cover
 from .hashing import Hashed, hash_gates

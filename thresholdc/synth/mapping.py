@@ -35,7 +35,7 @@ from collections.abc import Iterable
 
 from ..ir.gates import Gate, GateGraph
 from ..ir.network import Network, Neuron, Output
-from ..network.layering import assign_layers, fresh_name, prune_dead
+from ..network import assign_layers, fresh_name, prune_dead
 
 __all__ = ["map_to_neurons", "Lit"]
 

@@ -14,12 +14,13 @@
 """
 
 from .data import Dataset, Table, load_data, parse_label_specs, read_table
-from .fit import DEFAULTS, TrainResult, train
+from .fit import DEFAULT_LR, DEFAULTS, TrainResult, train
 from .loop import Epoch
 from .scoring import score
 from .warmstart import prepare_start
 
 __all__ = [
+    "DEFAULT_LR",
     "DEFAULTS",
     "Dataset",
     "Epoch",

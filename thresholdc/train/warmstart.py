@@ -37,7 +37,7 @@ import numpy as np
 
 from ..errors import UsageError
 from ..ir.network import Network, Neuron, Output
-from ..network.soften import apply_activation
+from ..network import apply_activation
 from .mlp import Layout
 
 __all__ = ["LINK_SCALE", "INITS", "Start", "soft_network", "prepare_start", "frozen_closure"]

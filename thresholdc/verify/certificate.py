@@ -30,7 +30,7 @@ from typing import Any
 import numpy as np
 
 from ..ir.network import Network, real_units
-from ..network.soften import MAX_MARGIN_INPUTS, deviation, misread_limit, neuron_margins
+from ..network import MAX_MARGIN_INPUTS, deviation, misread_limit, neuron_margins
 
 __all__ = ["CertificateCheck", "check_certificate"]
 

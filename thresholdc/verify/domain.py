@@ -30,7 +30,7 @@ import numpy as np
 
 from ..errors import UsageError, VerificationUndecided
 from ..ir.network import Network
-from ..logic.typed import feature_scale, real_thresholds
+from ..logic import feature_scale, real_thresholds
 
 __all__ = [
     "Discrete", "Continuous", "Domain", "boolean_or_typed_domain", "cell_points",
