@@ -14,8 +14,9 @@ from dataclasses import replace
 import pytest
 
 from thresholdc.compiler import compile_source
-from thresholdc.network.model import Network
-from thresholdc.source import Source
+from thresholdc.ir.network import Network
+from thresholdc.ir.reference import Reference
+from thresholdc.logic import source_from_text
 from thresholdc.verify.auto import verify_network
 
 TEXT = """input a, b, c, d, e
@@ -34,7 +35,7 @@ def reordered(net: Network, order: list[str]) -> Network:
 
 @pytest.fixture(scope="module")
 def nets():
-    net = compile_source(Source.from_text(TEXT, "t.rules"), verify="none").network
+    net = compile_source(source_from_text(TEXT, "t.rules"), verify="none").network
     assert list(net.inputs) == ["a", "b", "c", "d", "e"]
     return net, [reordered(net, ["e", "d", "c", "b", "a"]),
                  reordered(net, ["b", "a", "d", "e", "c"])]
@@ -44,7 +45,7 @@ def nets():
 def test_equal_in_any_order(nets, method):
     if method == "sat":
         pytest.importorskip("pysat.solvers")
-    src = Source.from_text(TEXT, "t.rules")
+    src = source_from_text(TEXT, "t.rules")
     _, others = nets
     for net in others:
         assert verify_network(net, src, method=method).result == "equal"
@@ -54,7 +55,7 @@ def test_equal_in_any_order(nets, method):
 def test_differences_in_any_order(nets, method):
     if method == "sat":
         pytest.importorskip("pysat.solvers")
-    src = Source.from_text(WRONG, "w.rules")
+    src = source_from_text(WRONG, "w.rules")
     base, others = nets
     truth = verify_network(base, src, method="exhaustive")
     assert truth.verdicts() == {"y": "different", "z": "different", "w": "equal"}
@@ -68,7 +69,7 @@ def test_differences_in_any_order(nets, method):
                 assert _differs(base, src, c)
 
 
-def _differs(net: Network, src: Source, c) -> bool:
+def _differs(net: Network, src: Reference, c) -> bool:
     import numpy as np
 
     xs = np.array([[c.assignment[u] for u in src.inputs]], dtype=np.uint8)

@@ -16,9 +16,9 @@ import pytest
 
 from tests.verify.mutants import mutate, random_rules
 from thresholdc.compiler import compile_source
-from thresholdc.logic import reference
-from thresholdc.network.model import Network
-from thresholdc.source import Source
+from thresholdc.ir.network import Network
+from thresholdc.ir.reference import Reference
+from thresholdc.logic import reference, source_from_text
 from thresholdc.verify.bounds import verify_bounds
 from thresholdc.verify.exhaustive import verify_exhaustive
 from thresholdc.verify.local import verify_local
@@ -32,7 +32,7 @@ N_NETWORKS = 30
 MUTANTS_PER_NETWORK = 8  # 240 mutants in all
 
 
-def truth(net: Network, src: Source) -> dict[str, int]:
+def truth(net: Network, src: Reference) -> dict[str, int]:
     """Exact disagreement count per output: every row, the reference evaluator."""
     n = len(src.inputs)
     X = ((np.arange(2**n)[:, None] >> np.arange(n)) & 1).astype(np.uint8)
@@ -43,7 +43,7 @@ def truth(net: Network, src: Source) -> dict[str, int]:
             for k, o in enumerate(net.outputs)}
 
 
-def check(report: Report, want: dict[str, int], net: Network, src: Source, method: str,
+def check(report: Report, want: dict[str, int], net: Network, src: Reference, method: str,
           complete: bool) -> int:
     """Assert the report is sound per output (and complete when asked); the number of
     undecided outputs."""
@@ -79,7 +79,7 @@ def test_mutants_per_output(seed, monkeypatch):
     import sys
 
     tree = random_rules(seed, n_inputs=6 + seed % 4)
-    original = Source.from_text(tree.text(), "orig.rules")
+    original = source_from_text(tree.text(), "orig.rules")
     net = compile_source(original, synthesis=bool(seed % 2), verify="none").network
     assert all(v == 0 for v in truth(net, original).values())
     # auto: with the exhaustive work bound set to 0 it must go local, then SAT
@@ -88,7 +88,7 @@ def test_mutants_per_output(seed, monkeypatch):
     local_undecided = 0
     for m in range(MUTANTS_PER_NETWORK):
         mutant, _ = mutate(tree, seed * 1000 + m)
-        src = Source.from_text(mutant.text(), "mutant.rules")
+        src = source_from_text(mutant.text(), "mutant.rules")
         want = truth(net, src)
         check(verify_exhaustive(net, src), want, net, src, "exhaustive", True)
         check(verify_sat(net, src, time_limit=30), want, net, src, "sat", True)
@@ -109,8 +109,8 @@ def test_the_atleast_example_is_different_on_every_output():
                      for j in range(8))
     text = (f"input {', '.join(xs)}\noutput {', '.join(f'y{j}' for j in range(8))}\n"
             f"s = atleast(2, x0, x1, x2)\n{body}\n")
-    wrong = Source.from_text(text.replace("atleast(2", "atleast(3"), "k3.rules")
-    net = compile_source(Source.from_text(text, "k2.rules"), verify="none").network
+    wrong = source_from_text(text.replace("atleast(2", "atleast(3"), "k3.rules")
+    net = compile_source(source_from_text(text, "k2.rules"), verify="none").network
     want = truth(net, wrong)
     # s differs where exactly two of x0..x2 are true (3 of 8), the output passes it on where
     # one of its two inputs is true (3 of 4): 2^20 · 3/8 · 3/4 = 294,912 rows

@@ -22,9 +22,12 @@ pytest.importorskip("pysat.solvers")
 
 from thresholdc.compiler import compile_source  # noqa: E402
 from thresholdc.errors import RuleError  # noqa: E402
-from thresholdc.logic import reference  # noqa: E402
-from thresholdc.network.model import Network, Neuron, Output  # noqa: E402
-from thresholdc.source import Source  # noqa: E402
+from thresholdc.ir.network import Network, Neuron, Output  # noqa: E402
+from thresholdc.ir.reference import Reference
+from thresholdc.logic import (
+    reference,  # noqa: E402
+    source_from_text,  # noqa: E402
+)
 from thresholdc.verify.auto import verify_network  # noqa: E402
 from thresholdc.verify.sat.typed import verify_typed_sat  # noqa: E402
 from thresholdc.verify.typed import verify_typed  # noqa: E402
@@ -32,9 +35,9 @@ from thresholdc.verify.typed import verify_typed  # noqa: E402
 FIXTURES = Path(__file__).parent / "fixtures"
 
 
-def load(name: str) -> tuple[str, Source]:
+def load(name: str) -> tuple[str, Reference]:
     text = (FIXTURES / name).read_text()
-    return text, Source.from_text(text, name)
+    return text, source_from_text(text, name)
 
 
 @pytest.fixture(scope="module")
@@ -49,7 +52,7 @@ def orchard():
     return text, src, compile_source(src, verify="none").network
 
 
-def really_differs(src: Source, net: Network, c) -> bool:
+def really_differs(src: Reference, net: Network, c) -> bool:
     """Evaluate the rules (reference evaluator) and the network at a {feature: value} row."""
     program = src.program
     row = []
@@ -86,7 +89,7 @@ def test_orchard_is_proven(orchard):
 def test_planted_literal_in_the_hall(hall):
     text, _, net = hall
     # one literal of jam_north: seg05 == jammed becomes seg05 == busy
-    wrong = Source.from_text(text.replace("seg05 == jammed", "seg05 == busy", 1), "w.rules")
+    wrong = source_from_text(text.replace("seg05 == jammed", "seg05 == busy", 1), "w.rules")
     rep = verify_network(net, wrong)
     assert rep.verdicts() == {"reroute_north": "different", "reroute_south": "different",
                               "slow_intake": "equal", "call_crew": "equal",
@@ -102,7 +105,7 @@ def test_planted_literal_in_the_hall(hall):
 
 def test_planted_literal_and_threshold_in_the_orchard(orchard):
     text, _, net = orchard
-    wrong = Source.from_text(text.replace("plot05 == ripe", "plot05 == blush", 1)
+    wrong = source_from_text(text.replace("plot05 == ripe", "plot05 == blush", 1)
                              .replace("temp < 32", "temp <= 32"), "w.rules")
     rep = verify_network(net, wrong)
     assert rep.verdicts() == {"pick_today": "different", "frost_cover": "equal",
@@ -111,7 +114,7 @@ def test_planted_literal_and_threshold_in_the_orchard(orchard):
     for c in rep.counterexamples:
         assert isinstance(c.assignment["plot05"], str) and isinstance(c.assignment["temp"], float)
         assert really_differs(wrong, net, c)
-    only_temp = Source.from_text(text.replace("temp < 32", "temp <= 32"), "t.rules")
+    only_temp = source_from_text(text.replace("temp < 32", "temp <= 32"), "t.rules")
     rep = verify_typed_sat(net, only_temp, time_limit=30)
     (c,) = rep.outputs[0].counterexamples[:1]
     assert rep.verdicts()["pick_today"] == "different" and c.assignment["temp"] == 32.0
@@ -123,7 +126,7 @@ def test_exactly_one_and_ordered_atoms_are_needed():
     # every valid assignment, but not on impossible unit patterns (both units of c at 1) or
     # impossible atom values (t > 2 without t > 1): without the domain constraints the miter
     # would report those.
-    src = Source.from_text("input c: {a, b}, t: real\ny = c == a and t > 2\n", "t.rules")
+    src = source_from_text("input c: {a, b}, t: real\ny = c == a and t > 2\n", "t.rules")
     feats = ({"name": "c", "kind": "categorical", "values": ["a", "b"], "units": ["c=a", "c=b"]},
              {"name": "t", "kind": "real", "units": ["t"], "range": None, "scale": 1})
     net = Network(("c=a", "c=b", "t"), (
@@ -180,10 +183,10 @@ def _mutate(text: str, rng: random.Random) -> str:
 def test_random_typed_against_enumeration(seed):
     rng = random.Random(seed)
     text = _random_typed(rng)
-    net = compile_source(Source.from_text(text, "r.rules"), verify="none").network
+    net = compile_source(source_from_text(text, "r.rules"), verify="none").network
     for k in range(3):
         try:
-            src = Source.from_text(_mutate(text, rng) if k else text, "m.rules")
+            src = source_from_text(_mutate(text, rng) if k else text, "m.rules")
         except RuleError:  # a mutant out of range (atleast(k) with k above its arguments)
             continue
         truth = verify_typed(net, src)  # every valid assignment, exact counts

@@ -8,8 +8,8 @@ from typing import Any
 
 from ..api import load, verify
 from ..errors import VerificationUndecided
-from ..source import load_source
-from ..verify.report import Report, undecided_outputs
+from ..logic import load_source
+from ..verify import Report, check_certificate, undecided_outputs
 from .common import add_parser, fmt_num, format_table, print_json
 
 
@@ -72,8 +72,6 @@ def _certificate_problems(net: Any) -> list[str] | None:
     """Problems of a stored soft-activation certificate; None when there is none."""
     if not isinstance(net.meta.get("certificate"), dict):
         return None
-    from ..verify.certificate import check_certificate
-
     return list(check_certificate(net).problems)
 
 

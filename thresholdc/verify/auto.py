@@ -19,9 +19,9 @@ The input and output names of network and source are compared as sets first: a m
 UsageError naming the differing names.
 
 >>> from thresholdc.compiler import compile_rules
->>> from thresholdc.source import Source
+>>> from thresholdc.logic.source import source_from_text
 >>> text = "input a, b\\ny = a xor b\\n"
->>> verify_network(compile_rules(text), Source.from_text(text, "x.rules"), method="sat").result
+>>> verify_network(compile_rules(text), source_from_text(text, "x.rules"), method="sat").result
 'equal'
 """
 
@@ -31,13 +31,16 @@ import time
 from typing import Any
 
 from ..errors import UsageError, VerificationUndecided
-from ..network.model import Network
-from .exhaustive import check_names, verify_exhaustive
+from ..ir.network import Network
+from .bounds import verify_bounds
+from .domain import check_names, is_typed_source, typed_domain
+from .exhaustive import verify_exhaustive
 from .local import verify_local
 from .report import OutputReport, Report, undecided_outputs
 from .sat.encode import check_step_network
 from .sat.method import verify_sat
 from .sat.typed import typed_sat_problem, verify_typed_sat
+from .typed import verify_typed
 
 __all__ = ["verify_network", "merge_reports", "METHODS"]
 
@@ -62,7 +65,7 @@ def verify_network(
     net
         The network to check.
     source
-        A :class:`~thresholdc.source.Source` (rule file or netlist).
+        A :class:`~thresholdc.ir.reference.Reference` (rule file or netlist).
     method
         ``auto`` (default), ``exhaustive``, ``local`` or ``sat``.
     max_inputs
@@ -85,9 +88,9 @@ def verify_network(
 
     Examples
     --------
-    >>> from thresholdc.network.model import Network, Neuron, Output
-    >>> from thresholdc.source import Source
-    >>> src = Source.from_text("input a, b\\ny = a and b\\n", "t.rules")
+    >>> from thresholdc.ir.network import Network, Neuron, Output
+    >>> from thresholdc.logic.source import source_from_text
+    >>> src = source_from_text("input a, b\\ny = a and b\\n", "t.rules")
     >>> net = Network(("a", "c"), (Neuron("y", 1, ("a", "c"), (1, 1), -1.5),),
     ...               (Output("y", "y"),))
     >>> verify_network(net, src)
@@ -107,9 +110,6 @@ def verify_network(
         return verify_exhaustive(net, source, max_inputs=max_inputs)
     if method == "local":
         return verify_local(net, source, max_inputs=max_inputs, time_limit=time_limit)
-    from .bounds import verify_bounds
-    from .typed import is_typed_source
-
     if method == "sat":
         if is_typed_source(source):
             _needs_sat()
@@ -174,8 +174,6 @@ def _typed(net: Network, source: Any, max_inputs: int, time_limit: float) -> Rep
     larger one, the typed SAT miter, then branch-and-bound for whatever it left open;
     otherwise (soft networks) the typed method (cells or bands, by enumeration or
     branch-and-bound)."""
-    from .typed import typed_domain, verify_typed
-
     problem = None
     try:
         _needs_sat()

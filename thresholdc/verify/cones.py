@@ -9,7 +9,7 @@ region, or whose leaves take only some value combinations, is checked again over
 inputs it depends on.  ``cone_ok`` and ``deps`` (the leaf units each cone reads) let the
 caller prove units by induction over the network's order (:mod:`.local`).
 
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> g = GateGraph.build(["a", "b"], [("y", "y")], [("y", Gate("nor", ("a", "b")))])
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (-1, -1), 0.5),),
 ...               (Output("y", "y"),))
@@ -25,8 +25,8 @@ from typing import Any
 
 import numpy as np
 
-from ..network.model import Network, Neuron
-from ..synth.gates import Gate, GateGraph
+from ..ir.gates import Gate, GateGraph
+from ..ir.network import Network, Neuron
 from .sat.circuit import TRUE
 from .sat.encode import gate_literal, integer_threshold
 from .sat.miter import prove_equivalent
@@ -278,6 +278,38 @@ class ConeCheck:
             return False
         self.input_cones += 1
         return True
+
+    def same_function(self, a: str, b: str, negate: bool) -> bool:
+        """Whether signals ``a`` and ``b`` (``b`` negated if ``negate``) compute the same
+        function, on every assignment of the primary inputs they depend on (at most
+        ``max_leaves``; False beyond)."""
+        region: list[str] = []
+        support: list[str] = []
+        seen: set[str] = set()
+        stack = [a, b]
+        while stack:
+            s = stack.pop()
+            if s in seen:
+                continue
+            seen.add(s)
+            g = self.graph.gates[s]
+            if g.op == "input":
+                support.append(s)
+                if len(support) > self.max_leaves:
+                    return False
+                continue
+            region.append(s)
+            if len(region) > _REGION_MAX:
+                return False
+            stack.extend(g.args)
+        k, cols = self._table(len(support))
+        val: dict[str, np.ndarray] = {x: cols[j] for j, x in enumerate(support)}
+        for x in sorted(region, key=self.order.__getitem__):
+            g = self.graph.gates[x]
+            val[x] = gate_value(g, [val[y] for y in g.args], len(k))
+        self.assignments += len(k)
+        other = ~val[b] if negate else val[b]
+        return bool(np.array_equal(val[a], other))
 
     def _check_cone(self, name: str) -> bool:
         """Check one listed neuron over the values of its leaves."""

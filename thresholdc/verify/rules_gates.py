@@ -11,7 +11,7 @@ from typing import Any
 
 import numpy as np
 
-from ..synth.gates import GateGraph
+from ..ir.gates import GateGraph
 from .exhaustive import assignments
 from .sat.method import gates_side, miter_summary, source_side
 from .sat.miter import prove_equivalent

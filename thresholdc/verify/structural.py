@@ -5,7 +5,7 @@ the same op on the same (sorted, for commutative ops) arguments is the same sign
 fold into ``and``/xor/threshold forms.  The local check and the collapsing pass use these
 classes; equal classes are a proof of equal functions, different classes prove nothing.
 
->>> from thresholdc.synth.gates import Gate, GateGraph
+>>> from thresholdc.ir.gates import Gate, GateGraph
 >>> g = GateGraph.build(["a"], [("y", "y")], [("n", Gate("not", ("a",))),
 ...     ("y", Gate("not", ("n",)))])
 >>> structural_classes(g)["y"] == structural_classes(g)["a"]
@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import math
 
-from ..synth.gates import GateGraph
+from ..ir.gates import GateGraph
 
 __all__ = ["structural_classes", "CONST_CLASS", "Cls"]
 
@@ -36,7 +36,7 @@ def structural_classes(graph: GateGraph) -> dict[str, Cls]:
     ``ite`` with a negated condition swaps its branches; arguments of commutative ops are
     sorted.  Equal keys get equal ids.
 
-    >>> from thresholdc.synth.gates import Gate
+    >>> from thresholdc.ir.gates import Gate
     >>> g = GateGraph.build(["a", "b"], [("y", "y")], [("x", Gate("and", ("a", "b"))),
     ...     ("n", Gate("nand", ("b", "a"))), ("y", Gate("not", ("n",)))])
     >>> c = structural_classes(g); c["x"] == c["y"], c["n"] == (c["x"][0], True)

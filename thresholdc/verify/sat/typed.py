@@ -23,12 +23,12 @@ its other inputs.  Counterexamples are decoded to ``{feature: value}`` (the user
 names and values: ``colour: "red"``, ``temp: 31.5``) and re-simulated on both sides.
 
 >>> from thresholdc.compiler import compile_rules
->>> from thresholdc.source import Source
+>>> from thresholdc.logic import source_from_text
 >>> text = "input colour: {red, green, blue}, temp: real\\ny = colour == red and temp > 30\\n"
 >>> net = compile_rules(text, verify="none")
->>> verify_typed_sat(net, Source.from_text(text), time_limit=10).result
+>>> verify_typed_sat(net, source_from_text(text), time_limit=10).result
 'equal'
->>> wrong = Source.from_text(text.replace("temp > 30", "temp >= 30"))
+>>> wrong = source_from_text(text.replace("temp > 30", "temp >= 30"))
 >>> verify_typed_sat(net, wrong, time_limit=10).counterexamples[0].assignment
 {'colour': 'red', 'temp': 30.0}
 """
@@ -41,11 +41,13 @@ from typing import Any
 
 import numpy as np
 
-from ...network.model import Network
-from ..domain import Discrete, Domain, network_rows
+from ...errors import UsageError
+from ...ir.network import Network
+from ..domain import Discrete, Domain, network_cuts, network_rows, typed_domain
 from ..report import Counterexample, Report
 from .circuit import FALSE, TRUE, Circuit
 from .encode import encode_program, integer_threshold
+from .method import miter_report
 from .miter import prove_equivalent
 
 __all__ = ["verify_typed_sat", "typed_sat_problem", "MAX_OTHERS"]
@@ -210,13 +212,11 @@ def typed_sat_problem(net: Network, source: Any) -> _Problem | None:
     units or a real unit and more than :data:`MAX_OTHERS` others).
 
     >>> from thresholdc.compiler import compile_rules
-    >>> from thresholdc.source import Source
+    >>> from thresholdc.logic import source_from_text
     >>> text = "input c: {a, b}, t: real\\ny = c == a or t < 2\\n"
-    >>> typed_sat_problem(compile_rules(text), Source.from_text(text)).names
+    >>> typed_sat_problem(compile_rules(text), source_from_text(text)).names
     ['c=a', 'c=b', 't>=2.0', 't>=3.0']
     """
-    from ..typed import network_cuts, typed_domain
-
     if net.encoding != "binary" or any(n.activation != "step" for n in net.neurons):
         return None
     program = getattr(source, "program", None)
@@ -245,7 +245,7 @@ def verify_typed_sat(net: Network, source: Any, *, time_limit: float,
         A step network (binary encoding) compiled from a typed rule file, or any step network
         with the same units.
     source
-        The typed rule :class:`~thresholdc.source.Source`.
+        The typed rule rule source (:class:`~thresholdc.ir.reference.Reference`).
     time_limit
         Seconds for the whole check (the solver runs in a child process ended at the limit).
     solver
@@ -265,16 +265,13 @@ def verify_typed_sat(net: Network, source: Any, *, time_limit: float,
     Examples
     --------
     >>> from thresholdc.compiler import compile_rules
-    >>> from thresholdc.source import Source
+    >>> from thresholdc.logic import source_from_text
     >>> text = "input c: {a, b, z}\\ny = c != z\\n"
-    >>> r = verify_typed_sat(compile_rules(text), Source.from_text("input c: {a, b, z}\\n"
+    >>> r = verify_typed_sat(compile_rules(text), source_from_text("input c: {a, b, z}\\n"
     ...                      "y = c == a\\n"), time_limit=10)
     >>> r.result, r.counterexamples[0].assignment
     ('different', {'c': 'b'})
     """
-    from ...errors import UsageError
-    from .method import miter_report
-
     t0 = time.perf_counter()
     problem = typed_sat_problem(net, source)
     if problem is None:
