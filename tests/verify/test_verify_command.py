@@ -71,3 +71,22 @@ def test_undecided_rows_name_their_bound(files, capsys):
     assert code == 2 and data["result"] == "undecided"
     assert all(o["verdict"] == "undecided" and o["agrees"] is False and "bound of 8" in o["bound"]
                for o in data["outputs"])
+
+
+def test_per_definition_option(tmp_path, capsys):
+    text = "input a, b, c, d\nm = a and b\nn = atleast(2, b, c, d)\ny = m or c\nz = n xor a\n"
+    right = tmp_path / "d.rules"
+    right.write_text(text)
+    wrong = tmp_path / "d3.rules"
+    wrong.write_text(text.replace("atleast(2", "atleast(3"))
+    net = tmp_path / "d.json"
+    assert run(capsys, "compile", right, "-o", net, "--no-synthesis")[0] == 0
+    code, out = run(capsys, "verify", net, wrong, "--definitions", "--json")
+    data = json.loads(out)
+    assert code == 1 and data["definitions"]["result"] == "different"
+    # n = atleast(2, b, c, d) against atleast(3, …): exactly two of b, c, d (3 of 8), a free
+    assert {v["name"]: (v["verdict"], v["disagreements"]) for v in
+            data["definitions"]["verdicts"]} == {
+        "m": ("equal", 0), "y": ("equal", 0), "n": ("different", 6), "z": ("different", 6)}
+    code, out = run(capsys, "verify", net, wrong, "--definitions")
+    assert code == 1 and "definition  verdict" in out

@@ -9,7 +9,7 @@ from typing import Any
 from ..api import load, verify
 from ..errors import VerificationUndecided
 from ..logic import load_source
-from ..verify import Report, check_certificate, undecided_outputs
+from ..verify import Report, check_certificate, undecided_outputs, verify_definitions
 from .common import add_parser, fmt_num, format_table, print_json
 
 
@@ -40,6 +40,11 @@ def register(subparsers: Any) -> None:
                    help="time budget of the SAT check in seconds (default 60)")
     p.add_argument("--like", metavar="NET.json",
                    help="the compiled network a .npz/.onnx came from (unit names, features)")
+    p.add_argument("--definitions", action="store_true",
+                   help="also report, definition by definition, which definitions of the rule "
+                   "file the network still computes (for networks that keep a neuron named "
+                   "after each definition, e.g. compiled with --no-synthesis, then trained); "
+                   "the exit code stays that of the outputs")
     p.add_argument("--json", action="store_true", help="print the report as JSON")
 
 
@@ -54,13 +59,23 @@ def run(args: argparse.Namespace) -> int:
         report = Report("undecided", args.method, 0,
                         undecided_outputs(net.output_names, err.message), notes=[err.message])
     cert_problems = _certificate_problems(net)
+    per_def = None
+    if args.definitions:
+        per_def = verify_definitions(net, source, method=args.method,
+                                     max_inputs=args.max_inputs, time_limit=args.time_limit)
     if args.json:
         data = report.to_dict()
         if cert_problems is not None:
             data["certificate"] = {"ok": not cert_problems, "problems": cert_problems}
+        if per_def is not None:
+            data["definitions"] = {"result": per_def.result, "method": per_def.method,
+                                   "verdicts": [o.to_dict() for o in per_def.outputs]}
         print_json(data)
     else:
-        sys.stdout.write(render_report(args.network, args.source, report, cert_problems) + "\n")
+        text = render_report(args.network, args.source, report, cert_problems)
+        if per_def is not None:
+            text += "\n" + render_definitions(per_def)
+        sys.stdout.write(text + "\n")
     if report.result == "undecided":
         return 2
     if report.result == "different" or cert_problems:
@@ -75,7 +90,22 @@ def _certificate_problems(net: Any) -> list[str] | None:
     return list(check_certificate(net).problems)
 
 
-def output_table(report: Report) -> str:
+def render_definitions(report: Report) -> str:
+    """The per-definition table and the bounds of the undecided ones."""
+    lines = [f"  definitions: {report.result} ({report.method})"]
+    lines.extend("  " + t for t in output_table(report, "definition").splitlines())
+    for o in report.outputs:
+        if o.verdict == "undecided":
+            lines.append(f"  {o.name} not decided: {o.bound}")
+    for o in report.outputs:
+        for c in o.counterexamples[:1]:
+            assignment = " ".join(f"{k}={v}" for k, v in c.assignment.items())
+            lines.append(f"    {o.name}: {assignment}: expected {int(c.expected)}, network "
+                         f"gave {fmt_num(c.actual)}")
+    return "\n".join(lines)
+
+
+def output_table(report: Report, label: str = "output") -> str:
     """The per-output table: the verdict, then the count, labelled for what it is.
 
     ``disagreeing inputs`` is the exact number of disagreeing assignments (shown where the
@@ -92,7 +122,7 @@ def output_table(report: Report) -> str:
     b       undecided                   -                      -           -
     """
     exact_only = all(o.exact for o in report.outputs)
-    head = ["output", "verdict", "disagreeing inputs"]
+    head = [label, "verdict", "disagreeing inputs"]
     if not exact_only:
         head.append("counterexamples found")
     head.append("min margin")
