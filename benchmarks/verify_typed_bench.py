@@ -5,10 +5,10 @@ parcel-sorting hall, 57 categorical inputs of 4 values; an orchard, 60 inputs of
 a real temperature) and smaller sorting halls of n segments built the same way, each compiled
 to a step network, checked against its own rules (equal) and against the rules with one
 literal changed (different).  From one run it prints, per network and check: the typed SAT
-time (:func:`thresholdc.verify.sat.typed.verify_typed_sat`), the enumeration of every valid
-assignment (:func:`thresholdc.verify.typed.verify_typed` with a large ``max_inputs``; only
+time (:func:`thresholdc.verification.sat.typed.verify_typed_sat`), the enumeration of every valid
+assignment (:func:`thresholdc.verification.typed.verify_typed` with a large ``max_inputs``; only
 where the domain has at most 2^24 points) and the branch-and-bound the earlier ``auto`` used
-on these domains (:func:`thresholdc.verify.bounds.verify_bounds`, stopped at ``--limit``
+on these domains (:func:`thresholdc.verification.bounds.verify_bounds`, stopped at ``--limit``
 seconds: shown as ``> limit``), and the ratios to the SAT time, with each method's verdicts.
 Not a timed test.
 
@@ -24,10 +24,10 @@ from pathlib import Path
 
 from thresholdc.compiler import compile_source
 from thresholdc.logic.source import source_from_text
-from thresholdc.verify.bounds import verify_bounds
-from thresholdc.verify.domain import typed_domain
-from thresholdc.verify.sat.typed import verify_typed_sat
-from thresholdc.verify.typed import verify_typed
+from thresholdc.verification.bounds import verify_bounds
+from thresholdc.verification.domain import typed_domain
+from thresholdc.verification.sat.typed import verify_typed_sat
+from thresholdc.verification.typed import verify_typed
 
 FIXTURES = Path(__file__).resolve().parent.parent / "tests" / "verify" / "fixtures"
 STATES = ("clear", "busy", "jammed", "offline")

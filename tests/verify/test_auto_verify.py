@@ -15,7 +15,7 @@ from thresholdc.errors import UsageError, VerificationUndecided
 from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.ir.reference import Reference
 from thresholdc.logic.source import source_from_text
-from thresholdc.verify.auto import verify_network
+from thresholdc.verification.auto import verify_network
 
 gc = load_gen_circuits()
 
@@ -155,13 +155,24 @@ def test_big_tables_within_the_bound_go_local_first(monkeypatch):
     report = verify_network(net, src)
     assert (report.result, report.method) == ("equal", "local")
     # when local and SAT cannot decide, the exhaustive check still does (within the bound)
-    import sys
+    import thresholdc.verification.auto as auto_module
+    from thresholdc.verification.report import Report
 
-    from thresholdc.verify.report import Report
-
-    # (thresholdc.verify is also the name of a function, so the module is taken from sys)
-    monkeypatch.setattr(sys.modules["thresholdc.verify.auto"], "verify_sat",
+    # the package is thresholdc.verification, so the module import is not shadowed by the
+    # function thresholdc.verify
+    monkeypatch.setattr(auto_module, "verify_sat",
                         lambda *a, **k: Report("undecided", "sat", 0, [], notes=["x"]))
     report = verify_network(replace(net, meta={}), src)
     assert (report.result, report.method) == ("equal", "local+sat+exhaustive")
     assert "local: the network records no gate cones (meta.cones)" in report.notes
+
+
+def test_verification_modules_import_as_modules():
+    # thresholdc.verify is the public function; the package is thresholdc.verification, so
+    # `import … as` of its modules is not shadowed by it
+    import thresholdc
+    import thresholdc.verification.auto as auto_module
+    import thresholdc.verification.sat.miter as miter_module
+
+    assert callable(thresholdc.verify) and auto_module.verify_network is verify_network
+    assert hasattr(miter_module, "prove_equivalent")

@@ -15,8 +15,8 @@ import pytest
 from thresholdc.compiler import compile_rules
 from thresholdc.errors import VerificationUndecided
 from thresholdc.logic.source import source_from_text
-from thresholdc.verify.bounds import verify_bounds
-from thresholdc.verify.exhaustive import verify_exhaustive
+from thresholdc.verification.bounds import verify_bounds
+from thresholdc.verification.exhaustive import verify_exhaustive
 
 RULES = [
     "input a, b, c, d\nalarm = atleast(2, a, b, c) and not d\nok = a xor b xor c\n",
@@ -162,7 +162,7 @@ def test_report_layout():
 
 
 def test_verify_network_sends_soft_networks_above_the_bound_here():
-    from thresholdc.verify.auto import verify_network
+    from thresholdc.verification.auto import verify_network
 
     names = [f"x{i}" for i in range(26)]
     text = f"input {', '.join(names)}\ny = atleast(3, {', '.join(names)})\n"

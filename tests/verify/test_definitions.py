@@ -17,7 +17,7 @@ from tests.verify.mutants import mutate, random_rules
 from thresholdc.compiler import compile_rules, compile_source
 from thresholdc.errors import UsageError
 from thresholdc.logic import reference, source_from_text
-from thresholdc.verify import OutputReport, definition_units, verify_definitions
+from thresholdc.verification import OutputReport, definition_units, verify_definitions
 
 pytest.importorskip("pysat.solvers")
 

@@ -17,7 +17,7 @@ from thresholdc.compiler import compile_source
 from thresholdc.ir.network import Network
 from thresholdc.ir.reference import Reference
 from thresholdc.logic import source_from_text
-from thresholdc.verify.auto import verify_network
+from thresholdc.verification.auto import verify_network
 
 TEXT = """input a, b, c, d, e
 y = a and not b

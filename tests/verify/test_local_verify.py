@@ -16,8 +16,8 @@ from thresholdc.ir.reference import Reference
 from thresholdc.logic.source import RuleSource, source_from_text
 from thresholdc.network.layering import insert_relays
 from thresholdc.syntax import parse
-from thresholdc.verify.auto import verify_network
-from thresholdc.verify.local import structural_classes, verify_local
+from thresholdc.verification.auto import verify_network
+from thresholdc.verification.local import structural_classes, verify_local
 
 gc = load_gen_circuits()
 

@@ -19,14 +19,14 @@ from thresholdc.compiler import compile_source
 from thresholdc.ir.network import Network
 from thresholdc.ir.reference import Reference
 from thresholdc.logic import reference, source_from_text
-from thresholdc.verify.bounds import verify_bounds
-from thresholdc.verify.exhaustive import verify_exhaustive
-from thresholdc.verify.local import verify_local
-from thresholdc.verify.report import Report
+from thresholdc.verification.bounds import verify_bounds
+from thresholdc.verification.exhaustive import verify_exhaustive
+from thresholdc.verification.local import verify_local
+from thresholdc.verification.report import Report
 
 pytest.importorskip("pysat.solvers")
 
-from thresholdc.verify.sat import verify_sat  # noqa: E402
+from thresholdc.verification.sat import verify_sat  # noqa: E402
 
 N_NETWORKS = 30
 MUTANTS_PER_NETWORK = 8  # 240 mutants in all
@@ -76,14 +76,13 @@ def check(report: Report, want: dict[str, int], net: Network, src: Reference, me
 
 @pytest.mark.parametrize("seed", range(N_NETWORKS))
 def test_mutants_per_output(seed, monkeypatch):
-    import sys
+    import thresholdc.verification.auto as auto
 
     tree = random_rules(seed, n_inputs=6 + seed % 4)
     original = source_from_text(tree.text(), "orig.rules")
     net = compile_source(original, synthesis=bool(seed % 2), verify="none").network
     assert all(v == 0 for v in truth(net, original).values())
     # auto: with the exhaustive work bound set to 0 it must go local, then SAT
-    auto = sys.modules["thresholdc.verify.auto"]
     monkeypatch.setattr(auto, "EXHAUSTIVE_WORK", 0)
     local_undecided = 0
     for m in range(MUTANTS_PER_NETWORK):
@@ -115,7 +114,7 @@ def test_the_atleast_example_is_different_on_every_output():
     # s differs where exactly two of x0..x2 are true (3 of 8), the output passes it on where
     # one of its two inputs is true (3 of 4): 2^20 · 3/8 · 3/4 = 294,912 rows
     assert set(want.values()) == {294912}
-    from thresholdc.verify.auto import verify_network
+    from thresholdc.verification.auto import verify_network
 
     for method in ("auto", "local", "sat", "exhaustive", "bounds"):
         rep = verify_network(net, wrong, method=method)

@@ -8,14 +8,14 @@ import importlib
 import pytest
 
 MODULES = [
-    "thresholdc.verify.sat.circuit",
-    "thresholdc.verify.sat.encode",
-    "thresholdc.verify.sat.miter",
-    "thresholdc.verify.sat.method",
-    "thresholdc.verify.local",
-    "thresholdc.verify.structural",
-    "thresholdc.verify.cones",
-    "thresholdc.verify.auto",
+    "thresholdc.verification.sat.circuit",
+    "thresholdc.verification.sat.encode",
+    "thresholdc.verification.sat.miter",
+    "thresholdc.verification.sat.method",
+    "thresholdc.verification.local",
+    "thresholdc.verification.structural",
+    "thresholdc.verification.cones",
+    "thresholdc.verification.auto",
 ]
 
 

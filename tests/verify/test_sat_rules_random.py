@@ -22,8 +22,8 @@ import sympy as sp  # noqa: E402
 from tests.strategies import RuleCase, rule_cases  # noqa: E402
 from thresholdc.compiler import compile_source  # noqa: E402
 from thresholdc.logic.source import source_from_text  # noqa: E402
-from thresholdc.verify.local import verify_local  # noqa: E402
-from thresholdc.verify.sat import verify_sat  # noqa: E402
+from thresholdc.verification.local import verify_local  # noqa: E402
+from thresholdc.verification.sat import verify_sat  # noqa: E402
 
 
 def truly_equal(net, src) -> bool:

@@ -20,8 +20,8 @@ from thresholdc.errors import UsageError  # noqa: E402
 from thresholdc.ir.network import Network, Neuron, Output  # noqa: E402
 from thresholdc.ir.reference import Reference  # noqa: E402
 from thresholdc.logic.source import source_from_text  # noqa: E402
-from thresholdc.verify.sat import verify_sat  # noqa: E402
-from thresholdc.verify.sat.miter import available_solvers, prove_equivalent  # noqa: E402
+from thresholdc.verification.sat import verify_sat  # noqa: E402
+from thresholdc.verification.sat.miter import available_solvers, prove_equivalent  # noqa: E402
 
 gc = load_gen_circuits()
 
@@ -202,7 +202,7 @@ def test_raw_miter_needs_the_solver():
     # without hashing and sweeping the solver decides; with them, no solver call is needed
     src = source_from_text(gc.adder(4), "a.bench")
     net = gate_for_gate(src.gates())
-    from thresholdc.verify.sat import network_side, source_side
+    from thresholdc.verification.sat import network_side, source_side
 
     raw = prove_equivalent(src.inputs, src.outputs, source_side(src), network_side(net),
                            time_limit=30, sweep=False, share=False)

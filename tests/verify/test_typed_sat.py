@@ -28,9 +28,9 @@ from thresholdc.logic import (
     reference,  # noqa: E402
     source_from_text,  # noqa: E402
 )
-from thresholdc.verify.auto import verify_network  # noqa: E402
-from thresholdc.verify.sat.typed import verify_typed_sat  # noqa: E402
-from thresholdc.verify.typed import verify_typed  # noqa: E402
+from thresholdc.verification.auto import verify_network  # noqa: E402
+from thresholdc.verification.sat.typed import verify_typed_sat  # noqa: E402
+from thresholdc.verification.typed import verify_typed  # noqa: E402
 
 FIXTURES = Path(__file__).parent / "fixtures"
 

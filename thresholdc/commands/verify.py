@@ -9,7 +9,7 @@ from typing import Any
 from ..api import load, verify
 from ..errors import VerificationUndecided
 from ..logic import load_source
-from ..verify import Report, check_certificate, undecided_outputs, verify_definitions
+from ..verification import Report, check_certificate, undecided_outputs, verify_definitions
 from .common import add_parser, fmt_num, format_table, print_json
 
 
@@ -113,7 +113,7 @@ def output_table(report: Report, label: str = "output") -> str:
     does not count; with both kinds of rows both columns are shown, ``-`` where one does not
     apply.
 
-    >>> from thresholdc.verify.report import OutputReport
+    >>> from thresholdc.verification.report import OutputReport
     >>> r = Report.of("sat", 0, [OutputReport.proven("a"), OutputReport.undecided("b", "t")])
     >>> print(output_table(r))
     output  verdict    disagreeing inputs  counterexamples found  min margin

@@ -210,7 +210,7 @@ def merge_reports(names: list[str], reports: list[Report]) -> Report:
     cannot conflict), else stays undecided with the bounds each method reached.  The last
     method that decides an output wins when it counted exactly (exhaustive).
 
-    >>> from thresholdc.verify.report import OutputReport
+    >>> from thresholdc.verification.report import OutputReport
     >>> a = Report.of("local", 0, [OutputReport.undecided("y", "local: a cone")])
     >>> b = Report.of("sat", 0, [OutputReport.proven("y")])
     >>> merged = merge_reports(["y"], [a, b])

@@ -1,6 +1,6 @@
 """Encoders into the SAT circuit IR: a gate graph, a step network, and a rule program.
 
-Each encoder takes a :class:`~thresholdc.verify.sat.circuit.Circuit` and the literals of the
+Each encoder takes a :class:`~thresholdc.verification.sat.circuit.Circuit` and the literals of the
 primary inputs (by name) and returns the literal of every named signal, unit or definition.
 
 * :func:`encode_gates`: one node per gate; ``threshold``/``equal`` gates use the circuit's
@@ -16,7 +16,7 @@ primary inputs (by name) and returns the literal of every named signal, unit or 
 Unsupported inputs raise :class:`~thresholdc.errors.UsageError` (soft or bipolar networks,
 typed inputs).
 
->>> from thresholdc.verify.sat.circuit import Circuit
+>>> from thresholdc.verification.sat.circuit import Circuit
 >>> from thresholdc.ir.network import Network, Neuron, Output
 >>> c = Circuit()
 >>> ins = {"a": c.new_input(), "b": c.new_input()}

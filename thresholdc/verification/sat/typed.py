@@ -1,6 +1,6 @@
 """SAT for typed step networks: categorical inputs as one-hot groups, reals as ordered atoms.
 
-The domain is the step network's exact one (:func:`thresholdc.verify.typed.typed_domain`):
+The domain is the step network's exact one (:func:`thresholdc.verification.typed.typed_domain`):
 every categorical input takes one of its values, every real input one point per cell cut by
 the rules' and the network's thresholds (and a point on each threshold).  In the miter
 

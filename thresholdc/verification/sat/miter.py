@@ -20,7 +20,7 @@ combinational equivalence check; common practice, cf. FRAIG-style sweeping):
    is a counterexample for every output that differs in it; those outputs are dropped and
    the rest solved again, until UNSAT (every remaining output proved equal) or the time limit.
 
->>> from thresholdc.verify.sat.circuit import Circuit
+>>> from thresholdc.verification.sat.circuit import Circuit
 >>> def xor_a(c, ins):
 ...     return {"y": c.xor_([ins["a"], ins["b"]])}
 >>> def xor_b(c, ins):

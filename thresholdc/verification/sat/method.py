@@ -2,7 +2,7 @@
 
 The source side is encoded straight from the rule AST (or from the netlist's gates), the
 network side neuron by neuron as y ↔ [Σ w·x + b > 0] (see :mod:`.encode`), and the two
-are compared by :func:`~thresholdc.verify.sat.miter.prove_equivalent` — structural hashing,
+are compared by :func:`~thresholdc.verification.sat.miter.prove_equivalent` — structural hashing,
 simulation-guided matching proved on small cuts, then python-sat in a child process ended at
 the time limit.  Every counterexample is re-simulated on both sides (``Network.decide`` and
 ``Reference.evaluate``) before it is reported.

@@ -12,7 +12,7 @@ Rules of the method
       real (the compiler's form); otherwise the network is treated like a soft one.
     * A *soft* (sigmoid, tanh, …, e.g. trained) network flips near, not at, the thresholds,
       so points are not enough: it is checked by branch-and-bound
-      (:mod:`thresholdc.verify.bounds`) over the declared range of each real input less a band
+      (:mod:`thresholdc.verification.bounds`) over the declared range of each real input less a band
       of ± scale around each rule threshold, and the report says so.  A real input without a
       declared range cannot be checked this way: VerificationUndecided (exit 2) says a range
       is needed.

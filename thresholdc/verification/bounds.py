@@ -4,7 +4,7 @@ For networks whose inputs are too many to enumerate, or trained networks with re
 :func:`verify_bounds` decides agreement with the rules over whole boxes of inputs at a time.
 
 Rules of the algorithm
-    * A *box* fixes some inputs and leaves others free (see :mod:`thresholdc.verify.ternary`).
+    * A *box* fixes some inputs and leaves others free (see :mod:`thresholdc.verification.ternary`).
       The frontier of boxes is processed in vectorised batches, depth first.
     * Network bounds: each input unit gets an interval over the box; a neuron's pre-activation
       interval is ``b + Σ_{w>0} w·[lo] + Σ_{w<0} w·[hi]`` (upper end alike), and since every
@@ -208,7 +208,7 @@ def network_bounds(
 
     >>> from thresholdc.compiler import compile_rules
     >>> from thresholdc.logic.source import source_from_text
-    >>> from thresholdc.verify.domain import boolean_or_typed_domain
+    >>> from thresholdc.verification.domain import boolean_or_typed_domain
     >>> text = "input a, b\\ny = a and b\\n"
     >>> net, d = compile_rules(text), boolean_or_typed_domain(source_from_text(text))
     >>> vlo, vhi = network_bounds(net, d, [np.array([[True, True]]), np.array([[False, True]])])
@@ -528,7 +528,7 @@ def verify_bounds(
 
     Works on any network read with a decision threshold (step, trained sigmoid or tanh,
     relu): complete on Boolean and categorical inputs; for real inputs see
-    :func:`thresholdc.verify.typed.typed_domain` (cells for step networks, declared ranges
+    :func:`thresholdc.verification.typed.typed_domain` (cells for step networks, declared ranges
     less a band of ± scale around each rule threshold for soft ones).
 
     Parameters
