@@ -3,19 +3,14 @@
 from __future__ import annotations
 
 import argparse
-import os
 import sys
 from typing import Any
 
 from ..compiler import compile_file
-from ..errors import UsageError
-from ..export import save_any
+from ..export import SUFFIXES, check_suffix, save_any
 from ..ir.options import CHOICES, DEFAULT_TOLERANCE, CompileOptions
 from ..network import check_writable
 from .common import add_parser, fmt_num, print_json, warn
-
-SUFFIXES = (".json", ".onnx", ".npz")
-
 
 _default = CompileOptions.default
 
@@ -70,12 +65,7 @@ def register(subparsers: Any) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    suffix = os.path.splitext(args.output)[1].lower()
-    if suffix not in SUFFIXES:
-        raise UsageError(
-            f"unknown output suffix {suffix or '(none)'!r} for {args.output}; "
-            f"supported: {', '.join(SUFFIXES)}"
-        )
+    suffix = check_suffix(args.output)  # before reading anything
     check_writable(args.output)
     result = compile_file(
         args.source,

@@ -164,7 +164,7 @@ def _unit_names(gates: GateGraph, h: Hashed, needed: list[int]
     name: dict[int, str] = {}
     pol: dict[int, int] = {}
     for x in h.inputs:
-        name[x], pol[x] = h.rep[x], 0
+        name[x], pol[x] = h.rep[x], 0  # type: ignore[assignment]
     for v in needed:
         rep, rp = h.rep[v], h.rep_neg[v]
         w = want.get(v, {})
@@ -172,7 +172,7 @@ def _unit_names(gates: GateGraph, h: Hashed, needed: list[int]
             p = min(w)
             name[v], pol[v] = w[p], p
         else:
-            name[v], pol[v] = rep, rp
+            name[v], pol[v] = rep, rp  # type: ignore[assignment]
     return name, pol
 
 
@@ -373,6 +373,6 @@ def _outputs(gates: GateGraph, h: Hashed, chosen: dict[int, candidates.Option],
                 src = by_name[uname[x]]
                 extra.append(Neuron(sig, 0, src.inputs, tuple(-w for w in src.weights),
                                     -src.bias, "step", "gate", origin))
-                cones[sig] = {"root": sig, "leaves": list(cones[uname[x]]["leaves"])}
+                cones[sig] = {"root": sig, "leaves": list(cones[uname[x]]["leaves"])}  # type: ignore[call-overload]
         outputs.append(Output(name, sig))
     return outputs, extra

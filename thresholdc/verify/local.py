@@ -166,17 +166,17 @@ def structural_classes(graph: GateGraph) -> dict[str, Cls]:
             else:
                 cls[name] = (cid((op, terms, t)), False)
         elif op == "ite":
-            c, t, e = args
+            c, t, e = args  # type: ignore[assignment]
             if c[1]:
-                t, e = e, t
+                t, e = e, t  # type: ignore[assignment]
             c = (c[0], False)
             if c[0] == one or t == e:
-                cls[name] = t  # after the swap a constant condition is 1
-            elif t[0] == one:  # c ? 1 : e is c or e;  c ? 0 : e is not c and e
-                cls[name] = neg(and_class([neg(c), neg(e)])) if not t[1] else \
-                    and_class([neg(c), e])
+                cls[name] = t  # type: ignore[assignment]  # after the swap a constant condition is 1
+            elif t[0] == one:  # type: ignore[index]  # c ? 1 : e is c or e;  c ? 0 : e is not c and e
+                cls[name] = (neg(and_class([neg(c), neg(e)]))
+                             if not t[1] else and_class([neg(c), e]))  # type: ignore[index]
             elif e[0] == one:  # c ? t : 1 is not c or t;  c ? t : 0 is c and t
-                cls[name] = neg(and_class([c, neg(t)])) if not e[1] else and_class([c, t])
+                cls[name] = neg(and_class([c, neg(t)])) if not e[1] else and_class([c, t])  # type: ignore[arg-type, list-item]
             else:
                 cls[name] = (cid(("ite", c[0], t, e)), False)
         else:
@@ -647,7 +647,7 @@ class _Local:
                                                  "equal"):
                 return False
             weights = g.weights if g.op in ("threshold", "equal") else (1,) * len(g.args)
-            terms = {(self.cls[a][1], w) for a, w in zip(g.args, weights)}
+            terms = {(self.cls[a][1], w) for a, w in zip(g.args, weights)}  # type: ignore[arg-type]
             ids = [self.cls[a][0] for a in g.args]
             if len(terms) != 1 or len(set(ids)) != len(ids) or len(ids) != len(index):
                 return False
