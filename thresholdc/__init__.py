@@ -22,6 +22,7 @@ from .errors import (  # noqa: E402
 )
 from .export import load_any, save_any  # noqa: E402
 from .ir.network import Network, Neuron, Output  # noqa: E402
+from .ir.options import CompileOptions  # noqa: E402
 from .ir.reference import Reference
 from .logic import load_source, source_from_text
 from .network import apply_activation, to_relu
@@ -47,6 +48,7 @@ __all__ = [
     "compile_source",
     "compile_file",
     "CompileResult",
+    "CompileOptions",
     "load",
     "save_any",
     "load_any",

@@ -284,9 +284,9 @@ def _classes(gates: GateGraph) -> tuple[dict[str, tuple[int, bool]], int | None]
             terms = tuple(sorted((i, w) for i, w in coef.items() if w))
             cls[name] = (cid((op, terms, t)), False)
         elif op == "ite":
-            c, t, e = args
+            c, t, e = args  # type: ignore[assignment]
             if c[1]:
-                t, e = e, t
+                t, e = e, t  # type: ignore[assignment]
             cls[name] = (cid(("ite", c[0], t, e)), False)
         else:
             cls[name] = (cid(("opaque", name)), False)

@@ -166,21 +166,6 @@ def encode_network(c: Circuit, net: Network, inputs: dict[str, int]) -> dict[str
     return lit
 
 
-def _children(e: ast.Expr) -> tuple[ast.Expr, ...]:
-    """The sub-expressions of ``e`` whose literals its own encoding needs."""
-    if isinstance(e, ast.Not):
-        return (e.operand,)
-    if isinstance(e, ast.BinOp):
-        return (e.left, e.right)
-    if isinstance(e, ast.Ite):
-        return (e.cond, e.then, e.other)
-    if isinstance(e, ast.Call):
-        return tuple(e.args)
-    if isinstance(e, ast.Compare):
-        return tuple(t.operand for t in e.terms)
-    return ()
-
-
 def _count(c: Circuit, args: list[int], k: int) -> int:
     """[at least k of args] with the totalizer encoding."""
     return c.geq([1] * len(args), args, k, enc="totalizer")
@@ -229,6 +214,7 @@ def _combine(c: Circuit, e: ast.Expr, kids: list[int], names: dict[str, int],
             return -c.or_(kids)
         if e.func == "parity":
             return c.xor_(kids)
+        raise ast.unknown_function(e.func)
     if isinstance(e, ast.Compare):
         w = [t.coef for t in e.terms]
         r = e.rhs
@@ -281,7 +267,7 @@ def encode_program(c: Circuit, program: ast.Program, inputs: dict[str, int],
             e, expanded = stack.pop()
             if id(e) in done:
                 continue
-            kids = _children(e)
+            kids = ast.sub_expressions(e)
             if not expanded and kids:
                 stack.append((e, True))
                 stack.extend((k, False) for k in kids if id(k) not in done)

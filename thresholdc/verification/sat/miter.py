@@ -255,7 +255,7 @@ class _Sweep:
                 return False
             weights = node.weights if node.op == "geq" else (1,) * len(node.args)
             eff: dict[int, int] = {}
-            for a, w in zip(args(x), weights):
+            for a, w in zip(args(x), weights):  # type: ignore[arg-type]
                 if abs(a) in index:
                     eff[abs(a)] = eff.get(abs(a), 0) + (w if a > 0 else -w)
             if eff and (len(eff) != len(index) or len(set(eff.values())) != 1):
@@ -500,7 +500,7 @@ def prove_equivalent(
             continue
         r = sw.differing_row(a, lb[name]) if sw is not None else None
         if r is not None:
-            out.differing[name] = dict(zip(inputs, sw.row(r)))
+            out.differing[name] = dict(zip(inputs, sw.row(r)))  # type: ignore[union-attr]
         else:
             open_pairs.append((name, a, b))
     stats["seconds_prepare"] = time.perf_counter() - t0
