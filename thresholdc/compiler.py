@@ -17,7 +17,12 @@ from pathlib import Path
 from typing import Any
 
 from . import __version__
-from .errors import ThresholdcError, UsageError, VerificationUndecided
+from .errors import (
+    InternalError,
+    NetworkFileError,
+    UsageError,
+    VerificationUndecided,
+)
 from .network.fileformat import check_network
 from .network.model import Network
 from .source import Source, load_source
@@ -44,10 +49,17 @@ DEFAULTS: dict[str, Any] = {
 CHECK_DEFAULTS: dict[str, Any] = {"verify": "auto", "max_inputs": 24, "time_limit": 60.0}
 
 
-class CompileError(ThresholdcError):
-    """The compiled network is not equal to its own source (an internal error: exit 1)."""
+class CompileError(InternalError):
+    """The compiled network is not equal to its own source: a bug in thresholdc (exit 3)."""
 
-    exit_code = 1
+
+def _check_compiled(net: Network) -> None:
+    """The compiler's own network must pass the reader's checks; a break is a bug, not bad
+    input, so it is an InternalError (exit 3), never a NetworkFileError (exit 2)."""
+    try:
+        check_network(net, "<compiled>")
+    except NetworkFileError as err:
+        raise InternalError(f"the compiled network breaks an invariant: {err.message}") from None
 
 
 @dataclass
@@ -188,8 +200,8 @@ def _survives(net: Network) -> bool:
 def compile_source(source: Source, **options: Any) -> CompileResult:
     """Compile a parsed source; see :data:`DEFAULTS` for the options.
 
-    Raises CompileError (exit 1) when the verification finds the network different from its
-    own source, and ThresholdcError subclasses for bad input or options.
+    Raises CompileError (an internal error, exit 3) when the verification finds the network
+    different from its own source, and ThresholdcError subclasses for bad input or options.
     """
     shape, check = _options(options)
     t0 = time.perf_counter()
@@ -199,10 +211,10 @@ def compile_source(source: Source, **options: Any) -> CompileResult:
 
         net = Network(net.inputs, net.neurons, net.outputs, net.meta, net.encoding,
                       network_features(source.program))
-    check_network(net, "<compiled>")
+    _check_compiled(net)
     synthesised = network_stats(net)
     net = _activate(net, shape)
-    check_network(net, "<compiled>")
+    _check_compiled(net)
     t1 = time.perf_counter()
     result = CompileResult(net, None, network_stats(mapped), synthesised)
     result.seconds["compile"] = t1 - t0
@@ -228,9 +240,8 @@ def compile_source(source: Source, **options: Any) -> CompileResult:
         )
     if report is not None and report.result == "different" and not gain_too_small:
         raise CompileError(
-            "internal error: the compiled network differs from its source "
-            f"({len(report.counterexamples)} counterexample(s)); nothing was written",
-            file=source.file,
+            f"{source.file}: the compiled network differs from its source "
+            f"({len(report.counterexamples)} counterexample(s)); nothing was written"
         )
     if report is not None and report.result == "undecided":
         result.warnings.append(
