@@ -1,18 +1,23 @@
-"""Collection rules for the whole suite (docstring examples included), and hypothesis profiles.
+"""Collection rules and test profiles for the whole suite (docstring examples included).
 
 Modules that import an optional dependency at the top are collected for their docstring
 examples only when that dependency is installed, so the suite runs cleanly without extras.
 
-Hypothesis runs under the ``ci`` profile unless told otherwise: derandomised (the same examples
-on every run and every machine), no example database, no deadline, and a failing example is
-printed with its reproduction blob.  ``python3 -m pytest --hypothesis-profile=explore`` runs
-random examples, ten times as many per test, for long searches on a developer's machine.
+Hypothesis runs under one of two profiles:
+
+- ``ci`` (the default): derandomised (the examples follow from each test's source, not a
+  random seed), no example database, no timing-based health checks. Every run of
+  ``python3 -m pytest -q`` tries the same examples, so the suite cannot fail at random.
+- ``explore`` (``python3 -m pytest --hypothesis-profile=explore``): random seeds, the example
+  database on, and every property test given ``EXPLORE_FACTOR`` times its usual number of
+  examples. Use it to hunt for new failures; add each one found as an explicit ``@example``.
 """
 
 from __future__ import annotations
 
 import importlib.util
 
+import pytest
 from hypothesis import HealthCheck, settings
 
 _NEEDS = {
@@ -25,40 +30,28 @@ _NEEDS = {
 collect_ignore = [path for path, module in _NEEDS.items()
                   if importlib.util.find_spec(module) is None]
 
-# How many times each test's own ``max_examples`` the explore profile runs.
-EXPLORE_FACTOR = 10
+EXPLORE_FACTOR = 20
 
 settings.register_profile(
-    "ci",
-    derandomize=True,
-    database=None,
-    print_blob=True,
-    deadline=None,
-    suppress_health_check=[HealthCheck.too_slow],
-)
+    "ci", derandomize=True, database=None, deadline=None, print_blob=True,
+    suppress_health_check=[HealthCheck.too_slow])
 settings.register_profile(
-    "explore",
-    derandomize=False,
-    max_examples=1000,
-    deadline=None,
-    print_blob=True,
-    suppress_health_check=[HealthCheck.too_slow],
-)
-settings.load_profile("ci")  # the default; hypothesis' --hypothesis-profile option overrides it
+    "explore", derandomize=False, deadline=None, print_blob=True,
+    suppress_health_check=[HealthCheck.too_slow])
+settings.load_profile("ci")
 
 
-def pytest_collection_modifyitems(config, items):
-    """Under the explore profile, scale every test's own ``max_examples`` by EXPLORE_FACTOR
-    (a ``@settings(max_examples=…)`` on a test would otherwise win over the profile)."""
+def pytest_collection_modifyitems(config: pytest.Config, items: list[pytest.Item]) -> None:
+    """Under the explore profile, give every property test more examples."""
     if config.getoption("hypothesis_profile", None) != "explore":
         return
-    seen = set()
+    done: set[int] = set()
     for item in items:
-        func = getattr(item, "obj", None)
-        own = getattr(func, "_hypothesis_internal_use_settings", None)
-        if own is None or id(func) in seen:
+        test = getattr(item, "obj", None)
+        if getattr(test, "hypothesis", None) is None or id(test) in done:
             continue
-        seen.add(id(func))
-        func._hypothesis_internal_use_settings = settings(
-            own, max_examples=own.max_examples * EXPLORE_FACTOR, derandomize=False
-        )
+        done.add(id(test))  # parametrised items share one function: scale it once
+        own = getattr(test, "_hypothesis_internal_use_settings", None)
+        if own is not None:
+            test._hypothesis_internal_use_settings = settings(
+                own, max_examples=own.max_examples * EXPLORE_FACTOR, derandomize=False)

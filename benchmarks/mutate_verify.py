@@ -36,19 +36,20 @@ import gen_circuits as gc  # noqa: E402
 
 from thresholdc.compiler import compile_source  # noqa: E402
 from thresholdc.errors import ThresholdcError  # noqa: E402
-from thresholdc.network.model import Network  # noqa: E402
-from thresholdc.source import Source, load_source  # noqa: E402
+from thresholdc.ir.network import Network  # noqa: E402
+from thresholdc.ir.reference import Reference  # noqa: E402
+from thresholdc.logic import load_source, source_from_text  # noqa: E402
 from thresholdc.verify.auto import verify_network  # noqa: E402
 
 METHODS = ("exhaustive", "sat", "local", "bounds", "auto")
 
 
-def circuits() -> list[tuple[str, Source]]:
+def circuits() -> list[tuple[str, Reference]]:
     """The bundled examples and a few generated netlists (at most 14 inputs each)."""
     out = [(p.name, load_source(str(p))) for p in sorted((ROOT / "circuits").glob("*.rules"))]
     for name, text in (("adder3.bench", gc.adder(3)), ("comparator4.bench", gc.comparator(4)),
                        ("multiplier3.bench", gc.multiplier(3)), ("parity7.bench", gc.parity(7))):
-        out.append((name, Source.from_text(text, name)))
+        out.append((name, source_from_text(text, name)))
     return out
 
 
@@ -79,11 +80,11 @@ def truth_table(n: int) -> np.ndarray:
     return ((rows[:, None] >> np.arange(n - 1, -1, -1)) & 1).astype(np.int8)
 
 
-def changes_function(net: Network, source: Source, X: np.ndarray, expected: np.ndarray) -> bool:
+def changes_function(net: Network, source: Reference, X: np.ndarray, expected: np.ndarray) -> bool:
     return not np.array_equal(net.decide(X), expected)
 
 
-def claim(net: Network, source: Source, method: str, time_limit: float) -> str:
+def claim(net: Network, source: Reference, method: str, time_limit: float) -> str:
     """``equal``, ``different``, or ``none`` (undecided or refused)."""
     try:
         result = verify_network(net, source, method=method, time_limit=time_limit).result

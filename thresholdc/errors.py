@@ -17,6 +17,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from .version import __version__
+
 __all__ = [
     "Span",
     "ThresholdcError",
@@ -127,8 +129,6 @@ def internal_message(message: str) -> str:
     >>> internal_message("x").startswith("thresholdc: internal error: x (thresholdc ")
     True
     """
-    from . import __version__
-
     return f"thresholdc: internal error: {message} (thresholdc {__version__}; please report)"
 
 

@@ -95,3 +95,22 @@ def test_subprocess_errors_are_one_line(tmp_path):
         assert proc.stderr.startswith("thresholdc: error: ") and "Traceback" not in proc.stderr
         assert len(proc.stderr.splitlines()) in (1, 3)
     assert sorted(p.name for p in tmp_path.iterdir()) == ["bad.rules", "n.json"]
+
+
+@pytest.mark.parametrize("text", [
+    "input t: real scale " + "9" * 400 + "\ny = t > 1\n",   # found by the fuzz campaign
+    "input t: real\ny = t > 1e309\n",                       # a float literal that is inf
+    "input a, b\ny = " + "9" * 5000 + "*a + b >= 1\n",      # more digits than int() reads
+])
+def test_numbers_out_of_range_are_one_rule_error(text):
+    from tests.fuzz.cases import Case
+
+    case = Case("regression", {"r.rules": text.encode()},
+                ["compile", "{d}/r.rules", "-o", "{d}/n.json"], "n.json")
+    assert run_case(case) == []
+    from thresholdc.errors import RuleError
+    from thresholdc.syntax.parser import parse
+
+    with pytest.raises(RuleError, match="out of range|too large") as info:
+        parse(text)
+    assert len(info.value.message) < 200

@@ -162,9 +162,9 @@ def test_random_netlists_exhaustive(seed):
     assert np.array_equal(g.simulate(X), oracle(gates, outs, X))
 
 
-def test_large_netlist_reversed_reads_without_recursion():
-    # A chain of 30,000 inverters written in reverse order: no recursion limit (its speed is
-    # measured in benchmarks, not asserted here).
+def test_large_netlist_reversed():
+    # A chain of 30,000 inverters written in reverse order: no recursion limit (the speed of
+    # the pass is measured in benchmarks/, not asserted here).
     n = 30_000
     lines = ["INPUT(x)", f"OUTPUT(s{n})"]
     lines += [f"s{k} = NOT(s{k - 1})" for k in range(n, 1, -1)] + ["s1 = NOT(x)"]

@@ -27,7 +27,7 @@ def test_sampled_mutants_are_caught_by_every_claiming_method():
 
 
 def test_the_mutation_list_is_fixed_and_complete():
-    from thresholdc.network.model import Network, Neuron, Output
+    from thresholdc.ir.network import Network, Neuron, Output
 
     net = Network(("a", "b"), (Neuron("n", 1, ("a", "b"), (1, 1), -1.5),), (Output("n", "n"),))
     labels = [label for label, _ in mv.mutants(net)]

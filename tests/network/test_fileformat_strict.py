@@ -12,9 +12,9 @@ import pytest
 from thresholdc.cli import main
 from thresholdc.compiler import compile_rules
 from thresholdc.errors import NetworkFileError
+from thresholdc.logic import source_from_text
 from thresholdc.network import fileformat
 from thresholdc.network.fileformat import dumps, loads
-from thresholdc.source import Source
 from thresholdc.verify.auto import verify_network
 
 ADDER = "input a, b, cin\noutput sum, carry\ncarry = majority(a, b, cin)\nsum = a ^ b ^ cin\n"
@@ -170,8 +170,8 @@ def test_a_sigmoid_output_of_exactly_one_half_reads_as_false(tmp_path, capsys):
     net = loads(json.dumps(HALF))
     assert np.array_equal(net.evaluate([[0], [1]]), [[0.5], [0.5]])
     assert net.decide([[0], [1]]).tolist() == [[False], [False]]
-    false_rules = Source.from_text("input a\noutput y\ny = a and not a\n", "f.rules")
-    true_rules = Source.from_text("input a\noutput y\ny = a or not a\n", "t.rules")
+    false_rules = source_from_text("input a\noutput y\ny = a and not a\n", "f.rules")
+    true_rules = source_from_text("input a\noutput y\ny = a or not a\n", "t.rules")
     for method in ("exhaustive", "bounds", "auto"):
         assert verify_network(net, false_rules, method=method).result == "equal", method
         assert verify_network(net, true_rules, method=method).result == "different", method
