@@ -1,9 +1,10 @@
 """The ``thresholdc`` command line: argument parsing and printing only.
 
 Each subcommand lives in :mod:`thresholdc.commands` as a module with ``register(subparsers)``
-and ``run(args) -> int``.  Exit codes: 0 success, 1 a check ran and failed, 2 bad input or usage.
-User errors (:class:`~thresholdc.errors.ThresholdcError`) are printed in the format of
-DESIGN.md §3 and never as a traceback.
+and ``run(args) -> int``.  Exit codes: 0 success, 1 a check ran and failed, 2 bad input or usage,
+3 a bug in thresholdc (an internal error).  User errors
+(:class:`~thresholdc.errors.ThresholdcError`) are printed in the format of DESIGN.md §3 and
+never as a traceback.
 """
 
 from __future__ import annotations
@@ -15,11 +16,14 @@ import sys
 from collections.abc import Sequence
 
 from . import __version__, progress
-from .errors import ThresholdcError
+from .errors import InternalError, ThresholdcError, internal_message
 
 __all__ = ["main", "build_parser", "COMMANDS"]
 
 # Subcommand modules, in the order ``--help`` lists them.
+# The exit code of a bug in thresholdc (0, 1 and 2 are DESIGN.md §5's).
+INTERNAL_ERROR = 3
+
 COMMANDS = ("compile", "verify", "inspect", "table", "export", "draw", "train", "score")
 
 
@@ -53,9 +57,14 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+_PARSER: list[argparse.ArgumentParser] = []
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; returns the exit code (also used by ``python -m thresholdc``)."""
-    parser = build_parser()
+    if not _PARSER:  # built once per process: in-process callers (tests, fuzzing) run it often
+        _PARSER.append(build_parser())
+    parser = _PARSER[0]
     args = parser.parse_args(argv)
     progress.enabled(not getattr(args, "json", False))
     try:
@@ -63,6 +72,11 @@ def main(argv: Sequence[str] | None = None) -> int:
     except ThresholdcError as err:
         sys.stderr.write(err.render() + "\n")
         return err.exit_code
+    except InternalError as err:
+        if os.environ.get("THRESHOLDC_DEBUG"):
+            raise
+        sys.stderr.write(err.render() + "\n")
+        return INTERNAL_ERROR
     except KeyboardInterrupt:
         sys.stderr.write("thresholdc: interrupted\n")
         return 130
@@ -74,11 +88,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except Exception as exc:  # a bug: one line, the traceback only on request
         if os.environ.get("THRESHOLDC_DEBUG"):
             raise
-        sys.stderr.write(
-            f"thresholdc: internal error: {type(exc).__name__}: {exc} "
-            "(set THRESHOLDC_DEBUG=1 to see the traceback)\n"
-        )
-        return 1
+        sys.stderr.write(internal_message(
+            f"{type(exc).__name__}: {exc}; set THRESHOLDC_DEBUG=1 to see the traceback") + "\n")
+        return INTERNAL_ERROR
 
 
 if __name__ == "__main__":  # pragma: no cover

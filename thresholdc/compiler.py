@@ -17,7 +17,12 @@ from pathlib import Path
 from typing import Any
 
 from . import progress
-from .errors import ThresholdcError, UsageError, VerificationUndecided
+from .errors import (
+    InternalError,
+    NetworkFileError,
+    UsageError,
+    VerificationUndecided,
+)
 from .ir.network import Network, check_network
 from .ir.options import HONOURED, RECORDED, CompileOptions
 from .ir.reference import Reference
@@ -39,10 +44,17 @@ CHECK_DEFAULTS: dict[str, Any] = {
 }
 
 
-class CompileError(ThresholdcError):
-    """The compiled network is not equal to its own source (an internal error: exit 1)."""
+class CompileError(InternalError):
+    """The compiled network is not equal to its own source: a bug in thresholdc (exit 3)."""
 
-    exit_code = 1
+
+def _check_compiled(net: Network) -> None:
+    """The compiler's own network must pass the reader's checks; a break is a bug, not bad
+    input, so it is an InternalError (exit 3), never a NetworkFileError (exit 2)."""
+    try:
+        check_network(net, "<compiled>")
+    except NetworkFileError as err:
+        raise InternalError(f"the compiled network breaks an invariant: {err.message}") from None
 
 
 @dataclass
@@ -155,8 +167,8 @@ def compile_source(source: Reference, **options: Any) -> CompileResult:
     """Compile a parsed source; the options are those of
     :class:`~thresholdc.ir.options.CompileOptions` (keywords, or one ``options=`` value).
 
-    Raises CompileError (exit 1) when the verification finds the network different from its
-    own source, and ThresholdcError subclasses for bad input or options.
+    Raises CompileError (an internal error, exit 3) when the verification finds the network
+    different from its own source, and ThresholdcError subclasses for bad input or options.
     """
     opts = _compile_options(options)
     t0 = time.perf_counter()
@@ -164,10 +176,10 @@ def compile_source(source: Reference, **options: Any) -> CompileResult:
     if source.program is not None and source.program.is_typed():
         net = Network(net.inputs, net.neurons, net.outputs, net.meta, net.encoding,
                       network_features(source.program))
-    check_network(net, "<compiled>")
+    _check_compiled(net)
     synthesised = network_stats(net)
     net = _activate(net, opts)
-    check_network(net, "<compiled>")
+    _check_compiled(net)
     t1 = time.perf_counter()
     result = CompileResult(net, None, network_stats(mapped), synthesised)
     result.seconds["compile"] = t1 - t0
@@ -197,9 +209,8 @@ def compile_source(source: Reference, **options: Any) -> CompileResult:
         )
     if report is not None and report.result == "different" and not gain_too_small:
         raise CompileError(
-            "internal error: the compiled network differs from its source "
-            f"({len(report.counterexamples)} counterexample(s)); nothing was written",
-            file=source.file,
+            f"{source.file}: the compiled network differs from its source "
+            f"({len(report.counterexamples)} counterexample(s)); nothing was written"
         )
     if report is not None and report.result == "undecided":
         result.warnings.append(

@@ -2,7 +2,9 @@
 
 User mistakes raise a :class:`ThresholdcError` (or a subclass) that carries the file, and where
 there is one, the line, column and source line; the command line prints it with
-:meth:`ThresholdcError.render`.  Broken internal invariants are assertions, never these.
+:meth:`ThresholdcError.render` and exits 2.  Broken internal invariants are assertions or an
+:class:`InternalError` (not a ThresholdcError, so no handler of user errors swallows one): the
+command line reports them as a bug in thresholdc and exits 3.
 
 >>> err = RuleError("unknown name 'b'", file="x.rules", line=2, column=5, source_line="y = a or b")
 >>> print(err.render())
@@ -15,6 +17,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from .version import __version__
+
 __all__ = [
     "Span",
     "ThresholdcError",
@@ -23,6 +27,8 @@ __all__ = [
     "DataError",
     "UsageError",
     "VerificationUndecided",
+    "InternalError",
+    "internal_message",
 ]
 
 
@@ -115,3 +121,30 @@ class UsageError(ThresholdcError):
 
 class VerificationUndecided(ThresholdcError):
     """No available verification method could decide within its bounds (exit code 2)."""
+
+
+def internal_message(message: str) -> str:
+    """The one line printed for a bug in thresholdc, with the version to report.
+
+    >>> internal_message("x").startswith("thresholdc: internal error: x (thresholdc ")
+    True
+    """
+    return f"thresholdc: internal error: {message} (thresholdc {__version__}; please report)"
+
+
+class InternalError(Exception):
+    """A broken invariant of thresholdc itself (a bug, never bad input): exit code 3.
+
+    >>> print(InternalError("neuron 'n' has layer 2").render())  # doctest: +ELLIPSIS
+    thresholdc: internal error: neuron 'n' has layer 2 (thresholdc ...; please report)
+    """
+
+    exit_code = 3
+
+    def __init__(self, message: str) -> None:
+        super().__init__(message)
+        self.message = message
+
+    def render(self) -> str:
+        """The line printed on stderr."""
+        return internal_message(self.message)

@@ -85,6 +85,7 @@ def test_npz_perturbed_outside_keeps_or_loses_the_rules(tmp_path):
     assert verdict == {"lend": True, "alert": False, "staff_override": True}
 
 
+@pytest.mark.slow
 def test_torch_training_outside_both_ways():
     torch = pytest.importorskip("torch")
     from thresholdc.export import from_torch, to_torch

@@ -219,6 +219,7 @@ def ilp_only(monkeypatch):
     ident._clear_caches()
 
 
+@pytest.mark.slow
 def test_ilp_path_against_brute_force(ilp_only):
     best = brute_force_minima(3, 8)
     for F in range(256):

@@ -168,17 +168,49 @@ def load_npz(path: str, like: Network | None = None) -> Network:
     >>> load_npz(path).evaluate([[0], [1]]).tolist()
     [[1.0], [0.0]]
     """
+    return from_arrays(_read_arrays(path), like=like, file=path)
+
+
+# At most this many numbers per array: a header claiming more is refused before any allocation.
+MAX_ARRAY_ELEMENTS = 100_000_000
+
+
+def _read_arrays(path: str) -> dict[str, np.ndarray]:
+    """Every ``NAME.npy`` member of the archive, read eagerly and never unpickled; each header
+    is checked (no object arrays, a bounded size) before its array is allocated."""
+    fmt = np.lib.format
     try:
-        arrays = np.load(path, allow_pickle=False)
+        with zipfile.ZipFile(path) as archive:
+            out: dict[str, np.ndarray] = {}
+            for info in archive.infolist():
+                if not info.filename.endswith(".npy"):
+                    continue
+                with archive.open(info) as fh:
+                    version = fmt.read_magic(fh)
+                    if version == (1, 0):
+                        shape, fortran, dtype = fmt.read_array_header_1_0(fh)
+                    else:
+                        shape, fortran, dtype = fmt.read_array_header_2_0(fh)
+                    name = info.filename[:-4]
+                    if dtype.hasobject:
+                        raise NetworkFileError(f"'{name}' is an object array; only plain "
+                                               "arrays are read (never unpickled)", file=path)
+                    size = 1
+                    for d in shape:
+                        size *= int(d)
+                    if size > MAX_ARRAY_ELEMENTS:
+                        raise NetworkFileError(f"'{name}' claims {size} elements, over the "
+                                               f"reader's bound of {MAX_ARRAY_ELEMENTS}",
+                                               file=path)
+                with archive.open(info) as fh:
+                    out[name] = fmt.read_array(fh, allow_pickle=False)
+            return out
     except FileNotFoundError:
         raise NetworkFileError("no such file", file=path) from None
     except IsADirectoryError:
         raise NetworkFileError("is a folder, not a file", file=path) from None
-    except (zipfile.BadZipFile, EOFError, OSError) as exc:
+    except (zipfile.BadZipFile, zipfile.LargeZipFile, EOFError, OSError, NotImplementedError,
+            RuntimeError) as exc:
         raise NetworkFileError(f"not a readable .npz file ({exc})", file=path) from None
-    except ValueError as exc:  # e.g. an array that would need pickle
+    except ValueError as exc:  # a malformed header or data that does not fit its shape
         raise NetworkFileError(f"not a plain .npz file: {exc}", file=path) from None
-    if not isinstance(arrays, np.lib.npyio.NpzFile):
-        raise NetworkFileError("holds a single array, not an .npz archive of layers", file=path)
-    with arrays:
-        return from_arrays(arrays, like=like, file=path)

@@ -131,53 +131,117 @@ def _expect(cond: bool, file: str, message: str) -> None:
 
 
 def _is_number(x: Any) -> bool:
-    return isinstance(x, (int, float)) and not isinstance(x, bool) and math.isfinite(x)
+    if isinstance(x, bool) or not isinstance(x, (int, float)):
+        return False
+    if isinstance(x, int):
+        return abs(x) < 2**1000  # beyond that it has no float value to compute with
+    return math.isfinite(x)
+
+
+def _is_int(x: Any) -> bool:
+    return isinstance(x, int) and not isinstance(x, bool)
+
+
+def _names(x: Any) -> bool:
+    return isinstance(x, list) and all(isinstance(i, str) for i in x)
+
+
+# The keys every neuron carries (the writer's order).
+NEURON_KEYS = ("name", "layer", "inputs", "weights", "bias", "activation", "role", "origin")
+# Bounds checked before any array is built, so a file claiming absurd sizes is refused at once.
+MAX_UNITS = 10_000_000        # input units + neurons + outputs
+MAX_CONNECTIONS = 100_000_000  # weights over all neurons
+MAX_FILE_BYTES = 1 << 30      # 1 GiB of JSON
+
+
+def _require(data: dict[str, Any], key: str, file: str, where: str = "") -> Any:
+    if key not in data:
+        raise _fail(file, f"{where}missing \"{key}\"")
+    return data[key]
+
+
+def _check_features(features: Any, inputs: list[str], file: str) -> None:
+    """``features`` (typed inputs): a list of objects whose units are the input units, in order."""
+    _expect(isinstance(features, list) and all(isinstance(f, dict) for f in features), file,
+            '"features" must be a list of objects')
+    units: list[str] = []
+    for k, f in enumerate(features):
+        where = f"feature {k + 1}"
+        _expect(isinstance(f.get("name"), str), file, f'{where}: "name" must be a string')
+        kind = f.get("kind")
+        _expect(kind in ("bool", "categorical", "real"), file,
+                f"{where}: unknown kind {kind!r}; known: bool, categorical, real")
+        _expect(_names(f.get("units")), file, f'{where}: "units" must be a list of names')
+        if kind == "categorical":
+            values = f.get("values")
+            _expect(isinstance(values, list) and len(values) == len(f["units"]) and all(
+                isinstance(v, str) or _is_int(v) for v in values), file,
+                f'{where}: "values" must list one name or integer per unit')
+        else:
+            _expect(len(f["units"]) == 1, file, f"{where}: a {kind} feature has one unit")
+        if kind == "real":
+            rng = f.get("range")
+            _expect(rng is None or (isinstance(rng, list) and len(rng) == 2
+                                    and all(_is_number(x) for x in rng) and rng[0] <= rng[1]),
+                    file, f'{where}: "range" must be null or [low, high] with low <= high')
+            scale = f.get("scale")
+            _expect(_is_number(scale) and scale > 0, file,
+                    f'{where}: "scale" must be a positive number')
+        units.extend(f["units"])
+    _expect(units == inputs, file, '"features" units must be the "inputs", in order')
 
 
 def from_dict(data: Any, file: str = "<network>") -> Network:
-    """Build and check a :class:`Network` from parsed JSON."""
+    """Build and check a :class:`Network` from parsed JSON.
+
+    Strict: ``format`` is exactly the string, ``version`` exactly the integer 1, every required
+    key is present with its type, and the structure is checked (:func:`check_network`).
+
+    >>> from_dict({"format": FORMAT, "version": 1.0})
+    Traceback (most recent call last):
+    ...
+    thresholdc.errors.NetworkFileError: <network>: unsupported network file version 1.0 \
+(this reader knows 1)
+    """
     _expect(isinstance(data, dict), file, "a network file must hold a JSON object")
     _expect(
-        data.get("format") == FORMAT,
+        data.get("format") == FORMAT and isinstance(data.get("format"), str),
         file,
         f"not a thresholdc network file (expected \"format\": \"{FORMAT}\")",
     )
+    version = _require(data, "version", file)
     _expect(
-        data.get("version") == VERSION,
+        _is_int(version) and version == VERSION,
         file,
-        f"unsupported network file version {data.get('version')!r} (this reader knows {VERSION})",
+        f"unsupported network file version {version!r} (this reader knows {VERSION})",
     )
     encoding = data.get("encoding", "binary")
     _expect(encoding in ENCODINGS, file, f"unknown encoding {encoding!r}; known: binary, bipolar")
-    inputs = data.get("inputs")
-    _expect(
-        isinstance(inputs, list) and all(isinstance(i, str) for i in inputs),
-        file,
-        '"inputs" must be a list of names',
-    )
+    inputs = _require(data, "inputs", file)
+    _expect(_names(inputs), file, '"inputs" must be a list of names')
     features = data.get("features")
-    _expect(
-        features is None
-        or (isinstance(features, list) and all(isinstance(f, dict) for f in features)),
-        file,
-        '"features" must be a list of objects',
-    )
-    raw_neurons = data.get("neurons")
+    if features is not None:
+        _check_features(features, inputs, file)
+    raw_neurons = _require(data, "neurons", file)
     _expect(isinstance(raw_neurons, list), file, '"neurons" must be a list')
+    raw_outputs = _require(data, "outputs", file)
+    _expect(isinstance(raw_outputs, list), file, '"outputs" must be a list')
+    units = len(inputs) + len(raw_neurons) + len(raw_outputs)
+    _expect(units <= MAX_UNITS, file,
+            f"{units} units and outputs exceed the reader's bound of {MAX_UNITS}")
     neurons = []
+    connections = 0
     for k, raw in enumerate(raw_neurons):
         where = f"neuron {k + 1}"
         _expect(isinstance(raw, dict), file, f"{where} must be an object")
         name = raw.get("name")
         _expect(isinstance(name, str) and name != "", file, f"{where} has no name")
         where = f"neuron {name!r}"
-        ins = raw.get("inputs")
-        ws = raw.get("weights")
-        _expect(
-            isinstance(ins, list) and all(isinstance(i, str) for i in ins),
-            file,
-            f"{where}: \"inputs\" must be a list of names",
-        )
+        for key in NEURON_KEYS:
+            _require(raw, key, file, f"{where}: ")
+        ins = raw["inputs"]
+        ws = raw["weights"]
+        _expect(_names(ins), file, f"{where}: \"inputs\" must be a list of names")
         _expect(
             isinstance(ws, list) and all(_is_number(w) for w in ws),
             file,
@@ -188,29 +252,28 @@ def from_dict(data: Any, file: str = "<network>") -> Network:
             file,
             f"{where} has {len(ins)} inputs but {len(ws)} weights",
         )
-        bias = raw.get("bias")
+        connections += len(ws)
+        _expect(connections <= MAX_CONNECTIONS, file,
+                f"more than {MAX_CONNECTIONS} weights: over the reader's bound")
+        bias = raw["bias"]
         _expect(_is_number(bias), file, f"{where}: \"bias\" must be a finite number")
-        layer = raw.get("layer")
+        layer = raw["layer"]
+        _expect(_is_int(layer), file, f"{where}: \"layer\" must be an integer")
+        activation = raw["activation"]
         _expect(
-            isinstance(layer, int) and not isinstance(layer, bool),
-            file,
-            f"{where}: \"layer\" must be an integer",
-        )
-        activation = raw.get("activation", "step")
-        _expect(
-            activation in act.ACTIVATIONS,
+            isinstance(activation, str) and activation in act.ACTIVATIONS,
             file,
             f"{where}: unknown activation {activation!r}; known: {', '.join(act.ACTIVATIONS)}",
         )
-        role = raw.get("role", "gate")
-        _expect(role in ROLES, file, f"{where}: unknown role {role!r}; known: {', '.join(ROLES)}")
-        origin = raw.get("origin")
-        _expect(origin is None or isinstance(origin, str), file, f"{where}: bad \"origin\"")
+        role = raw["role"]
+        _expect(isinstance(role, str) and role in ROLES, file,
+                f"{where}: unknown role {role!r}; known: {', '.join(ROLES)}")
+        origin = raw["origin"]
+        _expect(origin is None or isinstance(origin, str), file,
+                f"{where}: \"origin\" must be a string or null")
         neurons.append(
             Neuron(name, layer, tuple(ins), tuple(ws), bias, activation, role, origin)
         )
-    raw_outputs = data.get("outputs")
-    _expect(isinstance(raw_outputs, list), file, '"outputs" must be a list')
     outputs = []
     for raw in raw_outputs:
         _expect(
@@ -221,8 +284,9 @@ def from_dict(data: Any, file: str = "<network>") -> Network:
             'each output must be {"name": …, "source": …}',
         )
         outputs.append(Output(raw["name"], raw["source"]))
-    meta = data.get("meta", {})
+    meta = _require(data, "meta", file)
     _expect(isinstance(meta, dict), file, '"meta" must be an object')
+    _check_meta(meta, file)
     net = Network(
         tuple(inputs),
         tuple(neurons),
@@ -235,11 +299,38 @@ def from_dict(data: Any, file: str = "<network>") -> Network:
     return net
 
 
+def _check_meta(meta: dict[str, Any], file: str) -> None:
+    """The parts of ``meta`` that commands read: their shapes, so no reader trips on them."""
+    cones = meta.get("cones")
+    if cones is not None:
+        _expect(isinstance(cones, dict) and all(
+            isinstance(c, dict) and isinstance(c.get("root"), str) and _names(c.get("leaves"))
+            for c in cones.values()), file,
+            '"meta.cones" must map neurons to {"root": SIGNAL, "leaves": [SIGNAL, …]}')
+    for key in ("verification", "certificate", "options", "training"):
+        _expect(meta.get(key) is None or isinstance(meta[key], dict), file,
+                f'"meta.{key}" must be an object')
+
+
 def loads(text: str, file: str = "<network>") -> Network:
-    """Parse network file text."""
+    """Parse network file text (NaN, Infinity and out-of-range numbers are refused).
+
+    >>> loads('{"format": "thresholdc-network", "version": NaN}', "n.json")
+    Traceback (most recent call last):
+    ...
+    thresholdc.errors.NetworkFileError: n.json: not a JSON network file: NaN is not a JSON number
+    """
+    _expect(len(text) <= MAX_FILE_BYTES, file,
+            f"the file is larger than the reader's bound of {MAX_FILE_BYTES} bytes")
     try:
-        data = json.loads(text)
-    except json.JSONDecodeError as exc:
+        data = json.loads(text, parse_constant=_no_constant, parse_float=_finite_float)
+    except _NotFinite as exc:
+        raise NetworkFileError(f"not a JSON network file: {exc}", file=file) from None
+    except RecursionError:
+        raise NetworkFileError("not a JSON network file: nested too deeply", file=file) from None
+    except ValueError as exc:
+        if not isinstance(exc, json.JSONDecodeError):  # e.g. an integer of too many digits
+            raise NetworkFileError(f"not a JSON network file: {exc}", file=file) from None
         lines = text.splitlines()
         line = lines[exc.lineno - 1] if exc.lineno <= len(lines) else ""
         raise NetworkFileError(
@@ -249,11 +340,32 @@ def loads(text: str, file: str = "<network>") -> Network:
     return from_dict(data, file)
 
 
+class _NotFinite(ValueError):
+    pass
+
+
+def _no_constant(name: str) -> float:
+    raise _NotFinite(f"{name} is not a JSON number")
+
+
+def _finite_float(text: str) -> float:
+    x = float(text)
+    if not math.isfinite(x):
+        raise _NotFinite(f"{text} is out of the range of a number")
+    return x
+
+
 def read_text(path: str) -> str:
     """The UTF-8 text of ``path``, or a NetworkFileError that says why it cannot be read."""
     return _read_text(path, NetworkFileError)
 
 
 def load(path: str) -> Network:
-    """Read the JSON network file at ``path``."""
+    """Read the JSON network file at ``path`` (its size is checked before it is read)."""
+    try:
+        size = os.path.getsize(path)
+    except OSError:
+        size = 0  # read_text says why it cannot be read
+    _expect(size <= MAX_FILE_BYTES, path,
+            f"the file is larger than the reader's bound of {MAX_FILE_BYTES} bytes")
     return loads(read_text(path), path)

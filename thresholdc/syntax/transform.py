@@ -12,6 +12,7 @@ bare name) and ``x in {…}`` tests become :class:`PendingCompare` / :class:`Pen
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 
 from lark import Token, Transformer
@@ -219,6 +220,9 @@ class RuleBuilder(Transformer):
     def signed(self, children: list) -> Number:
         number = children[-1]
         text = str(number)
+        if len(text) > 300 or not math.isfinite(float(text)):  # 1e309 is inf as a float
+            raise error_at(f"the number {text[:40]}{'…' if len(text) > 40 else ''} is out of "
+                           "range (numbers must be finite floating-point values)", number)
         if len(children) == 2:
             return Number("-" + text, span_of(children[0]))
         return Number(text, span_of(number))
@@ -288,9 +292,10 @@ class RuleBuilder(Transformer):
         text = str(coef)
         if not text.isdigit():
             raise error_at(f"coefficients must be integers, found {text}", coef)
-        if int(text) >= MAX_COEFFICIENT:
+        if len(text) > 12 or int(text) >= MAX_COEFFICIENT:
+            shown = text if len(text) <= 40 else text[:40] + "…"
             raise error_at(
-                f"coefficient {text} is too large (coefficients must be below 2^31)", coef
+                f"coefficient {shown} is too large (coefficients must be below 2^31)", coef
             )
         return (int(text), operand, span_of(coef), True)
 
