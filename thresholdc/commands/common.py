@@ -8,7 +8,7 @@ import sys
 from collections.abc import Sequence
 from typing import Any
 
-from ..wording import count
+from ..present import count
 
 __all__ = ["add_parser", "print_json", "format_table", "fmt_num", "warn", "count"]
 

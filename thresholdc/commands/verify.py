@@ -57,7 +57,12 @@ def run(args: argparse.Namespace) -> int:
             data["certificate"] = {"ok": not cert_problems, "problems": cert_problems}
         print_json(data)
     else:
-        sys.stdout.write(render_report(args.network, args.source, report, cert_problems) + "\n")
+        from ..explain import inputs_that_matter
+
+        kept = [inputs_that_matter(net, source, c.assignment, c.output)
+                for c in report.counterexamples[:5]]
+        sys.stdout.write(render_report(args.network, args.source, report, cert_problems,
+                                       kept) + "\n")
     if report.result == "undecided":
         return 2
     if report.result == "different" or cert_problems:
@@ -75,9 +80,15 @@ def _certificate_problems(net: Any) -> list[str] | None:
 
 
 def render_report(
-    net_file: str, source_file: str, report: Report, cert_problems: list[str] | None = None
+    net_file: str, source_file: str, report: Report, cert_problems: list[str] | None = None,
+    kept: list[Any] | None = None,
 ) -> str:
-    """The report as text: verdict, per-output table, counterexamples, notes."""
+    """The report as text: verdict, per-output table, counterexamples, notes.
+
+    ``kept[k]`` is what :func:`thresholdc.explain.inputs_that_matter` found for the k-th
+    counterexample (only those inputs are shown) or None (every input is shown)."""
+    from ..explain import describe_assignment
+
     lines = [f"verify {net_file} against {source_file}: {report.result}"]
     detail = (f"{report.assignments} assignments, " if report.method == "exhaustive" else "")
     lines.append(f"  method: {report.method} ({detail}{report.seconds:.3f} s)")
@@ -94,9 +105,17 @@ def render_report(
         lines.extend("  " + t for t in table.splitlines())
     shown = report.counterexamples[:5]
     if shown:
-        lines.append(f"  counterexamples (first {len(shown)}):")
-        for c in shown:
-            assignment = " ".join(f"{k}={v}" for k, v in c.assignment.items())
+        heading = f"  counterexamples (first {len(shown)}"
+        if kept and any(k is not None for k in kept):
+            heading += "; only the inputs that force the difference are shown"
+        lines.append(heading + "):")
+        seen: set[tuple[str, str, bool]] = set()
+        for j, c in enumerate(shown):
+            found = kept[j] if kept and j < len(kept) else None
+            assignment = describe_assignment(c.assignment, None if found is None else found[0])
+            if (assignment, c.output, c.expected) in seen:
+                continue  # the same case once its free inputs are left out
+            seen.add((assignment, c.output, c.expected))
             margin = "" if c.margin is None else f", margin {fmt_num(c.margin)}"
             lines.append(
                 f"    {assignment}: {c.output} expected {int(c.expected)}, network gave "
