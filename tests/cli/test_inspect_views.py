@@ -8,7 +8,7 @@ import pytest
 
 from thresholdc import compile_rules
 from thresholdc.cli import main
-from thresholdc.explain import inputs_that_matter
+from thresholdc.forcing import inputs_that_matter
 from thresholdc.network.model import Network, Neuron, Output
 from thresholdc.source import Source
 

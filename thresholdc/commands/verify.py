@@ -57,7 +57,7 @@ def run(args: argparse.Namespace) -> int:
             data["certificate"] = {"ok": not cert_problems, "problems": cert_problems}
         print_json(data)
     else:
-        from ..explain import inputs_that_matter
+        from ..forcing import inputs_that_matter
 
         kept = [inputs_that_matter(net, source, c.assignment, c.output)
                 for c in report.counterexamples[:5]]
@@ -85,9 +85,9 @@ def render_report(
 ) -> str:
     """The report as text: verdict, per-output table, counterexamples, notes.
 
-    ``kept[k]`` is what :func:`thresholdc.explain.inputs_that_matter` found for the k-th
+    ``kept[k]`` is what :func:`thresholdc.forcing.inputs_that_matter` found for the k-th
     counterexample (only those inputs are shown) or None (every input is shown)."""
-    from ..explain import describe_assignment
+    from ..forcing import describe_assignment
 
     lines = [f"verify {net_file} against {source_file}: {report.result}"]
     detail = (f"{report.assignments} assignments, " if report.method == "exhaustive" else "")
