@@ -12,7 +12,7 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
-from .api import load, verify  # noqa: E402
+from .api import figure, load, verify  # noqa: E402
 from .compiler import CompileResult, compile_file, compile_rules, compile_source  # noqa: E402
 from .errors import (  # noqa: E402
     DataError,
@@ -45,6 +45,7 @@ __all__ = [
     "compile_file",
     "CompileResult",
     "load",
+    "figure",
     "save_any",
     "load_any",
     "verify",

@@ -10,12 +10,17 @@ from __future__ import annotations
 
 import os
 from pathlib import Path
+from typing import Any
 
+from .errors import UsageError
 from .network.model import Network
 from .source import Source, load_source
 from .verify.report import Report
 
-__all__ = ["load", "verify", "as_source"]
+__all__ = ["load", "verify", "as_source", "rule_text", "figure"]
+
+#: Suffixes of source files; a one-line string ending in one is taken for a file name.
+SOURCE_SUFFIXES = (".rules", ".bench", ".blif", ".txt")
 
 
 def load(path: str | Path, *, like: Network | None = None) -> Network:
@@ -39,13 +44,56 @@ def load(path: str | Path, *, like: Network | None = None) -> Network:
     return load_any(path, like=like)
 
 
+def rule_text(text: str, *, function: str = "compile_rules", file_function: str = "compile_file"
+              ) -> str:
+    """``text`` itself, unless it is a file name given where rule text was expected: then a
+    UsageError that says how to pass the file.
+
+    >>> rule_text("input a\\ny = a\\n") == "input a\\ny = a\\n"
+    True
+    >>> rule_text("loan.rules")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    thresholdc.errors.UsageError: loan.rules: compile_rules takes rule text, and ... \
+call thresholdc.compile_file('loan.rules') or pass pathlib.Path('loan.rules')
+    """
+    if not isinstance(text, str):
+        raise UsageError(f"{function} takes rule text (str) or a pathlib.Path, got "
+                         f"{type(text).__name__}")
+    name = text.strip()
+    if "\n" not in name and name.lower().endswith(SOURCE_SUFFIXES):
+        exists = "" if os.path.isfile(name) else " (no such file)"
+        raise UsageError(
+            f"{function} takes rule text, and {name!r} looks like a file name{exists}; to "
+            f"read a file, call thresholdc.{file_function}({name!r}) or pass "
+            f"pathlib.Path({name!r})", file=name)
+    return text
+
+
 def as_source(source: Source | str | Path) -> Source:
-    """A :class:`Source` from a Source, a ``Path`` to a file, or rule text."""
+    """A :class:`Source` from a Source, a ``Path`` to a file, or rule text (named
+    ``<rules>`` in messages)."""
     if isinstance(source, Source):
         return source
-    if isinstance(source, Path):
-        return load_source(str(source))
-    return Source.from_text(source, "<rules>", kind="rules")
+    if isinstance(source, os.PathLike):
+        return load_source(os.fspath(source))
+    return Source.from_text(rule_text(source, function="verify", file_function="load_source"),
+                            "<rules>", kind="rules")
+
+
+def figure(network: Network, **options: Any) -> Any:
+    """The drawing of ``network`` as a matplotlib ``Figure`` (extra ``plot``), for notebooks
+    and reports; options as for :func:`thresholdc.export.drawing.figure` (``max_neurons``,
+    ``max_labels``, ``min_weight``).
+
+    >>> import thresholdc
+    >>> fig = thresholdc.figure(thresholdc.compile_rules("input a, b\\ny = a or b\\n"))
+    >>> type(fig).__name__
+    'Figure'
+    """
+    from .export import _module
+
+    return _module("drawing", "plot", "figure").figure(network, **options)
 
 
 def verify(

@@ -11,6 +11,7 @@ network's ``meta`` and returns the network together with a summary of what happe
 
 from __future__ import annotations
 
+import os
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -260,17 +261,31 @@ def compile_rules(source: str | Path, **options: Any) -> Network:
     ``synthesis``, ``simplify_support``, ``cut_size``, ``max_fan_in``, ``max_weight``,
     ``verify`` (auto | exhaustive | local | sat | none), ``max_inputs``, ``time_limit``.
 
+    A str is rule text (errors name it ``<rules>``); a str that looks like a file name
+    (``"loan.rules"``) is refused with a message: pass ``Path("loan.rules")`` or call
+    :func:`compile_file`.
+
     >>> net = compile_rules("input a, b, c\\nalarm = atleast(2, a, b, c)\\n")
     >>> net.evaluate([[1, 1, 0], [0, 0, 1]]).tolist()
     [[1.0], [0.0]]
     """
-    if isinstance(source, Path):
-        src = load_source(str(source))
-    else:
-        src = Source.from_text(source, "<rules>", kind="rules")
-    return compile_source(src, **options).network
+    from .api import as_source
+
+    if isinstance(source, str):
+        from .api import rule_text
+
+        rule_text(source)
+    return compile_source(as_source(source), **options).network
 
 
-def compile_file(path: str, **options: Any) -> CompileResult:
-    """Compile the source at ``path``; returns the network with its summary."""
-    return compile_source(load_source(path), **options)
+def compile_file(path: str | os.PathLike[str], **options: Any) -> CompileResult:
+    """Compile the rule file or netlist at ``path`` (a str or a ``Path``); returns the
+    network with its summary (``.network``, ``.report``, ``.notes``, ``.warnings``).
+
+    >>> import tempfile
+    >>> p = os.path.join(tempfile.mkdtemp(), "lamp.rules")
+    >>> _ = open(p, "w").write("input dark, motion\\nlamp = dark and motion\\n")
+    >>> compile_file(p).network.output_names
+    ('lamp',)
+    """
+    return compile_source(load_source(os.fspath(path)), **options)

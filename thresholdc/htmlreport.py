@@ -28,7 +28,7 @@ from typing import Any
 from .network.model import Network
 from .present import count, degain
 
-__all__ = ["report_html", "write_report"]
+__all__ = ["report_html", "write_report", "network_card", "network_svg", "report_card"]
 
 _CSS = """
 body{font-family:"DejaVu Sans",Helvetica,Arial,sans-serif;margin:2em auto;max-width:1100px;
@@ -66,13 +66,51 @@ def _svg_inline(data: bytes) -> str:
     return text[start:] if start >= 0 else ""
 
 
-def _drawing(net: Network) -> str:
+def network_svg(net: Network) -> str | None:
+    """The drawing of ``net`` as an SVG element, or None without matplotlib."""
     try:
         from .export.drawing import render
     except ImportError:
+        return None
+    return _svg_inline(render(net, "svg"))
+
+
+def _drawing(net: Network) -> str:
+    svg = network_svg(net)
+    if svg is None:
         return ('<p class="muted">The drawing needs matplotlib (the <code>plot</code> extra).'
                 "</p>")
-    return f'<div class="figure">{_svg_inline(render(net, "svg"))}</div>'
+    return f'<div class="figure">{svg}</div>'
+
+
+def network_card(net: Network) -> str:
+    """A notebook card: the summary table and the drawing (``Network._repr_html_``).
+
+    >>> from thresholdc import compile_rules
+    >>> card = compile_rules("input a\\ny = not a\\n")._repr_html_()
+    >>> card.startswith("<div") and "1 neuron" in card
+    True
+    """
+    return f'<div class="thresholdc-network">{_summary(net)}{_drawing(net)}</div>'
+
+
+def report_card(report: Any) -> str:
+    """A notebook card of a verification :class:`~thresholdc.verify.report.Report`.
+
+    >>> from thresholdc import compile_rules, verify
+    >>> card = verify(compile_rules("input a\\ny = a\\n"), "input a\\ny = not a\\n")._repr_html_()
+    >>> "different" in card and "<table>" in card
+    True
+    """
+    rows = [(o.name, "yes" if o.agrees else "no", o.disagreements,
+             "-" if o.min_margin is None else f"{o.min_margin:.4g}") for o in report.outputs]
+    items = "".join(
+        f"<li><code>{_e(' '.join(f'{k}={v}' for k, v in c.assignment.items()))}</code>: "
+        f"{_e(c.output)} expected {int(c.expected)}</li>" for c in report.counterexamples[:5])
+    return (f'<div class="thresholdc-report"><p>verification: <b>{_e(report.result)}</b> '
+            f"(method {_e(report.method)})</p>"
+            + _table(("output", "agrees", "disagreements", "min margin"), rows, numeric={2, 3})
+            + (f"<ul>{items}</ul>" if items else "") + "</div>")
 
 
 def _summary(net: Network) -> str:

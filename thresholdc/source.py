@@ -50,7 +50,7 @@ class Source:
     _gates: dict[int, GateGraph] = field(default_factory=dict, repr=False)
 
     @classmethod
-    def from_text(cls, text: str, file: str = "<input>", kind: str | None = None) -> Source:
+    def from_text(cls, text: str, file: str = "<rules>", kind: str | None = None) -> Source:
         """Parse ``text``; ``kind`` defaults from ``file``'s suffix."""
         if kind is None:
             suffix = os.path.splitext(file)[1].lower()

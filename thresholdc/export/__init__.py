@@ -57,9 +57,11 @@ def _module(name: str, extra: str | None, doing: str) -> Any:
     except ImportError as exc:
         if extra is None or (exc.name or "").split(".")[0] != _PACKAGES[extra]:
             raise
+        from ..extras import install_hint
+
         raise UsageError(
             f"{doing} needs the optional package {_PACKAGES[extra]!r} "
-            f"(pip install 'thresholdc[{extra}]')"
+            f"({install_hint(extra)})"
         ) from None
 
 

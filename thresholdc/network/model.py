@@ -336,3 +336,15 @@ class Network:
             f"outputs={len(self.outputs)}, depth={self.depth})"
         )
 
+
+    def _repr_html_(self) -> str:
+        """Notebook display: a summary card and the drawing (see thresholdc.htmlreport)."""
+        from ..htmlreport import network_card
+
+        return network_card(self)
+
+    def _repr_svg_(self) -> str | None:
+        """Notebook display: the drawing as SVG (None without matplotlib)."""
+        from ..htmlreport import network_svg
+
+        return network_svg(self)

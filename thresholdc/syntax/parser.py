@@ -51,7 +51,7 @@ def _parser() -> Lark:
     )
 
 
-def parse(text: str, file: str = "<input>") -> Program:
+def parse(text: str, file: str = "<rules>") -> Program:
     """Parse and check a rule file.
 
     Parameters

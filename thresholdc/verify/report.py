@@ -109,3 +109,9 @@ class Report:
             "notes": list(self.notes),
             "seconds": round(self.seconds, 6),
         }
+
+    def _repr_html_(self) -> str:
+        """Notebook display: the verdict and a table per output (see thresholdc.htmlreport)."""
+        from ..htmlreport import report_card
+
+        return report_card(self)
