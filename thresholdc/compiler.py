@@ -212,6 +212,13 @@ def compile_source(source: Source, **options: Any) -> CompileResult:
         result.warnings.append(
             f"unused definition(s), not compiled: {', '.join(source.program.unused)}"
         )
+    from .support import unused_inputs
+
+    idle = unused_inputs(source)
+    if idle:
+        result.warnings.append(
+            f"unused input(s), no output reads them (kept as input units): {', '.join(idle)}"
+        )
     try:
         report = _verify(net, source, check)
     except VerificationUndecided as err:

@@ -221,7 +221,7 @@ def _check_boolean_name(
             )
         return
     if name.id not in defs:
-        raise error_at(f"unknown name '{name.id}'", name.span)
+        raise error_at(f"unknown name '{name.id}'{_name_hint(name.id)}", name.span)
     used.setdefault(name.id, None)
 
 
@@ -374,3 +374,19 @@ def _topological(outputs: tuple[str, ...], deps: dict[str, list[str]]) -> tuple[
                 stack.pop()
                 order.append(node)
     return tuple(order)
+
+
+def _name_hint(name: str) -> str:
+    """A hint for a name that is a keyword or constant written in another case.
+
+    >>> _name_hint("True"), _name_hint("AND"), _name_hint("tank")
+    (": the constants are written 'true' and 'false'", ": keywords are lower case: write 'and'", '')
+    """
+    from .lexer import KEYWORDS
+
+    low = name.lower()
+    if low in ("true", "false"):
+        return ": the constants are written 'true' and 'false'"
+    if low in KEYWORDS:
+        return f": keywords are lower case: write '{low}'"
+    return ""
