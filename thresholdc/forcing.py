@@ -10,8 +10,8 @@ breaks it for every larger freed set: the kept inputs are a minimal set (no sing
 can be freed), unless the bound on freed inputs stopped the search (``complete`` is False).
 
 >>> from thresholdc import compile_rules
->>> from thresholdc.source import Source
->>> src = Source.from_text("input a, b, c, d\\ny = a and b\\n", "r.rules")
+>>> from thresholdc.logic import source_from_text
+>>> src = source_from_text("input a, b, c, d\\ny = a and b\\n", "r.rules")
 >>> net = compile_rules("input a, b, c, d\\ny = a or b\\n")
 >>> inputs_that_matter(net, src, {"a": 1, "b": 0, "c": 1, "d": 0}, "y")
 (['a', 'b'], True)
@@ -24,7 +24,7 @@ from typing import Any
 
 import numpy as np
 
-from .support import network_support, source_support
+from .logic import network_support, source_support
 
 __all__ = ["inputs_that_matter", "describe_assignment", "MAX_FREE"]
 
@@ -66,8 +66,8 @@ def inputs_that_matter(network: Any, source: Any, assignment: Mapping[str, Any],
         The most inputs freed in one check.
 
     >>> from thresholdc import compile_rules
-    >>> from thresholdc.source import Source
-    >>> src = Source.from_text("input a, b\\ny = a\\n", "r.rules")
+    >>> from thresholdc.logic import source_from_text
+    >>> src = source_from_text("input a, b\\ny = a\\n", "r.rules")
     >>> net = compile_rules("input a, b\\ny = not a\\n")   # differs on every input
     >>> inputs_that_matter(net, src, {"a": 0, "b": 1}, "y")
     ([], True)

@@ -25,7 +25,12 @@ import re
 from collections.abc import Sequence
 from typing import Any
 
-from .network.model import Network
+from . import export
+from .api import as_source, verify
+from .errors import UsageError, VerificationUndecided
+from .forcing import describe_assignment, inputs_that_matter
+from .ir.network import DISPLAY, Network
+from .network import atomic_write
 from .present import count, degain
 
 __all__ = ["report_html", "write_report", "network_card", "network_svg", "report_card"]
@@ -69,10 +74,10 @@ def _svg_inline(data: bytes) -> str:
 def network_svg(net: Network) -> str | None:
     """The drawing of ``net`` as an SVG element, or None without matplotlib."""
     try:
-        from .export.drawing import render
-    except ImportError:
+        data = export.render(net, "svg")
+    except UsageError:  # matplotlib (the plot extra) is not installed
         return None
-    return _svg_inline(render(net, "svg"))
+    return _svg_inline(data)
 
 
 def _drawing(net: Network) -> str:
@@ -163,10 +168,6 @@ def _verification(net: Network, rules: Any) -> str:
                     f"{_e(rec.get('result'))}</code> from its compile. Pass the rules to "
                     "check again.</p>")
         return "<p>No rules given and none recorded.</p>"
-    from .api import as_source, verify
-    from .errors import VerificationUndecided
-    from .forcing import describe_assignment, inputs_that_matter
-
     source = as_source(rules)
     try:
         report = verify(net, source)
@@ -307,6 +308,7 @@ def report_html(network: Network, rules: Any = None, *, title: str | None = None
 def write_report(network: Network, path: str, rules: Any = None, *,
                  title: str | None = None) -> None:
     """Write :func:`report_html` to ``path`` atomically (a temporary file, then a rename)."""
-    from .network.fileformat import atomic_write
-
     atomic_write(str(path), report_html(network, rules, title=title))
+
+
+DISPLAY.update(network_html=network_card, network_svg=network_svg, report_html=report_card)

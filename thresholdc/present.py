@@ -41,7 +41,7 @@ def degain(network: Any) -> dict[str, float]:
     the smallest |weight| of the network when it fits every soft neuron.  Step neurons and
     neurons whose weights are not of that form (trained ones) are left out.
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> n = Neuron("y", 1, ("a", "b"), (8.0, -16.0), -12.0, activation="sigmoid")
     >>> degain(Network(("a", "b"), (n,), (Output("y", "y"),)))
     {'y': 8.0}

@@ -8,9 +8,10 @@ import pytest
 
 from thresholdc import compile_rules
 from thresholdc.cli import main
+from thresholdc.export import save_any
 from thresholdc.forcing import inputs_that_matter
-from thresholdc.network.model import Network, Neuron, Output
-from thresholdc.source import Source
+from thresholdc.ir.network import Network, Neuron, Output
+from thresholdc.logic import source_from_text
 
 RULES = "input a, b, c\noutput y, z\ny = a and not b\nz = atleast(2, a, b, c)\n"
 
@@ -24,7 +25,7 @@ def test_sigmoid_network_shows_the_step_weights_and_the_gain(tmp_path, capsys):
     step = compile_rules(RULES)
     soft = compile_rules(RULES, activation="sigmoid")
     path = tmp_path / "soft.json"
-    soft.save(str(path))
+    save_any(soft, str(path))
     code, out = _run(capsys, "inspect", path, "--json")
     assert code == 0
     data = json.loads(out)
@@ -43,7 +44,7 @@ def test_fixed_gain_without_certificate_is_found_by_division(tmp_path, capsys):
     net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (8.0, -16.0), -12.0,
                                       activation="sigmoid"),), (Output("y", "y"),))
     path = tmp_path / "g.json"
-    net.save(str(path))
+    save_any(net, str(path))
     code, out = _run(capsys, "inspect", path, "--json")
     n = json.loads(out)["layers"][0]["neurons"][0]
     assert (n["gain"], n["integer_weights"], n["integer_bias"]) == (8.0, [1, -2], -1.5)
@@ -58,7 +59,7 @@ def _wide():
 
 def test_lines_wrap_and_small_weights_can_be_left_out(tmp_path, capsys):
     path = tmp_path / "w.json"
-    _wide().save(str(path))
+    save_any(_wide(), str(path))
     code, out = _run(capsys, "inspect", path)
     assert code == 0
     body = out.splitlines()[:-1]  # the totals line is a fixed sentence
@@ -83,7 +84,7 @@ def _rule_y(a, b, c, d):
 def test_counterexample_keeps_a_minimal_forcing_set():
     rules = "input a, b, c, d, e\ny = atleast(2, a, b, c) and not d\n"
     wrong = compile_rules("input a, b, c, d, e\ny = atleast(2, a, b, c)\n")
-    src = Source.from_text(rules, "r.rules")
+    src = source_from_text(rules, "r.rules")
     names = ["a", "b", "c", "d", "e"]
     for values in itertools.product((0, 1), repeat=5):
         x = dict(zip(names, values, strict=True))
@@ -111,7 +112,7 @@ def test_counterexample_keeps_a_minimal_forcing_set():
 def test_counterexample_of_a_forty_input_network_names_two_inputs():
     names = [f"x{k}" for k in range(40)]
     decl = "input " + ", ".join(names) + "\n"
-    src = Source.from_text(decl + "y = x3 and x7\n" + "z = x0 or x1\n", "r.rules")
+    src = source_from_text(decl + "y = x3 and x7\n" + "z = x0 or x1\n", "r.rules")
     net = compile_rules(decl + "y = x3 or x7\n" + "z = x0 or x1\n", verify="none")
     x = {n: 1 for n in names} | {"x3": 1, "x7": 0}
     kept, complete = inputs_that_matter(net, src, x, "y")
@@ -121,7 +122,7 @@ def test_counterexample_of_a_forty_input_network_names_two_inputs():
 def test_verify_prints_the_reduced_counterexamples(tmp_path, capsys):
     decl = "input " + ", ".join(f"x{k}" for k in range(10)) + "\n"
     (tmp_path / "r.rules").write_text(decl + "y = x3 and x7\n", encoding="utf-8")
-    compile_rules(decl + "y = x3 or x7\n").save(str(tmp_path / "n.json"))
+    save_any(compile_rules(decl + "y = x3 or x7\n"), str(tmp_path / "n.json"))
     code, out = _run(capsys, "verify", tmp_path / "n.json", tmp_path / "r.rules")
     assert code == 1
     lines = [line.strip() for line in out.splitlines() if "expected" in line]

@@ -93,7 +93,7 @@ def test_unknown_suffix_is_refused_and_nothing_is_written(tmp_path):
 
 
 def test_network_without_neurons_draws():
-    from thresholdc.network.model import Network, Output
+    from thresholdc.ir.network import Network, Output
 
     data = render(Network(("a",), (), (Output("a", "a"),)), "png")
     assert png_size(data)[0] > 0
@@ -125,7 +125,7 @@ def test_weight_labels_never_overlap_each_other():
 
 def test_crowded_labels_go_to_a_side_table():
     from thresholdc.export.drawing import figure
-    from thresholdc.network.model import Network, Neuron, Output
+    from thresholdc.ir.network import Network, Neuron, Output
 
     names = tuple(f"x{k}" for k in range(12))
     net = Network(names, (Neuron("y", 1, names, tuple(range(1, 13)), -0.5),),
@@ -139,7 +139,7 @@ def test_crowded_labels_go_to_a_side_table():
 
 
 def test_small_weights_are_hidden_and_the_legend_says_so():
-    from thresholdc.network.model import Network, Neuron, Output
+    from thresholdc.ir.network import Network, Neuron, Output
 
     net = Network(("a", "b", "c"), (Neuron("y", 1, ("a", "b", "c"), (3.2, -0.013, 0.02),
                                            -1.1, activation="sigmoid"),), (Output("y", "y"),))
@@ -150,7 +150,7 @@ def test_small_weights_are_hidden_and_the_legend_says_so():
 
 
 def test_deep_summary_wraps_onto_rows():
-    from thresholdc.network.model import Network, Neuron, Output
+    from thresholdc.ir.network import Network, Neuron, Output
 
     neurons = [Neuron("n1", 1, ("a",), (1,), -0.5)]
     for k in range(2, 61):
@@ -165,7 +165,7 @@ def test_deep_summary_wraps_onto_rows():
 
 
 def test_singular_in_the_title():
-    from thresholdc.network.model import Network, Neuron, Output
+    from thresholdc.ir.network import Network, Neuron, Output
 
     net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     text = svg_text(render(net, "svg"))

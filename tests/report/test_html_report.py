@@ -9,7 +9,8 @@ import pytest
 
 from thresholdc import compile_rules
 from thresholdc.cli import main
-from thresholdc.network.model import Network
+from thresholdc.export import save_any
+from thresholdc.ir.network import Network
 
 pytest.importorskip("matplotlib")
 
@@ -52,7 +53,7 @@ def _parse(path):
 
 def _write(tmp_path, rules_text, net):
     (tmp_path / "r.rules").write_text(rules_text, encoding="utf-8")
-    net.save(str(tmp_path / "n.json"))
+    save_any(net, str(tmp_path / "n.json"))
     return tmp_path / "n.json", tmp_path / "r.rules"
 
 
@@ -91,7 +92,7 @@ def test_report_shows_training_and_curves(tmp_path, capsys):
                                             {"anchor": 0.01, "loss": 0.1}]}}
     trained = Network(net.inputs, net.neurons, net.outputs, meta, net.encoding)
     path = tmp_path / "t.json"
-    trained.save(str(path))
+    save_any(trained, str(path))
     out = tmp_path / "t.html"
     assert main(["report", str(path), "-o", str(out)]) == 0
     page = _parse(out)

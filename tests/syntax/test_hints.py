@@ -3,7 +3,7 @@
 import pytest
 
 from thresholdc import DataError, RuleError, compile_file
-from thresholdc.network.model import Network, Neuron, Output
+from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.syntax.parser import parse
 from thresholdc.train.data import load_data
 

@@ -7,7 +7,8 @@ import os
 import numpy as np
 
 from thresholdc.cli import main
-from thresholdc.network.model import Network, Neuron, Output
+from thresholdc.export import save_any
+from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.train.data import Dataset
 from thresholdc.train.scoring import score
 
@@ -42,7 +43,7 @@ def test_metrics_match_the_textbook_definitions_on_random_labels():
 
 def test_errors_file_holds_exactly_the_misclassified_rows(tmp_path, capsys):
     net_path = tmp_path / "or.json"
-    OR.save(str(net_path))
+    save_any(OR, str(net_path))
     data = tmp_path / "d.csv"
     data.write_text("a,b,note,y\n0,0,first,0\n0,1,second,0\n\n1,1,third,1\n0,0,fourth,1\n",
                     encoding="utf-8")
@@ -60,7 +61,7 @@ def test_errors_file_holds_exactly_the_misclassified_rows(tmp_path, capsys):
 
 def test_errors_file_not_written_on_bad_data(tmp_path, capsys):
     net_path = tmp_path / "or.json"
-    OR.save(str(net_path))
+    save_any(OR, str(net_path))
     data = tmp_path / "d.csv"
     data.write_text("a,b,y\n0,2,0\n", encoding="utf-8")
     wrong = tmp_path / "wrong.csv"
@@ -72,7 +73,7 @@ def test_errors_file_not_written_on_bad_data(tmp_path, capsys):
 
 def test_text_shows_the_new_columns_and_a_dash_for_no_positives(tmp_path, capsys):
     net_path = tmp_path / "or.json"
-    OR.save(str(net_path))
+    save_any(OR, str(net_path))
     data = tmp_path / "d.csv"
     data.write_text("a,b,y\n0,0,0\n", encoding="utf-8")
     assert main(["score", str(net_path), str(data)]) == 0

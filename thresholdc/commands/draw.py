@@ -7,7 +7,10 @@ import os
 import sys
 from typing import Any
 
+from .. import export
 from ..errors import UsageError
+from ..export import load_any
+from ..network import load
 from .common import add_parser, count
 
 FORMATS = (".png", ".svg")
@@ -50,15 +53,10 @@ def run(args: argparse.Namespace) -> int:
         raise UsageError(f"--min-weight must be at least 0, got {args.min_weight:g}")
     if args.max_neurons < 0:
         raise UsageError(f"--max-neurons must be at least 0, got {args.max_neurons}")
-    from ..export import draw, load_any
-    from ..network.fileformat import load
-
     like = load(args.like) if args.like else None
     net = load_any(args.network, like=like)
-    draw(net, args.output, max_neurons=args.max_neurons, min_weight=args.min_weight)
-    from ..export.drawing import MAX_DEPTH
-
-    detailed = len(net.neurons) <= args.max_neurons and net.depth <= MAX_DEPTH
+    export.draw(net, args.output, max_neurons=args.max_neurons, min_weight=args.min_weight)
+    detailed = len(net.neurons) <= args.max_neurons and net.depth <= export.MAX_DEPTH
     mode = "every neuron" if detailed else "per-layer summary"
     sys.stdout.write(f"wrote {args.output} ({count(len(net.neurons), 'neuron')}, {mode})\n")
     return 0

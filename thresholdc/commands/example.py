@@ -8,12 +8,12 @@ import sys
 from typing import Any
 
 from ..errors import UsageError
+from ..examples import EXAMPLES, example
+from ..network import atomic_write
 from .common import add_parser
 
 
 def register(subparsers: Any) -> None:
-    from ..examples import EXAMPLES
-
     listing = "; ".join(f"{p}N: {what} ({lo} <= N <= {hi})"
                         for p, (_, what, lo, hi) in EXAMPLES.items())
     p = add_parser(
@@ -30,9 +30,6 @@ def register(subparsers: Any) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..examples import example
-    from ..network.fileformat import atomic_write
-
     if os.path.splitext(args.output)[1].lower() != ".bench":
         raise UsageError("an example netlist is written as .bench", file=args.output)
     try:

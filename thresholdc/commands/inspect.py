@@ -13,7 +13,7 @@ from typing import Any
 
 from ..api import load
 from ..errors import UsageError
-from ..network.model import Network
+from ..ir.network import Network
 from ..present import count, degain
 from .common import add_parser, fmt_num, format_table, print_json
 

@@ -7,7 +7,11 @@ import os
 import sys
 from typing import Any
 
+from ..api import load
 from ..errors import UsageError
+from ..htmlreport import write_report
+from ..logic import load_source
+from ..network import check_writable
 from .common import add_parser
 
 
@@ -36,11 +40,6 @@ def register(subparsers: Any) -> None:
 def run(args: argparse.Namespace) -> int:
     if os.path.splitext(args.output)[1].lower() not in (".html", ".htm"):
         raise UsageError("the report is written as .html", file=args.output)
-    from ..api import load
-    from ..htmlreport import write_report
-    from ..network.fileformat import check_writable
-    from ..source import load_source
-
     check_writable(args.output)
     like = load(args.like) if args.like else None
     net = load(args.network, like=like)

@@ -12,10 +12,9 @@ from typing import Any
 import numpy as np
 
 from ..api import load
-from ..network.fileformat import atomic_write, check_writable
-from ..network.model import Network
-from ..train.data import Dataset, load_data, parse_label_specs, read_table
-from ..train.scoring import decisions, score
+from ..ir.network import Network
+from ..network import atomic_write, check_writable
+from ..train import Dataset, decisions, load_data, parse_label_specs, read_table, score
 from .common import add_parser, count, format_table, print_json
 
 

@@ -8,8 +8,9 @@ from typing import Any
 
 from ..api import load, verify
 from ..errors import VerificationUndecided
-from ..source import load_source
-from ..verify.report import Report
+from ..forcing import describe_assignment, inputs_that_matter
+from ..logic import load_source
+from ..verify import Report, check_certificate
 from .common import add_parser, fmt_num, format_table, print_json
 
 
@@ -57,8 +58,6 @@ def run(args: argparse.Namespace) -> int:
             data["certificate"] = {"ok": not cert_problems, "problems": cert_problems}
         print_json(data)
     else:
-        from ..forcing import inputs_that_matter
-
         kept = [inputs_that_matter(net, source, c.assignment, c.output)
                 for c in report.counterexamples[:5]]
         sys.stdout.write(render_report(args.network, args.source, report, cert_problems,
@@ -74,8 +73,6 @@ def _certificate_problems(net: Any) -> list[str] | None:
     """Problems of a stored soft-activation certificate; None when there is none."""
     if not isinstance(net.meta.get("certificate"), dict):
         return None
-    from ..verify.certificate import check_certificate
-
     return list(check_certificate(net).problems)
 
 
@@ -87,7 +84,6 @@ def render_report(
 
     ``kept[k]`` is what :func:`thresholdc.forcing.inputs_that_matter` found for the k-th
     counterexample (only those inputs are shown) or None (every input is shown)."""
-    from ..forcing import describe_assignment
 
     lines = [f"verify {net_file} against {source_file}: {report.result}"]
     detail = (f"{report.assignments} assignments, " if report.method == "exhaustive" else "")

@@ -26,7 +26,7 @@ Output is deterministic: PNG without the software tag, SVG with a fixed hash sal
 text kept as text (so an SVG can be searched for neuron names).
 
 >>> import os, tempfile
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5, origin="y"),),
 ...               (Output("y", "y"),))
 >>> path = os.path.join(tempfile.mkdtemp(), "y.svg")
@@ -51,8 +51,8 @@ from matplotlib.patches import FancyArrowPatch, PathPatch
 from matplotlib.path import Path
 
 from ..errors import UsageError
-from ..network.fileformat import atomic_write
-from ..network.model import Network
+from ..ir.network import Network
+from ..network import atomic_write
 from ..present import count, degain
 
 __all__ = ["draw", "figure", "render", "weight_cutoff", "FORMATS", "MAX_NEURONS"]
@@ -172,7 +172,7 @@ def weight_cutoff(net: Network) -> float:
     """The default cut-off below which links are hidden: 0 when every shown weight is an
     integer (compiled networks), else a tenth of the largest |weight| (trained ones).
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> n = Neuron("y", 1, ("a", "b"), (4.0, 0.013), 0.0, activation="sigmoid")
     >>> weight_cutoff(Network(("a", "b"), (n,), (Output("y", "y"),)))
     0.4
@@ -446,7 +446,7 @@ def figure(net: Network, *, max_neurons: int = MAX_NEURONS, max_labels: int = MA
         Links with |w| below this are hidden (the legend says how many); default
         :func:`weight_cutoff`.
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> [round(float(x), 2) for x in figure(net).get_size_inches()]
     [8.1, 3.8]
@@ -498,7 +498,7 @@ def draw(net: Network, path: str, *, max_neurons: int = MAX_NEURONS,
         Any other suffix (the message lists the supported ones).
 
     >>> import os, tempfile
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> path = os.path.join(tempfile.mkdtemp(), "n.png"); draw(net, path)
     >>> open(path, "rb").read(8) == b"\\x89PNG\\r\\n\\x1a\\n"

@@ -1,4 +1,4 @@
-"""Whole-file checks of a parsed rule file, ending in a :class:`~thresholdc.syntax.ast.Program`.
+"""Whole-file checks of a parsed rule file, ending in a :class:`~thresholdc.ir.program.Program`.
 
 The rules (DESIGN.md section 3): every name used is a declared input or a definition; a name is
 declared once and defined once, never both; the declared type decides how ``name == value``
@@ -15,7 +15,7 @@ from collections.abc import Iterable
 import networkx as nx
 
 from ..errors import RuleError
-from .ast import (
+from ..ir.program import (
     BinOp,
     Call,
     CategoryTest,
@@ -33,6 +33,7 @@ from .ast import (
     Term,
     sub_expressions,
 )
+from .lexer import KEYWORDS
 from .transform import Number, PendingCompare, PendingIn, Value, error_at
 
 __all__ = ["check_program"]
@@ -382,8 +383,6 @@ def _name_hint(name: str) -> str:
     >>> _name_hint("True"), _name_hint("AND"), _name_hint("tank")
     (": the constants are written 'true' and 'false'", ": keywords are lower case: write 'and'", '')
     """
-    from .lexer import KEYWORDS
-
     low = name.lower()
     if low in ("true", "false"):
         return ": the constants are written 'true' and 'false'"

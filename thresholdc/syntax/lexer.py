@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import re
 import threading
+import unicodedata
 from collections.abc import Iterator
 
 from lark import Token
@@ -111,8 +112,6 @@ def non_ascii_hint(text: str, at: int) -> str:
     >>> non_ascii_hint("y = café and b", 7)
     ": names use only ASCII letters, digits and '_' (write 'cafe' for 'café')"
     """
-    import unicodedata
-
     start = end = at
     while start > 0 and (text[start - 1].isalnum() or text[start - 1] == "_"):
         start -= 1

@@ -1,4 +1,4 @@
-"""Parse rule text (DESIGN.md section 3) into a checked :class:`~thresholdc.syntax.ast.Program`.
+"""Parse rule text (DESIGN.md section 3) into a checked :class:`~thresholdc.ir.program.Program`.
 
 The grammar is ``grammar.lark``, read by lark's LALR parser fed by the lexer of :mod:`.lexer`; the
 Transformer of :mod:`.transform` builds the AST while parsing and :mod:`.checks` checks the file
@@ -9,6 +9,7 @@ column and source line; lark's own exceptions never escape.
 from __future__ import annotations
 
 import gc
+import re
 from functools import lru_cache
 from importlib import resources
 
@@ -16,7 +17,7 @@ from lark import Lark, Token
 from lark.exceptions import UnexpectedCharacters, UnexpectedInput, UnexpectedToken
 
 from ..errors import RuleError, Span
-from .ast import Program
+from ..ir.program import Program
 from .checks import check_program
 from .lexer import KEYWORDS, RuleLexer, last_tokens, lexed_text, open_brackets
 from .transform import RuleBuilder
@@ -187,8 +188,6 @@ def _hint(tok: Token, prev: Token | None, expected: set[str]) -> str:
 def _continues(line: int) -> bool:
     """True when the line after ``line`` looks like the rest of a statement (not blank, not a
     new statement), so a missing bracket is the likely mistake."""
-    import re
-
     lines = lexed_text().split("\n")
     if line >= len(lines):
         return False

@@ -12,7 +12,7 @@ tp / (tp + fn), F1 their harmonic mean 2·tp / (2·tp + fp + fn); a ratio whose 
 0 is ``None`` (printed ``-``), not a made-up 0 or 1.
 
 >>> import numpy as np
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> from thresholdc.train.data import Dataset
 >>> net = Network(("a",), (Neuron("y", 1, ("a",), (-1,), 0.5),), (Output("y", "y"),))
 >>> d = Dataset("d.csv", np.array([[0.0], [1.0], [1.0]]), np.array([[1.0], [0.0], [1.0]]),
@@ -28,7 +28,7 @@ from typing import Any
 
 import numpy as np
 
-from ..network.model import Network
+from ..ir.network import Network
 from .data import Dataset
 
 __all__ = ["score", "decisions"]
@@ -38,7 +38,7 @@ def decisions(network: Network, data: Dataset) -> tuple[np.ndarray, np.ndarray]:
     """The network's Boolean decisions and the Boolean labels, ``(rows, labelled outputs)``.
 
     >>> import numpy as np
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> from thresholdc.train.data import Dataset
     >>> net = Network(("a",), (Neuron("y", 1, ("a",), (1,), -0.5),), (Output("y", "y"),))
     >>> d = Dataset("d", np.array([[1.0]]), np.array([[0.0]]), ("y",), ("y",), np.array([2]))
@@ -70,7 +70,7 @@ def score(network: Network, data: Dataset) -> dict[str, Any]:
         The layout of the module docstring, outputs in network order.
 
     >>> import numpy as np
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> from thresholdc.train.data import Dataset
     >>> net = Network(("a",), (Neuron("y", 1, ("a",), (1,), -0.5),), (Output("y", "y"),))
     >>> d = Dataset("d", np.zeros((2, 1)), np.zeros((2, 1)), ("y",), ("y",), np.array([2, 3]))

@@ -20,6 +20,8 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any
 
+from ..ir.network import DISPLAY
+
 __all__ = ["Counterexample", "OutputReport", "Report", "MAX_COUNTEREXAMPLES"]
 
 MAX_COUNTEREXAMPLES = 5
@@ -110,8 +112,7 @@ class Report:
             "seconds": round(self.seconds, 6),
         }
 
-    def _repr_html_(self) -> str:
+    def _repr_html_(self) -> str | None:
         """Notebook display: the verdict and a table per output (see thresholdc.htmlreport)."""
-        from ..htmlreport import report_card
-
-        return report_card(self)
+        show = DISPLAY.get("report_html")
+        return show(self) if show else None

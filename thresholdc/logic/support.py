@@ -4,8 +4,8 @@ The support is structural (the inputs an output's definition reaches), so an inp
 cannot change the output; one inside it may still not matter for a given function.  Rule
 supports are read from the AST and never from the network, so the two can be compared.
 
->>> from thresholdc.source import Source
->>> src = Source.from_text("input a, b, c\\nx = a and b\\ny = x or a\\n", "s.rules")
+>>> from thresholdc.logic import source_from_text
+>>> src = source_from_text("input a, b, c\\nx = a and b\\ny = x or a\\n", "s.rules")
 >>> sorted(source_support(src, "y")), unused_inputs(src)
 (['a', 'b'], ('c',))
 """
@@ -14,7 +14,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from .syntax import ast
+from ..ir import program as ast
 
 __all__ = ["source_support", "network_support", "unused_inputs"]
 
@@ -48,8 +48,8 @@ def _units_of(program: Any) -> dict[str, list[str]]:
 def source_support(source: Any, output: str) -> set[str]:
     """The input units that output ``output`` of a Source reaches (rules or netlist).
 
-    >>> from thresholdc.source import Source
-    >>> src = Source.from_text("INPUT(a)\\nINPUT(b)\\nOUTPUT(y)\\ny = NOT(a)\\n", "n.bench")
+    >>> from thresholdc.logic import source_from_text
+    >>> src = source_from_text("INPUT(a)\\nINPUT(b)\\nOUTPUT(y)\\ny = NOT(a)\\n", "n.bench")
     >>> sorted(source_support(src, "y"))
     ['a']
     """
@@ -84,7 +84,7 @@ def source_support(source: Any, output: str) -> set[str]:
 def network_support(network: Any, output: str) -> set[str]:
     """The input units that output ``output`` of a Network reads, through any path.
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 0), -0.5),),
     ...               (Output("y", "y"),))
     >>> sorted(network_support(net, "y"))
@@ -104,8 +104,8 @@ def network_support(network: Any, output: str) -> set[str]:
 def unused_inputs(source: Any) -> tuple[str, ...]:
     """The declared inputs that no output reaches, in declaration order.
 
-    >>> from thresholdc.source import Source
-    >>> unused_inputs(Source.from_text("input a, b\\noutput a\\n", "s.rules"))
+    >>> from thresholdc.logic import source_from_text
+    >>> unused_inputs(source_from_text("input a, b\\noutput a\\n", "s.rules"))
     ('b',)
     """
     used: set[str] = set()
