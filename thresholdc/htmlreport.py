@@ -107,14 +107,13 @@ def report_card(report: Any) -> str:
     >>> "different" in card and "<table>" in card
     True
     """
-    rows = [(o.name, "yes" if o.agrees else "no", o.disagreements,
-             "-" if o.min_margin is None else f"{o.min_margin:.4g}") for o in report.outputs]
+    rows = _output_rows(report)
     items = "".join(
         f"<li><code>{_e(' '.join(f'{k}={v}' for k, v in c.assignment.items()))}</code>: "
         f"{_e(c.output)} expected {int(c.expected)}</li>" for c in report.counterexamples[:5])
     return (f'<div class="thresholdc-report"><p>verification: <b>{_e(report.result)}</b> '
             f"(method {_e(report.method)})</p>"
-            + _table(("output", "agrees", "disagreements", "min margin"), rows, numeric={2, 3})
+            + _table(("output", "verdict", "disagreements", "min margin"), rows, numeric={2, 3})
             + (f"<ul>{items}</ul>" if items else "") + "</div>")
 
 
@@ -160,6 +159,13 @@ def _layers(net: Network) -> str:
     return text
 
 
+def _output_rows(report: Any) -> list[tuple[Any, ...]]:
+    """One row per output: name, verdict, disagreements (``-`` when not counted), margin."""
+    return [(o.name, getattr(o, "verdict", "equal" if o.agrees else "different"),
+             "-" if o.disagreements is None else o.disagreements,
+             "-" if o.min_margin is None else f"{o.min_margin:.4g}") for o in report.outputs]
+
+
 def _verification(net: Network, rules: Any) -> str:
     if rules is None:
         rec = (net.meta or {}).get("verification")
@@ -176,9 +182,8 @@ def _verification(net: Network, rules: Any) -> str:
     verdict = "ok" if report.result == "equal" else "bad"
     out = [f'<p>Against <code>{_e(source.file)}</code>: <span class="{verdict}">'
            f"{_e(report.result)}</span> (method {_e(report.method)}).</p>"]
-    rows = [(o.name, "yes" if o.agrees else "no", o.disagreements,
-             "-" if o.min_margin is None else f"{o.min_margin:.4g}") for o in report.outputs]
-    out.append(_table(("output", "agrees", "disagreements", "min margin"), rows,
+    rows = _output_rows(report)
+    out.append(_table(("output", "verdict", "disagreements", "min margin"), rows,
                       numeric={2, 3}))
     if report.counterexamples:
         items = []

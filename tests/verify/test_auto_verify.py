@@ -91,7 +91,8 @@ def test_soft_network_above_the_bound_is_not_an_error():
     net = Network(tuple(xs), (Neuron("y", 1, tuple(xs), (8.0,) * 30, -4.0, "sigmoid"),),
                   (Output("y", "y"),))
     report = verify_network(net, src)  # another method than local/SAT takes it
-    assert report.result in ("equal", "undecided") and report.method not in ("local", "sat")
+    # branch-and-bound decides it: one input fixed to 1 gives z ≥ 4, all at 0 give z = -4
+    assert report.result == "equal" and report.method == "bounds"
     with pytest.raises(UsageError, match="step network"):
         verify_network(net, src, method="sat")
 
@@ -162,5 +163,5 @@ def test_big_tables_within_the_bound_go_local_first(monkeypatch):
     monkeypatch.setattr(sys.modules["thresholdc.verify.auto"], "verify_sat",
                         lambda *a, **k: Report("undecided", "sat", 0, [], notes=["x"]))
     report = verify_network(replace(net, meta={}), src)
-    assert (report.result, report.method) == ("equal", "exhaustive")
+    assert (report.result, report.method) == ("equal", "local+sat+exhaustive")
     assert "local: the network records no gate cones (meta.cones)" in report.notes

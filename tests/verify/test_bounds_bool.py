@@ -140,8 +140,10 @@ def test_node_limit_is_undecided():
     names = [f"x{i}" for i in range(14)]
     text = f"input {', '.join(names)}\np = parity({', '.join(names)})\n"
     net = compile_rules(text, activation="sigmoid", verify="none")
-    with pytest.raises(VerificationUndecided, match="stopped"):
-        verify_bounds(net, source_from_text(text), max_nodes=100)
+    rep = verify_bounds(net, source_from_text(text), max_nodes=100)
+    assert rep.result == "undecided" and not rep.equal
+    (p,) = rep.outputs
+    assert p.verdict == "undecided" and not p.agrees and "stopped at" in p.bound
 
 
 def test_report_layout():
@@ -151,9 +153,11 @@ def test_report_layout():
     assert list(data)[:4] == ["result", "method", "assignments", "outputs"]
     assert data["result"] == "different" and data["method"] == "bounds"
     for o in data["outputs"]:
-        assert list(o) == ["name", "agrees", "disagreements", "counterexamples", "min_margin"]
+        assert list(o) == ["name", "verdict", "agrees", "disagreements", "found",
+                           "counterexamples", "min_margin", "bound"]
     bad = data["outputs"][1]
     assert not bad["agrees"] and 1 <= len(bad["counterexamples"]) <= 5
+    assert bad["verdict"] == "different" and bad["disagreements"] == bad["found"] >= 1
     assert set(bad["counterexamples"][0]) == {"x", "y", "z"}
 
 

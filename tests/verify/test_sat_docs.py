@@ -8,11 +8,13 @@ import importlib
 import pytest
 
 MODULES = [
-    "thresholdc.verify.sat_circuit",
-    "thresholdc.verify.sat_encode",
-    "thresholdc.verify.sat_miter",
-    "thresholdc.verify.sat",
+    "thresholdc.verify.sat.circuit",
+    "thresholdc.verify.sat.encode",
+    "thresholdc.verify.sat.miter",
+    "thresholdc.verify.sat.method",
     "thresholdc.verify.local",
+    "thresholdc.verify.structural",
+    "thresholdc.verify.cones",
     "thresholdc.verify.auto",
 ]
 

@@ -35,695 +35,28 @@ python-sat).
 
 from __future__ import annotations
 
-import math
 import time
 from typing import Any
 
 import numpy as np
 
-from ..ir.gates import Gate, GateGraph
-from ..ir.network import Network, Neuron
+from ..ir.network import Network
+from .cones import LOCAL_MAX_LEAVES, ConeCheck
 from .domain import check_names
-from .exhaustive import assignments
-from .report import OutputReport, Report
-from .sat import confirm_counterexample, gates_side, miter_summary, source_side
-from .sat_circuit import TRUE
-from .sat_encode import check_step_network, gate_literal, integer_threshold
-from .sat_miter import prove_equivalent
+from .report import Counterexample, OutputReport, Report
+from .rules_gates import RULES_EXHAUSTIVE_MAX, rules_to_gates
+from .sat.encode import check_step_network
+from .sat.method import confirm_counterexample
+from .structural import structural_classes
 
 __all__ = ["verify_local", "structural_classes", "LOCAL_MAX_LEAVES", "RULES_EXHAUSTIVE_MAX"]
 
-LOCAL_MAX_LEAVES = 16
-#: The class id of the constants in :func:`structural_classes`: (0, False) is 1, (0, True) 0.
-CONST_CLASS = 0
-RULES_EXHAUSTIVE_MAX = 16
-_CHUNK = 1 << 16
 _RANDOM_ROWS = 256
-_REGION_MAX = 5000
-_CONST_SUPPORT = 12
-_CONST_REGION = 300
-
-Cls = tuple[int, bool]  # (class id, negated)
 
 
-# ---------------------------------------------------------------------- structural classes
-def structural_classes(graph: GateGraph) -> dict[str, Cls]:
-    """Each signal's structural class: signals with the same class id compute the same
-    function (or its complement when the flags differ).
-
-    Rules: ``buf`` is its argument, ``not`` flips the flag; ``or``/``nand``/``nor`` are
-    written as (negated) ``and`` of (negated) arguments; xor/xnor fold argument negations
-    into the flag; threshold and equal gates fold negated arguments into the threshold;
-    ``ite`` with a negated condition swaps its branches; arguments of commutative ops are
-    sorted.  Equal keys get equal ids.
-
-    >>> g = GateGraph.build(["a", "b"], [("y", "y")], [("x", Gate("and", ("a", "b"))),
-    ...     ("n", Gate("nand", ("b", "a"))), ("y", Gate("not", ("n",)))])
-    >>> c = structural_classes(g); c["x"] == c["y"], c["n"] == (c["x"][0], True)
-    (True, True)
-    """
-    table: dict[tuple, int] = {}
-    cls: dict[str, Cls] = {}
-
-    def cid(key: tuple) -> int:
-        return table.setdefault(key, len(table))
-
-    one = cid(("const",))  # the class of constant 1 is (one, False); of 0, (one, True)
-    assert one == CONST_CLASS
-
-    def and_class(args: list[Cls]) -> Cls:
-        """The class of the conjunction of ``args`` (constants folded, x ∧ ¬x is 0)."""
-        lits = set(args)
-        if (one, True) in lits or any((i, not n) in lits for i, n in lits):
-            return (one, True)
-        lits.discard((one, False))
-        ordered = sorted(lits)
-        if not ordered:
-            return (one, False)
-        if len(ordered) == 1:
-            return ordered[0]
-        return (cid(("and", tuple(ordered))), False)
-
-    def neg(c: Cls) -> Cls:
-        return (c[0], not c[1])
-    for name, g in graph.gates.items():
-        op = g.op
-        args = [cls[a] for a in g.args]
-        if op == "input":
-            cls[name] = (cid(("input", name)), False)
-        elif op == "const":
-            cls[name] = (one, not g.value)
-        elif op == "buf":
-            cls[name] = args[0]
-        elif op == "not":
-            cls[name] = (args[0][0], not args[0][1])
-        elif op in ("and", "nand", "or", "nor"):
-            inverted = op in ("or", "nor")
-            c = and_class([(i, n != inverted) for i, n in args])
-            cls[name] = (c[0], c[1] != (op in ("nand", "or")))
-        elif op in ("xor", "xnor"):
-            odd: dict[int, int] = {}
-            flip = op == "xnor"
-            for i, n in args:
-                flip ^= n
-                if i == one:  # the constant 1 flips the parity
-                    flip ^= True
-                    continue
-                odd[i] = odd.get(i, 0) ^ 1
-            ids = tuple(sorted(i for i, k in odd.items() if k))
-            if not ids:
-                cls[name] = (one, not flip)
-            elif len(ids) == 1:
-                cls[name] = (ids[0], flip)
-            else:
-                cls[name] = (cid(("xor", ids)), flip)
-        elif op in ("threshold", "equal"):
-            coef: dict[int, int] = {}
-            t = int(g.threshold or 0)
-            for (i, n), w in zip(args, g.weights or ()):
-                if i == one:
-                    t -= 0 if n else w
-                elif n:
-                    t -= w
-                    coef[i] = coef.get(i, 0) - w
-                else:
-                    coef[i] = coef.get(i, 0) + w
-            terms = tuple(sorted((i, w) for i, w in coef.items() if w))
-            holds = (lambda v, t=t: v >= t) if op == "threshold" else (lambda v, t=t: v == t)
-            lo = sum(min(w, 0) for _, w in terms)
-            hi = sum(max(w, 0) for _, w in terms)
-            step = 0
-            for _, w in terms:
-                step = math.gcd(step, abs(w))
-            if op == "threshold" and (lo >= t or hi < t):
-                cls[name] = (one, hi < t)  # always true, or never
-            elif op == "equal" and terms and (t < lo or t > hi or t % step):
-                cls[name] = (one, True)  # the sum never reaches t
-            elif len(terms) <= 1:
-                i, w = terms[0] if terms else (one, 0)
-                at0, at1 = holds(0), holds(w)
-                cls[name] = (one, not at0) if at0 == at1 or i == one else (i, at0)
-            else:
-                cls[name] = (cid((op, terms, t)), False)
-        elif op == "ite":
-            c, t, e = args
-            if c[1]:
-                t, e = e, t
-            c = (c[0], False)
-            if c[0] == one or t == e:
-                cls[name] = t  # after the swap a constant condition is 1
-            elif t[0] == one:  # c ? 1 : e is c or e;  c ? 0 : e is not c and e
-                cls[name] = neg(and_class([neg(c), neg(e)])) if not t[1] else \
-                    and_class([neg(c), e])
-            elif e[0] == one:  # c ? t : 1 is not c or t;  c ? t : 0 is c and t
-                cls[name] = neg(and_class([c, neg(t)])) if not e[1] else and_class([c, t])
-            else:
-                cls[name] = (cid(("ite", c[0], t, e)), False)
-        else:
-            cls[name] = (cid(("opaque", name)), False)
-    return cls
-
-
-# ---------------------------------------------------------------------- evaluation
-def _gate_value(g: Gate, args: list[np.ndarray], rows: int) -> np.ndarray:
-    """One gate's value over all rows (the gate graph's semantics, written out here)."""
-    op = g.op
-    if op == "const":
-        return np.full(rows, bool(g.value))
-    if op == "buf":
-        return args[0]
-    if op == "not":
-        return ~args[0]
-    if op in ("and", "nand", "or", "nor"):
-        v = np.all(args, axis=0) if op in ("and", "nand") else np.any(args, axis=0)
-        return ~v if op in ("nand", "nor") else v
-    if op in ("xor", "xnor"):
-        v = np.bitwise_xor.reduce(args)
-        return ~v if op == "xnor" else v
-    if op == "ite":
-        return np.where(args[0], args[1], args[2])
-    total = np.zeros(rows, dtype=np.int64)
-    for w, a in zip(g.weights or (), args):
-        total += int(w) * a
-    t = int(g.threshold or 0)
-    return total >= t if op == "threshold" else total == t
-
-
-def _step(W: list[int], K: int, vals: list[np.ndarray], rows: int) -> np.ndarray:
-    """A step neuron's output on all rows, exactly: Σ W·x ≥ K in integers."""
-    if not W:
-        return np.full(rows, K <= 0)
-    M = np.stack(vals).astype(np.int64)
-    if max(abs(x) for x in W + [K]) * (len(W) + 1) < 2**62:
-        return np.asarray(W, dtype=np.int64) @ M >= K
-    return np.asarray(np.asarray(W, dtype=object) @ M.astype(object) >= K, dtype=bool)
-
-
-def _abs_z(n: Neuron, vals: list[np.ndarray], rows: int) -> np.ndarray:
-    """|pre-activation| of a neuron on all rows (floating point, for margins)."""
-    if not vals:
-        return np.full(rows, abs(float(n.bias)))
-    return np.abs(np.asarray(n.weights, dtype=float) @ np.stack(vals).astype(float) + n.bias)
-
-
-class _Local:
-    """The state of one local check."""
-
-    def __init__(self, net: Network, graph: GateGraph, max_leaves: int, deadline: float) -> None:
-        self.net = net
-        self.deadline = deadline
-        self.input_set = set(net.inputs)
-        self.graph = graph
-        self.max_leaves = max_leaves
-        self.cls = structural_classes(graph)
-        self.order = {name: i for i, name in enumerate(graph.gates)}
-        self.neurons = {n.name: n for n in net.neurons}
-        self.problems: list[str] = []
-        self.mismatch: list[str] = []
-        self.assignments = 0
-        self.margins: dict[str, float] = {}
-        self.sat_cones = 0
-        self.symmetric_cones = 0
-        self._constants: dict[str, bool | None] = {}
-        self._verdicts: dict[tuple, bool] = {}
-        self._tables: dict[int, tuple[np.ndarray, list[np.ndarray]]] = {}
-        self.position = {n.name: j for j, n in enumerate(net.neurons)}
-        self.helpers: set[str] = set()
-        self._integer: dict[str, tuple[list[int], int]] = {}
-        self.read_by_outputs = {self.resolve_output(o.source) for o in net.outputs}
-
-    def resolve_output(self, unit: str) -> str:
-        """The unit an output reads through its relays (aliases are not known yet: the
-        relay chain is followed by the one-input identity/negation rule directly)."""
-        seen = set()
-        while unit in self.neurons and unit not in seen:
-            seen.add(unit)
-            n = self.neurons[unit]
-            if len(n.inputs) == 1 and (n.bias <= 0 < n.weights[0] + n.bias
-                                       or n.weights[0] + n.bias <= 0 < n.bias):
-                unit = n.inputs[0]
-            else:
-                break
-        return unit
-
-    def integer(self, name: str) -> tuple[list[int], int]:
-        """The neuron's exact integer form Σ W·x ≥ K (cached)."""
-        if name not in self._integer:
-            n = self.neurons[name]
-            self._integer[name] = integer_threshold(n.weights, n.bias)
-        return self._integer[name]
-
-    # -- units and what they carry
-    def setup(self, cones: dict[str, Any]) -> bool:
-        """Read the cone records; resolve relays; the class each unit carries."""
-        self.cones: dict[str, tuple[str, list[str]]] = {}
-        for name in sorted(cones):
-            entry = cones[name]
-            root = entry.get("root") if isinstance(entry, dict) else None
-            leaves = entry.get("leaves") if isinstance(entry, dict) else None
-            if name not in self.neurons or not isinstance(root, str) or not (
-                isinstance(leaves, list) and all(isinstance(x, str) for x in leaves)
-            ):
-                self.problems.append(f"malformed cone record for {name!r}")
-                continue
-            unknown = [s for s in [root] + leaves if s not in self.cls]
-            if unknown:
-                self.problems.append(
-                    f"the cone of {name!r} names signal(s) not in the gate graph: "
-                    f"{', '.join(unknown[:3])}"
-                )
-                continue
-            self.cones[name] = (root, leaves)
-        self.alias: dict[str, tuple[str, bool]] = {}
-        for n in self.net.neurons:
-            if n.name not in self.cones and len(n.inputs) == 1:
-                copy = n.bias <= 0 < n.weights[0] + n.bias
-                negate = n.weights[0] + n.bias <= 0 < n.bias
-                if copy or negate:
-                    base, neg = self.resolve(n.inputs[0])
-                    self.alias[n.name] = (base, neg != negate)
-        self._output_cones()
-        self.carried: dict[str, Cls] = {u: self.cls[u] for u in self.net.inputs if u in self.cls}
-        for n in self.net.neurons:
-            if n.name in self.cones:
-                self.carried[n.name] = self.cls[self.cones[n.name][0]]
-            elif n.name in self.alias:
-                base, neg = self.alias[n.name]
-                if base in self.carried:
-                    i, f = self.carried[base]
-                    self.carried[n.name] = (i, f != neg)
-        return not self.problems
-
-    def _output_cones(self) -> None:
-        """An output read from an unrecorded neuron gets a cone of its own: root the
-        output's signal, leaves the recorded units (or inputs) that neuron's sub-network
-        reads.  It is then checked like any other cone."""
-        out_sig = dict(self.graph.outputs)
-        for o in self.net.outputs:
-            base, neg = self.resolve(o.source)
-            sig = out_sig.get(o.name)
-            if neg or sig is None or base not in self.neurons or base in self.cones:
-                continue
-            leaves: list[str] = []
-            seen: set[str] = set()
-            stack = [base]
-            while stack:
-                u = stack.pop()
-                if u in seen:
-                    continue
-                seen.add(u)
-                b, _ = self.resolve(u)
-                if b in self.input_set or (b in self.cones and b != base):
-                    leaf = b if b in self.input_set else self.cones[b][0]
-                    if leaf not in leaves:
-                        leaves.append(leaf)
-                elif b in self.neurons:
-                    stack.extend(self.neurons[b].inputs)
-            self.cones[base] = (sig, leaves)
-
-    def resolve(self, unit: str) -> tuple[str, bool]:
-        """The unit a relay chain starts from, and whether it is negated on the way."""
-        return self.alias.get(unit, (unit, False))
-
-    # -- one cone
-    def check_cone(self, name: str) -> bool:
-        """Check one listed neuron (its helpers are added to ``helpers``)."""
-        root, leaves = self.cones[name]
-        leaf_ids = sorted({self.cls[s][0] for s in leaves})
-        index = {i: k for k, i in enumerate(leaf_ids)}
-        # the gate-graph region from the root back to the leaves
-        found = self._region(root, index)
-        if found is None:
-            self.problems.append(
-                f"the cone of {name!r} is not closed by its leaves (and its root depends on "
-                "more than them)"
-            )
-            return False
-        region, extras = found
-        # the sub-network from the leaf units to the neuron
-        sub: list[str] = []
-        seen = set()
-        stack = [name]
-        while stack:
-            u = stack.pop()
-            if u in seen:
-                continue
-            seen.add(u)
-            base, _ = self.resolve(u)
-            if u != name:
-                c = self.carried.get(base)
-                if c is not None and c[0] in index:
-                    continue  # a unit carrying a leaf
-                if base in self.input_set:
-                    self.problems.append(
-                        f"{name!r} reads input {u!r}, which is not a leaf of its cone"
-                    )
-                    return False
-                # any other neuron (a helper, or a listed neuron used as one) is evaluated
-                # as part of this neuron's sub-network
-            if base not in self.neurons:
-                self.problems.append(f"{name!r} reads unit {u!r}, which carries no signal")
-                return False
-            sub.append(base)
-            stack.extend(self.neurons[base].inputs)
-        self.helpers.update(u for u in sub if u != name)
-        consts: dict[int, bool] = {}
-        if CONST_CLASS in index:  # a constant leaf is no variable: it is 1 (flag False)
-            consts[CONST_CLASS] = True
-            leaf_ids.remove(CONST_CLASS)
-            index.clear()
-            index.update((i, k) for k, i in enumerate(leaf_ids))
-        for e in extras:  # signals the leaves do not determine: constants, or free
-            value = self._constant(e)
-            if value is None:
-                index[self.cls[e][0]] = len(index)
-                leaf_ids.append(self.cls[e][0])
-            else:
-                consts[self.cls[e][0]] = value != self.cls[e][1]
-        m = len(leaf_ids)
-        if m > self.max_leaves:
-            if consts or not self._symmetric(root, region, sub, index):
-                return self._check_cone_sat(name, root, region, sub, index, consts)
-            # both sides depend only on how many leaves are true: one row per count
-            k = np.arange(m + 1, dtype=np.int64)
-            cols = [k > j for j in range(m)]
-            self.symmetric_cones += 1
-        else:
-            k, cols = self._table(m)
-        self.assignments += len(k)
-        key = None
-        if m <= self.max_leaves and name not in self.read_by_outputs:
-            key = self._shape(root, region, sub, index, consts)
-            if self._verdicts.get(key) is True:  # the same cone, up to names, was proven
-                return True
-        got, want = self._evaluate(name, root, region, sub, cols, index, consts)
-        ok = bool(np.array_equal(got, want))
-        if key is not None:
-            self._verdicts[key] = ok
-        if not ok:
-            bad = int(np.nonzero(got != want)[0][0])
-            example = ", ".join(
-                f"{self._leaf_name(leaves, i)}={int(cols[index[i]][bad])}" for i in leaf_ids
-            )
-            self.mismatch.append(
-                f"{name!r} differs from its cone (root {root!r}) at {example}"
-            )
-            return False
-        return True
-
-    def _region(self, root: str, index: dict[int, int]) -> tuple[list[str], list[str]] | None:
-        """The gates between the leaves and the root, and the signals standing as extra
-        free variables (none when the leaves close the cone).
-
-        When the walk from the root reaches an input that is not a leaf, the cone is not
-        closed; the region is then cut at the root's nearest signals that the leaves do not
-        determine, and those become free variables (the neuron must then equal the root for
-        every value of them: e.g. a root that is constant whatever they are).  None when
-        the cone is too large to search.
-        """
-        region: list[str] = []
-        seen: set[str] = set()
-        stack = [root]
-        closed = True
-        while stack:
-            s = stack.pop()
-            if s in seen:
-                continue
-            seen.add(s)
-            if self.cls[s][0] in index:
-                continue
-            g = self.graph.gates[s]
-            if g.op == "input":
-                closed = False
-                continue
-            region.append(s)
-            if len(region) > _REGION_MAX:
-                return None
-            stack.extend(g.args)
-        if closed:
-            return region, []
-        # which signals of the cone the leaves determine, bottom-up
-        determined: dict[str, bool] = {}
-        for s in sorted(region, key=self.order.__getitem__):
-            determined[s] = all(
-                self.cls[a][0] in index or determined.get(a, False)
-                or self._constant(a) is not None
-                for a in self.graph.gates[s].args
-            )
-        keep: list[str] = []
-        extra: dict[int, str] = {}
-        stack, seen = [root], set()
-        while stack:
-            s = stack.pop()
-            if s in seen:
-                continue
-            seen.add(s)
-            if self.cls[s][0] in index:
-                continue
-            if s != root and not determined.get(s, False):
-                extra.setdefault(self.cls[s][0], s)
-                continue
-            keep.append(s)
-            stack.extend(self.graph.gates[s].args)
-        return keep, [extra[i] for i in sorted(extra)]
-
-    def _table(self, m: int) -> tuple[np.ndarray, list[np.ndarray]]:
-        """Row numbers and leaf columns of the truth table of ``m`` leaves (cached)."""
-        if m not in self._tables:
-            k = np.arange(1 << m, dtype=np.int64)
-            self._tables[m] = (k, [((k >> j) & 1).astype(bool) for j in range(m)])
-        return self._tables[m]
-
-    def _shape(self, root: str, region: list[str], sub: list[str], index: dict[int, int],
-               consts: dict[int, bool]) -> tuple:
-        """A key equal for two cones that compute the same thing up to the names of their
-        signals and units: the region's gates and the sub-network's neurons with their
-        arguments written as positions (of leaves, of gates, of neurons) and constants."""
-        gates = sorted(region, key=self.order.__getitem__)
-        gpos = {s: i for i, s in enumerate(gates)}
-
-        def ref(a: str) -> tuple:
-            if a in gpos:
-                return ("g", gpos[a])
-            i, neg = self.cls[a]
-            return ("c", consts[i] != neg) if i in consts else ("l", index[i], neg)
-
-        units = sorted(sub, key=self.position.__getitem__)
-        upos = {u: i for i, u in enumerate(units)}
-
-        def uref(u: str) -> tuple:
-            base, neg = self.resolve(u)
-            if base in upos:
-                return ("n", upos[base], neg)
-            i, flag = self.carried[base]
-            if i in consts:
-                return ("c", consts[i] != (flag != neg))
-            return ("l", index[i], flag != neg)
-
-        gate_part = tuple(
-            (g.op, g.weights, g.threshold, g.value, tuple(ref(a) for a in g.args))
-            for g in (self.graph.gates[x] for x in gates)
-        )
-        unit_part = tuple(
-            (tuple(W), K, tuple(uref(i) for i in self.neurons[u].inputs))
-            for u in units
-            for W, K in (self.integer(u),)
-        )
-        return (len(index), gate_part, ref(root), unit_part)
-
-    def _constant(self, s: str) -> bool | None:
-        """The value of signal ``s`` when it is constant, found by enumerating its whole
-        support (at most :data:`_CONST_SUPPORT` inputs); else None (cached)."""
-        if s not in self._constants:
-            self._constants[s] = self._find_constant(s)
-        return self._constants[s]
-
-    def _find_constant(self, s: str) -> bool | None:
-        """See :meth:`_constant`."""
-        if self.graph.gates[s].op == "input":
-            return None
-        region: list[str] = []
-        support: list[str] = []
-        seen: set[str] = set()
-        stack = [s]
-        while stack:
-            x = stack.pop()
-            if x in seen:
-                continue
-            seen.add(x)
-            g = self.graph.gates[x]
-            if g.op == "input":
-                support.append(x)
-                if len(support) > _CONST_SUPPORT:
-                    return None
-                continue
-            region.append(x)
-            if len(region) > _CONST_REGION:
-                return None
-            stack.extend(g.args)
-        k = np.arange(1 << len(support), dtype=np.int64)
-        val = {x: ((k >> j) & 1).astype(bool) for j, x in enumerate(support)}
-        for x in sorted(region, key=self.order.__getitem__):
-            g = self.graph.gates[x]
-            val[x] = _gate_value(g, [val[a] for a in g.args], len(k))
-        v = val[s]
-        if v.all():
-            return True
-        if not v.any():
-            return False
-        return None
-
-    def _evaluate(self, name: str, root: str, region: list[str], sub: list[str],
-                  cols: list[np.ndarray], index: dict[int, int],
-                  consts: dict[int, bool]) -> tuple[np.ndarray, np.ndarray]:
-        """The neuron's and the root's values on the rows given by the leaf columns."""
-        rows = len(cols[0]) if cols else 1
-        val: dict[str, np.ndarray] = {}
-
-        def signal(s: str) -> np.ndarray:
-            if s in val:
-                return val[s]
-            i, neg = self.cls[s]
-            if i in consts:
-                return np.full(rows, consts[i] != neg)
-            return ~cols[index[i]] if neg else cols[index[i]]
-
-        for s in sorted(region, key=self.order.__getitem__):
-            g = self.graph.gates[s]
-            val[s] = _gate_value(g, [signal(a) for a in g.args], rows)
-        units: dict[str, np.ndarray] = {}
-
-        def unit(u: str) -> np.ndarray:
-            base, neg = self.resolve(u)
-            if base in units:
-                v = units[base]
-            else:
-                i, f = self.carried[base]
-                if i in consts:
-                    v = np.full(rows, consts[i] != f)
-                else:
-                    v = ~cols[index[i]] if f else cols[index[i]]
-            return ~v if neg else v
-
-        for u in sorted(sub, key=self.position.__getitem__):
-            n = self.neurons[u]
-            W, K = self.integer(u)
-            vals = [unit(i) for i in n.inputs]
-            units[u] = _step(W, K, vals, rows)
-            if u == name and name in self.read_by_outputs:
-                self.margins[name] = float(_abs_z(n, vals, rows).min())
-        return units[name], signal(root)
-
-    def _symmetric(self, root: str, region: list[str], sub: list[str],
-                   index: dict[int, int]) -> bool:
-        """Whether both sides provably depend only on the number of true leaves.
-
-        Gate side: the region is xor/xnor/not/buf gates whose parity form reads every leaf
-        an odd number of times, or the root alone is an and/or/nand/nor/threshold/equal gate
-        reading every leaf once, all with one polarity and one weight.  Network side: every
-        neuron of the sub-network reads every leaf once with one effective weight (negated
-        units count as −w), or none at all.
-        """
-        full = (1 << len(index)) - 1
-        ops = {self.graph.gates[s].op for s in region}
-        if ops <= {"xor", "xnor", "not", "buf"}:
-            lin: dict[str, int] = {}
-
-            def form(s: str) -> int:
-                if s in lin:
-                    return lin[s]
-                i = self.cls[s][0]
-                return 1 << index[i] if i in index else 0  # a constant adds no leaf
-
-            for s in sorted(region, key=self.order.__getitem__):
-                lin[s] = 0
-                for a in self.graph.gates[s].args:
-                    lin[s] ^= form(a)
-            if form(root) != full:
-                return False
-        else:
-            g = self.graph.gates[root]
-            if region != [root] or g.op not in ("and", "or", "nand", "nor", "threshold",
-                                                 "equal"):
-                return False
-            weights = g.weights if g.op in ("threshold", "equal") else (1,) * len(g.args)
-            terms = {(self.cls[a][1], w) for a, w in zip(g.args, weights)}
-            ids = [self.cls[a][0] for a in g.args]
-            if len(terms) != 1 or len(set(ids)) != len(ids) or len(ids) != len(index):
-                return False
-        for u in sub:
-            n = self.neurons[u]
-            eff: dict[int, float] = {}
-            for i, w in zip(n.inputs, n.weights):
-                base, neg = self.resolve(i)
-                if base in sub:
-                    continue
-                cid, flag = self.carried[base]
-                if cid not in index:
-                    return False  # a constant input: keep it simple, not symmetric
-                eff[index[cid]] = eff.get(index[cid], 0.0) + (-w if neg != flag else w)
-            if eff and (len(eff) != len(index) or len(set(eff.values())) != 1):
-                return False
-        return True
-
-    def _leaf_name(self, leaves: list[str], i: int) -> str:
-        """A signal of class ``i`` to name in a message (a leaf if one has it)."""
-        for s in leaves:
-            if self.cls[s][0] == i:
-                return s
-        return next(s for s, c in self.cls.items() if c[0] == i)
-
-    def _check_cone_sat(self, name: str, root: str, region: list[str], sub: list[str],
-                        index: dict[int, int], consts: dict[int, bool]) -> bool:
-        """A cone with many leaves: a miter between its region and its sub-network, over
-        one input per leaf class (constants substituted)."""
-        ids = sorted(index, key=index.__getitem__)
-        names = [f"v{k}" for k in range(len(ids))]
-        position = self.position
-
-        def leaf_lit(ins: dict[str, int], c: Cls) -> int:
-            if c[0] in consts:
-                return TRUE if consts[c[0]] != c[1] else -TRUE
-            lit = ins[names[index[c[0]]]]
-            return -lit if c[1] else lit
-
-        def side_gates(c: Any, ins: dict[str, int]) -> dict[str, int]:
-            lit: dict[str, int] = {}
-            for s in sorted(region, key=self.order.__getitem__):
-                g = self.graph.gates[s]
-                args = [lit[a] if a in lit else leaf_lit(ins, self.cls[a]) for a in g.args]
-                lit[s] = gate_literal(c, g, args, s)
-            return {"y": lit[root] if root in lit else leaf_lit(ins, self.cls[root])}
-
-        def side_net(c: Any, ins: dict[str, int]) -> dict[str, int]:
-            lit: dict[str, int] = {}
-
-            def unit(u: str) -> int:
-                base, neg = self.resolve(u)
-                v = lit[base] if base in lit else leaf_lit(ins, self.carried[base])
-                return -v if neg else v
-
-            for u in sorted(sub, key=position.__getitem__):
-                W, K = self.integer(u)
-                lit[u] = c.geq(W, [unit(i) for i in self.neurons[u].inputs], K)
-            return {"y": lit[name]}
-
-        outcome = prove_equivalent(names, ["y"], side_gates, side_net,
-                                   time_limit=max(self.deadline - time.perf_counter(), 0.1))
-        self.sat_cones += 1
-        if outcome.status != "equal":
-            what = "differs from" if outcome.status == "different" else "was not proven equal to"
-            self.mismatch.append(f"{name!r} {what} its cone (root {root!r}, {len(names)} leaves)")
-            return False
-        return True
-
-
-def _undecided(notes: list[str], t0: float) -> Report:
-    return Report("undecided", "local", 0, [], notes=notes, seconds=time.perf_counter() - t0)
-
-
-def _random_counterexample(net: Network, source: Any) -> list:
-    """Counterexamples found by simulating both sides on random rows (may be none)."""
+def _random_counterexamples(net: Network, source: Any) -> dict[str, list[Counterexample]]:
+    """Counterexamples found by simulating both sides on random rows: for each output that
+    differs on some row, the first such row, re-simulated (may be none)."""
     n = len(source.inputs)
     rng = np.random.default_rng(0)
     X = rng.integers(0, 2, size=(_RANDOM_ROWS, n)).astype(np.uint8)
@@ -731,49 +64,19 @@ def _random_counterexample(net: Network, source: Any) -> list:
     expected = np.asarray(source.evaluate(X), dtype=bool)
     got = net.decide(X[:, perm].astype(float))
     order = [list(source.outputs).index(o.name) for o in net.outputs]
-    diff = np.nonzero((got != expected[:, order]).any(axis=1))[0]
-    if not len(diff):
-        return []
-    assignment = {u: int(X[diff[0], i]) for i, u in enumerate(source.inputs)}
-    return confirm_counterexample(net, source, assignment)
+    diff = got != expected[:, order]
+    found: dict[str, list[Counterexample]] = {}
+    for r in sorted({int(np.nonzero(diff[:, k])[0][0]) for k in np.nonzero(diff.any(axis=0))[0]}):
+        assignment = {u: int(X[r, i]) for i, u in enumerate(source.inputs)}
+        _add(found, confirm_counterexample(net, source, assignment))
+    return found
 
 
-def _rules_to_gates(source: Any, graph: GateGraph, time_limit: float,
-                    max_inputs: int) -> tuple[str, str, dict[str, int] | None]:
-    """Check the gate graph against the rules: (status, what was shown, a differing
-    assignment or None)."""
-    program = source.program
-    if program.is_typed():
-        return "undecided", "typed inputs: the rules-to-gates step is not checked locally", None
-    inputs, outputs = list(source.inputs), list(source.outputs)
-    n = len(inputs)
-    try:
-        import pysat  # noqa: F401
-
-        have_sat = True
-    except ImportError:
-        have_sat = False
-    if n <= RULES_EXHAUSTIVE_MAX or (not have_sat and n <= max_inputs):
-        sig = dict(graph.outputs)
-        total = 1 << n
-        for start in range(0, total, _CHUNK):
-            X = assignments(n, start, min(total, start + _CHUNK))
-            ref = np.asarray(source.evaluate(X), dtype=bool)
-            got = graph.simulate(X, [sig[o] for o in outputs])
-            bad = np.nonzero((ref != got).any(axis=1))[0]
-            if len(bad):
-                return "different", "", {u: int(X[bad[0], i]) for i, u in enumerate(inputs)}
-        return "equal", f"the gate graph equals the rules on all {total} assignments", None
-    if not have_sat:
-        return "undecided", (f"{n} inputs and no python-sat: the rules-to-gates step is not "
-                             "checked"), None
-    outcome = prove_equivalent(inputs, outputs, source_side(source), gates_side(graph),
-                               time_limit=time_limit)
-    if outcome.status == "equal":
-        return "equal", f"the gate graph equals the rules (sat: {miter_summary(outcome)})", None
-    if outcome.differing:
-        return "different", "", next(iter(outcome.differing.values()))
-    return "undecided", "the rules-to-gates miter: " + "; ".join(outcome.notes), None
+def _add(found: dict[str, list[Counterexample]], more: list[Counterexample]) -> None:
+    for c in more:
+        have = found.setdefault(c.output, [])
+        if all(c.assignment != d.assignment for d in have):
+            have.append(c)
 
 
 def verify_local(
@@ -818,75 +121,125 @@ def verify_local(
     t0 = time.perf_counter()
     check_step_network(net)
     check_names(net, source)
+    names = [o.name for o in net.outputs]
     cones = net.meta.get("cones")
     if not isinstance(cones, dict):
-        return _undecided(["the network records no gate cones (meta.cones)"], t0)
+        return _finish(net, source, {}, "local: the network records no gate cones "
+                       "(meta.cones)", ["the network records no gate cones (meta.cones)"], t0)
     graph = source.gates_like(net) if hasattr(source, "gates_like") else source.gates()
-    loc = _Local(net, graph, max_leaves, t0 + time_limit)
+    loc = ConeCheck(net, graph, max_leaves, t0 + time_limit)
     if not loc.setup(cones):
-        return _undecided(loc.problems[:5], t0)
+        return _finish(net, source, {}, f"local: {loc.problems[0]}", loc.problems[:5], t0)
     for n in net.neurons:
         if n.name in loc.cones:
             loc.check_cone(n.name)
     covered = set(loc.cones) | set(loc.alias) | loc.helpers
     stray = [n.name for n in net.neurons if n.name not in covered]
-    if stray:
+    if stray:  # no output reads them through a recorded cone: noted, not fatal
         loc.problems.append(f"neuron(s) in no recorded cone: {', '.join(stray[:5])}")
+    # which units are proven to carry their signal: by induction over the network's order
+    blame: dict[str, str | None] = {u: None for u in net.inputs}
+    for n in net.neurons:
+        if n.name in loc.cones:
+            if not loc.cone_ok.get(n.name, False):
+                blame[n.name] = n.name
+            else:
+                blame[n.name] = next((b for d in sorted(loc.deps.get(n.name, ()))
+                                      if (b := blame.get(d, d)) is not None), None)
+        elif n.name in loc.alias:
+            base = loc.alias[n.name][0]
+            blame[n.name] = blame.get(base, base)
     out_sig = dict(graph.outputs)
+    to_gates: dict[str, str | None] = {}  # None: proven equal to the gate graph's output
     for o in net.outputs:
         base, neg = loc.resolve(o.source)
         c = loc.carried.get(base)
         want = loc.cls.get(out_sig.get(o.name, ""))
+        carrier = base if base in loc.input_set else loc.cones.get(base, (None,))[0]
+        if (c is not None and want is not None and (c[0], c[1] != neg) != want
+                and carrier is not None and o.name in out_sig
+                and loc.same_function(out_sig[o.name], carrier, neg)):
+            c = want  # the same function in another form (checked over the inputs)
+            neg = False
         if c is None or want is None or (c[0], c[1] != neg) != want:
-            loc.problems.append(
-                f"output {o.name!r} reads unit {o.source!r}, which does not carry its signal "
-                f"{out_sig.get(o.name)!r}"
-            )
-    if loc.mismatch or loc.problems:
-        found = _random_counterexample(net, source)
-        notes = (loc.mismatch + loc.problems)[:8]
-        if found:
-            return _report_different(net, found, notes, t0)
-        return _undecided(notes, t0)
+            problem = (f"output {o.name!r} reads unit {o.source!r}, which does not carry its "
+                       f"signal {out_sig.get(o.name)!r}")
+            loc.problems.append(problem)
+            to_gates[o.name] = f"local: {problem}"
+        elif blame.get(base, base) is not None:
+            to_gates[o.name] = (f"local: neuron {blame.get(base, base)!r}, which this output "
+                                "depends on, is not proven equal to its gate cone")
+        else:
+            to_gates[o.name] = None
     widest = max((len({loc.cls[s][0] for s in leaves}) for _, leaves in loc.cones.values()),
                  default=0)
+    proven_cones = sum(loc.cone_ok.values())
     proofs = [
-        f"local: each of {len(loc.cones)} neuron(s) equals its gate cone "
+        f"local: {proven_cones} of {len(loc.cones)} neuron(s) equal their gate cone "
         f"({loc.assignments} assignments, at most {widest} leaves"
         + (f"; {loc.symmetric_cones} wide symmetric cone(s) by the count of true leaves"
            if loc.symmetric_cones else "")
-        + (f"; {loc.sat_cones} wide cone(s) by SAT" if loc.sat_cones else "") + ")"
+        + (f"; {loc.sat_cones} wide cone(s) by SAT" if loc.sat_cones else "")
+        + (f"; {loc.input_cones} cone(s) over their primary inputs" if loc.input_cones else "")
+        + ")"
     ]
+    if not proven_cones:
+        proofs = []
+    elif proven_cones == len(loc.cones) and not loc.problems:
+        proofs[0] = proofs[0].replace(f"{proven_cones} of {len(loc.cones)} neuron(s) equal",
+                                      f"each of {len(loc.cones)} neuron(s) equals")
+        proofs[0] = proofs[0].replace("equals their gate cone", "equals its gate cone")
+    found: dict[str, list[Counterexample]] = {}
+    bounds = dict(to_gates)
     if getattr(source, "program", None) is not None:
-        status, shown, assignment = _rules_to_gates(
+        status, shown, differing = rules_to_gates(
             source, graph, max(time_limit - (time.perf_counter() - t0), 0.0), max_inputs
         )
-        if status == "different":
-            found = confirm_counterexample(net, source, assignment or {})
-            if found:
-                return _report_different(net, found, [], t0)
-            return _undecided(["the gate graph differs from the rules, but the network does "
-                               "not reproduce it (internal error)"], t0)
-        if status != "equal":
-            return Report("undecided", "local", loc.assignments, [], proofs=proofs,
-                          notes=[shown], seconds=time.perf_counter() - t0)
-        proofs.append(f"local: {shown}")
+        for assignment in differing:
+            _add(found, confirm_counterexample(net, source, assignment))
+        for o in names:
+            if bounds[o] is None and status[o] != "equal":
+                bounds[o] = f"local: {shown}" if status[o] == "undecided" else (
+                    "local: the gate graph differs from the rules, but the network does not "
+                    "reproduce it (internal error)")
+        if all(v == "equal" for v in status.values()):
+            proofs.append(f"local: {shown}")
+        elif any(v == "equal" for v in status.values()):
+            proofs.append("local: the gate graph equals the rules on "
+                          + ", ".join(o for o in names if status[o] == "equal"))
     else:
         proofs.append("local: the gate graph is the netlist itself")
+    notes = (loc.mismatch + loc.problems)[:8]
+    return _finish(net, source, bounds, "", notes, t0, found=found, proofs=proofs,
+                   assignments=loc.assignments,
+                   margins={o.name: loc.margins.get(loc.resolve(o.source)[0], 0.5)
+                            for o in net.outputs})
+
+
+def _finish(net: Network, source: Any, bounds: dict[str, str | None], default: str,
+            notes: list[str], t0: float, *, found: dict[str, list[Counterexample]] | None = None,
+            proofs: list[str] | None = None, assignments: int = 0,
+            margins: dict[str, float] | None = None) -> Report:
+    """The local report: an output is equal when ``bounds`` has None for it (proven), else
+    different when a re-simulated counterexample was found (random rows, rules-to-gates),
+    else undecided with its bound (``default`` when ``bounds`` does not name one)."""
+    found = dict(found or {})
+    if any(b is not None for b in bounds.values()) or len(bounds) < len(net.outputs):
+        _add_all(found, _random_counterexamples(net, source))
     outputs = []
     for o in net.outputs:
-        base, _ = loc.resolve(o.source)
-        outputs.append(OutputReport(o.name, True, 0, [], loc.margins.get(base, 0.5)))
-    return Report("equal", "local", loc.assignments, outputs, proofs=proofs,
-                  seconds=time.perf_counter() - t0)
+        bound = bounds.get(o.name, default)
+        if o.name in found:
+            outputs.append(OutputReport.differs(o.name, found[o.name]))
+        elif bound is None:
+            outputs.append(OutputReport.proven(o.name, (margins or {}).get(o.name, 0.5)))
+        else:
+            outputs.append(OutputReport.undecided(o.name, bound))
+    return Report.of("local", assignments, outputs, proofs=list(proofs or []), notes=notes,
+                     seconds=time.perf_counter() - t0)
 
 
-def _report_different(net: Network, found: list, notes: list[str], t0: float) -> Report:
-    """A ``different`` report from confirmed counterexamples."""
-    by_output: dict[str, list] = {}
-    for c in found:
-        by_output.setdefault(c.output, []).append(c)
-    outputs = [OutputReport(o.name, o.name not in by_output, len(by_output.get(o.name, [])),
-                            by_output.get(o.name, []), None) for o in net.outputs]
-    return Report("different", "local", 0, outputs, notes=notes,
-                  seconds=time.perf_counter() - t0)
+def _add_all(found: dict[str, list[Counterexample]],
+             more: dict[str, list[Counterexample]]) -> None:
+    for cs in more.values():
+        _add(found, cs)
