@@ -117,3 +117,16 @@ def test_readme_runs_whole(folder):
     for lang, text in blocks():
         run_block(lang, text)
     assert (folder / "mult16.json").exists() and (folder / "trained.json").exists()
+
+
+def test_readme_compile_summary_matches_the_program(folder, capsys):
+    text = (ROOT / "README.md").read_text(encoding="utf-8")
+    shown = text.split("The summary of the first command looks like this:", 1)[1]
+    shown = shown.split("```\n", 2)[1].splitlines()
+    assert main(["compile", "circuits/greenhouse.rules", "-o", "greenhouse.json"]) == 0
+    actual = capsys.readouterr().out.splitlines()
+
+    def timeless(lines):  # times differ from run to run
+        return [re.sub(r"[0-9.]+ s\b", "T s", line) for line in lines]
+
+    assert timeless(actual) == timeless(shown)
