@@ -10,7 +10,7 @@
 
 from __future__ import annotations
 
-from .api import load, verify  # noqa: E402
+from .api import figure, load, verify  # noqa: E402
 from .compiler import CompileResult, compile_file, compile_rules, compile_source  # noqa: E402
 from .errors import (  # noqa: E402
     DataError,
@@ -21,6 +21,7 @@ from .errors import (  # noqa: E402
     VerificationUndecided,
 )
 from .export import load_any, save_any  # noqa: E402
+from .htmlreport import report_html, write_report  # noqa: E402  (also registers displays)
 from .ir.network import Network, Neuron, Output  # noqa: E402
 from .ir.options import CompileOptions  # noqa: E402
 from .ir.reference import Reference
@@ -50,6 +51,9 @@ __all__ = [
     "CompileResult",
     "CompileOptions",
     "load",
+    "figure",
+    "report_html",
+    "write_report",
     "save_any",
     "load_any",
     "verify",

@@ -11,6 +11,7 @@ network's ``meta`` and returns the network together with a summary of what happe
 
 from __future__ import annotations
 
+import os
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -26,7 +27,7 @@ from .errors import (
 from .ir.network import Network, check_network
 from .ir.options import HONOURED, RECORDED, CompileOptions
 from .ir.reference import Reference
-from .logic import load_source, network_features, source_from_text
+from .logic import load_source, network_features, source_from_text, unused_inputs
 from .network import apply_activation, survives
 from .synth import collapse, map_to_neurons
 from .verification import Report, verify_network
@@ -192,6 +193,11 @@ def compile_source(source: Reference, **options: Any) -> CompileResult:
         result.warnings.append(
             f"unused definition(s), not compiled: {', '.join(source.program.unused)}"
         )
+    idle = unused_inputs(source)
+    if idle:
+        result.warnings.append(
+            f"unused input(s), no output reads them (kept as input units): {', '.join(idle)}"
+        )
     try:
         report = _verify(net, source, opts)
     except VerificationUndecided as err:
@@ -240,17 +246,59 @@ def compile_rules(source: str | Path, **options: Any) -> Network:
     ``synthesis``, ``simplify_support``, ``cut_size``, ``max_fan_in``, ``max_weight``,
     ``verify`` (auto | exhaustive | local | sat | none), ``max_inputs``, ``time_limit``.
 
+    A str is rule text (errors name it ``<rules>``); a str that looks like a file name
+    (``"loan.rules"``) is refused with a message: pass ``Path("loan.rules")`` or call
+    :func:`compile_file`.
+
     >>> net = compile_rules("input a, b, c\\nalarm = atleast(2, a, b, c)\\n")
     >>> net.evaluate([[1, 1, 0], [0, 0, 1]]).tolist()
     [[1.0], [0.0]]
     """
-    if isinstance(source, Path):
-        src = load_source(str(source))
+    if isinstance(source, os.PathLike):
+        src = load_source(os.fspath(source))
     else:
-        src = source_from_text(source, "<rules>", kind="rules")
+        src = source_from_text(rule_text(source), "<rules>", kind="rules")
     return compile_source(src, **options).network
 
 
-def compile_file(path: str, **options: Any) -> CompileResult:
-    """Compile the source at ``path``; returns the network with its summary."""
-    return compile_source(load_source(path), **options)
+#: Suffixes of source files; a one-line string ending in one is taken for a file name.
+SOURCE_SUFFIXES = (".rules", ".bench", ".blif", ".txt")
+
+
+def rule_text(text: str, *, function: str = "compile_rules", file_function: str = "compile_file"
+              ) -> str:
+    """``text`` itself, unless it is a file name given where rule text was expected: then a
+    UsageError that says how to pass the file.
+
+    >>> rule_text("input a\\ny = a\\n") == "input a\\ny = a\\n"
+    True
+    >>> rule_text("loan.rules")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    thresholdc.errors.UsageError: loan.rules: compile_rules takes rule text, and ... \
+call thresholdc.compile_file('loan.rules') or pass pathlib.Path('loan.rules')
+    """
+    if not isinstance(text, str):
+        raise UsageError(f"{function} takes rule text (str) or a pathlib.Path, got "
+                         f"{type(text).__name__}")
+    name = text.strip()
+    if "\n" not in name and name.lower().endswith(SOURCE_SUFFIXES):
+        exists = "" if os.path.isfile(name) else " (no such file)"
+        raise UsageError(
+            f"{function} takes rule text, and {name!r} looks like a file name{exists}; to "
+            f"read a file, call thresholdc.{file_function}({name!r}) or pass "
+            f"pathlib.Path({name!r})", file=name)
+    return text
+
+
+def compile_file(path: str | os.PathLike[str], **options: Any) -> CompileResult:
+    """Compile the rule file or netlist at ``path`` (a str or a ``Path``); returns the
+    network with its summary (``.network``, ``.report``, ``.notes``, ``.warnings``).
+
+    >>> import tempfile
+    >>> p = os.path.join(tempfile.mkdtemp(), "lamp.rules")
+    >>> _ = open(p, "w").write("input dark, motion\\nlamp = dark and motion\\n")
+    >>> compile_file(p).network.output_names
+    ('lamp',)
+    """
+    return compile_source(load_source(os.fspath(path)), **options)

@@ -8,6 +8,7 @@ from typing import Any
 
 from ..api import load, verify
 from ..errors import VerificationUndecided
+from ..forcing import describe_assignment, inputs_that_matter
 from ..logic import load_source
 from ..verification import Report, check_certificate, undecided_outputs, verify_definitions
 from .common import add_parser, fmt_num, format_table, print_json
@@ -72,7 +73,9 @@ def run(args: argparse.Namespace) -> int:
                                    "verdicts": [o.to_dict() for o in per_def.outputs]}
         print_json(data)
     else:
-        text = render_report(args.network, args.source, report, cert_problems)
+        kept = [inputs_that_matter(net, source, c.assignment, c.output)
+                for c in report.counterexamples[:5]]
+        text = render_report(args.network, args.source, report, cert_problems, kept)
         if per_def is not None:
             text += "\n" + render_definitions(per_def)
         sys.stdout.write(text + "\n")
@@ -137,9 +140,14 @@ def output_table(report: Report, label: str = "output") -> str:
 
 
 def render_report(
-    net_file: str, source_file: str, report: Report, cert_problems: list[str] | None = None
+    net_file: str, source_file: str, report: Report, cert_problems: list[str] | None = None,
+    kept: list[Any] | None = None,
 ) -> str:
-    """The report as text: verdict, per-output table, counterexamples, notes."""
+    """The report as text: verdict, per-output table, counterexamples, notes.
+
+    ``kept[k]`` is what :func:`thresholdc.forcing.inputs_that_matter` found for the k-th
+    counterexample (only those inputs are shown) or None (every input is shown)."""
+
     lines = [f"verify {net_file} against {source_file}: {report.result}"]
     detail = (f"{report.assignments} assignments, " if report.method == "exhaustive" else "")
     lines.append(f"  method: {report.method} ({detail}{report.seconds:.3f} s)")
@@ -152,9 +160,17 @@ def render_report(
                 lines.append(f"  {o.name} not decided: {o.bound}")
     shown = report.counterexamples[:5]
     if shown:
-        lines.append(f"  counterexamples (first {len(shown)}):")
-        for c in shown:
-            assignment = " ".join(f"{k}={v}" for k, v in c.assignment.items())
+        heading = f"  counterexamples (first {len(shown)}"
+        if kept and any(k is not None for k in kept):
+            heading += "; only the inputs that force the difference are shown"
+        lines.append(heading + "):")
+        seen: set[tuple[str, str, bool]] = set()
+        for j, c in enumerate(shown):
+            found = kept[j] if kept and j < len(kept) else None
+            assignment = describe_assignment(c.assignment, None if found is None else found[0])
+            if (assignment, c.output, c.expected) in seen:
+                continue  # the same case once its free inputs are left out
+            seen.add((assignment, c.output, c.expected))
             margin = "" if c.margin is None else f", margin {fmt_num(c.margin)}"
             lines.append(
                 f"    {assignment}: {c.output} expected {int(c.expected)}, network gave "

@@ -24,6 +24,7 @@ import os
 from typing import Any
 
 from ..errors import UsageError
+from ..extras import install_hint
 from ..ir.network import Network
 from ..network import load as load_network_file
 from ..network import save as save_network_file
@@ -46,7 +47,8 @@ _LAZY = {
     "to_arrays": ("npz", None), "save_npz": ("npz", None), "load_npz": ("npz", None),
     "to_torch": ("torch", "torch"), "from_torch": ("torch", "torch"), "Step": ("torch", "torch"),
     "dense_form": ("dense", None), "network_from_layers": ("dense", None),
-    "draw": ("drawing", "plot"),
+    "draw": ("drawing", "plot"), "render": ("drawing", "plot"), "figure": ("drawing", "plot"),
+    "MAX_DEPTH": ("drawing", "plot"),
 }
 _PACKAGES = {"onnx": "onnx", "torch": "torch", "plot": "matplotlib"}
 
@@ -60,7 +62,7 @@ def _module(name: str, extra: str | None, doing: str) -> Any:
             raise
         raise UsageError(
             f"{doing} needs the optional package {_PACKAGES[extra]!r} "
-            f"(pip install 'thresholdc[{extra}]')"
+            f"({install_hint(extra)})"
         ) from None
 
 

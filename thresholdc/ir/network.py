@@ -77,6 +77,11 @@ class Output:
         return self.name if self.name == self.source else f"{self.name}<-{self.source}"
 
 
+#: Notebook renderers by name (``network_html``, ``network_svg``, ``report_html``), registered
+#: by :mod:`thresholdc.htmlreport` when the package is imported (ir imports nothing above it).
+DISPLAY: dict[str, Any] = {}
+
+
 @dataclass(frozen=True)
 class Network:
     """A compiled network; immutable (passes return new networks).
@@ -313,6 +318,16 @@ class Network:
             f"Network(inputs={len(self.inputs)}, neurons={len(self.neurons)}, "
             f"outputs={len(self.outputs)}, depth={self.depth})"
         )
+
+    def _repr_html_(self) -> str | None:
+        """Notebook display: a summary card and the drawing (registered in ``DISPLAY``)."""
+        show = DISPLAY.get("network_html")
+        return show(self) if show else None
+
+    def _repr_svg_(self) -> str | None:
+        """Notebook display: the drawing as SVG (None without matplotlib)."""
+        show = DISPLAY.get("network_svg")
+        return show(self) if show else None
 
 
 # ---------------------------------------------------------------- structural checks

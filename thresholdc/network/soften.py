@@ -149,7 +149,7 @@ def apply_activation(
     >>> apply_activation(net, activation="tanh")
     Traceback (most recent call last):
     ...
-    thresholdc.errors.UsageError: <input>: --activation tanh requires --encoding bipolar
+    thresholdc.errors.UsageError: --activation tanh requires --encoding bipolar
     """
     _check_options(activation, gain, tolerance, encoding)
     _check_step_network(net)

@@ -33,6 +33,7 @@ from ..ir.program import (
     Term,
     sub_expressions,
 )
+from .lexer import KEYWORDS
 from .transform import Number, PendingCompare, PendingIn, Value, error_at
 
 __all__ = ["check_program"]
@@ -220,7 +221,7 @@ def _check_boolean_name(
             )
         return
     if name.id not in defs:
-        raise error_at(f"unknown name '{name.id}'", name.span)
+        raise error_at(f"unknown name '{name.id}'{_name_hint(name.id)}", name.span)
     used.setdefault(name.id, None)
 
 
@@ -373,3 +374,17 @@ def _topological(outputs: tuple[str, ...], deps: dict[str, list[str]]) -> tuple[
                 stack.pop()
                 order.append(node)
     return tuple(order)
+
+
+def _name_hint(name: str) -> str:
+    """A hint for a name that is a keyword or constant written in another case.
+
+    >>> _name_hint("True"), _name_hint("AND"), _name_hint("tank")
+    (": the constants are written 'true' and 'false'", ": keywords are lower case: write 'and'", '')
+    """
+    low = name.lower()
+    if low in ("true", "false"):
+        return ": the constants are written 'true' and 'false'"
+    if low in KEYWORDS:
+        return f": keywords are lower case: write '{low}'"
+    return ""

@@ -36,6 +36,8 @@ from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
+from ..ir.network import DISPLAY
+
 __all__ = ["Counterexample", "OutputReport", "Report", "MAX_COUNTEREXAMPLES", "VERDICTS",
            "combined_result", "undecided_outputs"]
 
@@ -255,3 +257,8 @@ class Report:
             "notes": list(self.notes),
             "seconds": round(self.seconds, 6),
         }
+
+    def _repr_html_(self) -> str | None:
+        """Notebook display: the verdict and a table per output (see thresholdc.htmlreport)."""
+        show = DISPLAY.get("report_html")
+        return show(self) if show else None

@@ -106,7 +106,7 @@ def check_step_network(net: Network) -> None:
     ...                            (Output("y", "y"),)))
     Traceback (most recent call last):
     ...
-    thresholdc.errors.UsageError: <input>: SAT and local verification need a step network; \
+    thresholdc.errors.UsageError: SAT and local verification need a step network; \
 this one has relu neurons (verify a soft network exhaustively, or check its certificate)
     """
     soft = sorted({n.activation for n in net.neurons if n.activation != "step"})
