@@ -30,7 +30,7 @@ from .syntax import parse_bench, parse_blif
 from .synth import MAX_VARIABLES, Realisation, is_threshold  # noqa: E402
 from .synth.identify import identify  # noqa: E402
 from .train import TrainResult, load_data, score, train  # noqa: E402
-from .verify import (
+from .verification import (
     CertificateCheck,
     Report,
     check_certificate,
