@@ -10,7 +10,13 @@ from ..api import load, verify
 from ..errors import VerificationUndecided
 from ..forcing import describe_assignment, inputs_that_matter
 from ..logic import load_source
-from ..verification import Report, check_certificate, undecided_outputs, verify_definitions
+from ..verification import (
+    METHODS,
+    Report,
+    check_certificate,
+    undecided_outputs,
+    verify_definitions,
+)
 from .common import add_parser, fmt_num, format_table, print_json
 
 
@@ -29,7 +35,7 @@ def register(subparsers: Any) -> None:
     )
     p.add_argument("network", metavar="NET", help="network file (.json; .npz/.onnx with --like)")
     p.add_argument("source", metavar="SOURCE", help="rule file, .bench or .blif netlist")
-    p.add_argument("--method", choices=("auto", "exhaustive", "local", "sat", "bounds"),
+    p.add_argument("--method", choices=METHODS,
                    default="auto",
                    help="auto: exhaustive when the table is small (2^inputs x (neurons + 1) "
                    "<= 2^23 and inputs <= --max-inputs), else local + SAT for step networks "

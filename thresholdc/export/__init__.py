@@ -25,7 +25,8 @@ from typing import Any
 
 from ..errors import UsageError
 from ..extras import install_hint
-from ..ir.network import Network
+from ..ir.network import Network, register_writer
+from ..network import dumps
 from ..network import load as load_network_file
 from ..network import save as save_network_file
 
@@ -183,3 +184,7 @@ def load_any(path: str, like: Network | None = None) -> Network:
     if suffix == ".json":
         return load_network_file(path)
     return load_dense(path, like)
+
+
+# Network.save and Network.to_json (on the ground floor) write through these.
+register_writer(save_any, dumps)

@@ -22,6 +22,7 @@ with ``W`` of shape ``(n_out, n_in)``.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 from functools import cached_property
 from typing import Any
@@ -29,12 +30,12 @@ from typing import Any
 import numpy as np
 from scipy import sparse
 
-from ..errors import NetworkFileError
+from ..errors import NetworkFileError, UsageError
 from . import activations as act
 
 __all__ = [
     "Neuron", "Output", "Network", "ROLES", "ENCODINGS", "DEFAULT_SCALE",
-    "check_network", "real_units", "real_margins",
+    "check_network", "real_units", "real_margins", "register_writer",
 ]
 
 ROLES = ("gate", "relay", "extra")
@@ -42,6 +43,32 @@ ENCODINGS = ("binary", "bipolar")
 
 #: The scale of a real input unit that declares none.
 DEFAULT_SCALE = 1.0
+
+
+#: How :meth:`Network.save` and :meth:`Network.to_json` write: set by
+#: :func:`register_writer`, which :mod:`thresholdc.export` calls when it is imported (importing
+#: ``thresholdc`` imports it).  The ground floor cannot import the export stage itself.
+_WRITERS: dict[str, Callable[..., Any]] = {}
+
+
+def register_writer(save: Callable[[Network, str], None], dumps: Callable[[Network], str]) -> None:
+    """Install the functions behind :meth:`Network.save` (by suffix) and
+    :meth:`Network.to_json` (the network file text).
+
+    >>> sorted(_WRITERS)  # thresholdc.export has registered them
+    ['dumps', 'save']
+    """
+    _WRITERS["save"] = save
+    _WRITERS["dumps"] = dumps
+
+
+def _writer(name: str) -> Callable[..., Any]:
+    if name not in _WRITERS:
+        raise UsageError(
+            "no network writer is registered: import thresholdc.export (importing thresholdc "
+            "does) before calling Network.save or Network.to_json"
+        )
+    return _WRITERS[name]
 
 
 @dataclass(frozen=True, slots=True)
@@ -263,7 +290,9 @@ class Network:
         plan = []
         for L in sorted(by_layer):
             idx = np.array(by_layer[L], dtype=np.int64)
-            rows_, cols_, vals_ = [], [], []  # type: ignore[var-annotated]
+            rows_: list[int] = []
+            cols_: list[int] = []
+            vals_: list[float] = []
             for r, j in enumerate(idx):
                 n = self.neurons[j]
                 rows_.extend([r] * len(n.inputs))
@@ -312,6 +341,25 @@ class Network:
             layers.append((W, b, names.pop()))
             prev = [n.name for n in units]
         return layers
+
+    # ------------------------------------------------------------------ files
+    def save(self, path: str) -> None:
+        """Write the network to ``path`` in the format its suffix names (``.json`` network
+        file, ``.npz``, ``.onnx``), atomically: a temporary file, then a rename.
+
+        The same as :func:`thresholdc.export.save_any`.
+
+        >>> import tempfile, os
+        >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+        >>> p = os.path.join(tempfile.mkdtemp(), "n.json"); net.save(p)
+        >>> import thresholdc; thresholdc.load(p).neurons[0].bias
+        0.5
+        """
+        _writer("save")(self, str(path))
+
+    def to_json(self) -> str:
+        """The network file text (DESIGN.md §4); the same as :func:`thresholdc.network.dumps`."""
+        return str(_writer("dumps")(self))
 
     def __repr__(self) -> str:
         return (

@@ -309,7 +309,7 @@ def _from_sympy(e: boolalg.Boolean) -> ast.Expr:
     if isinstance(e, boolalg.Equivalent):
         return ast.BinOp("iff", args[0], args[1])
     if isinstance(e, boolalg.ITE):
-        return ast.Ite(*args)  # type: ignore[arg-type]
+        return ast.Ite(args[0], args[1], args[2])
     if isinstance(e, boolalg.Implies):
         return ast.BinOp("implies", args[0], args[1])
     raise AssertionError(f"unexpected sympy node {type(e).__name__}")

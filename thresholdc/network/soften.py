@@ -451,7 +451,8 @@ def certify_gains(
             assert room > 0, "budgets keep every margin half free"
             g = _ceil_sig(_gain_numerator(float(budget[j]), activation) / room, GAIN_DIGITS)
         else:
-            g = float(gain)  # type: ignore[arg-type]
+            assert gain is not None, "a gain or a budget is given"
+            g = float(gain)
         gains[j] = g
         bounds[j] = _ceil_sig(deviation(g * room, activation), BOUND_DIGITS)
     neurons = tuple(

@@ -32,6 +32,7 @@ from typing import Any
 
 from ..errors import UsageError, VerificationUndecided
 from ..ir.network import Network
+from ..ir.options import VERIFY_METHODS
 from .bounds import verify_bounds
 from .domain import check_names, is_typed_source, typed_domain
 from .exhaustive import verify_exhaustive
@@ -44,7 +45,8 @@ from .typed import verify_typed
 
 __all__ = ["verify_network", "merge_reports", "METHODS"]
 
-METHODS = ("auto", "exhaustive", "local", "sat", "bounds")
+#: The methods of verify_network (the compile choices without "none").
+METHODS = tuple(m for m in VERIFY_METHODS if m != "none")
 #: Below this many unit evaluations (2^inputs × (neurons + 1)) ``auto`` checks every
 #: assignment; above it, local and SAT go first (exact too, and far cheaper on big tables).
 EXHAUSTIVE_WORK = 1 << 23
