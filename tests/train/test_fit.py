@@ -7,8 +7,8 @@ import pytest
 
 from thresholdc.errors import UsageError
 from thresholdc.network.model import Network, Neuron, Output
-from thresholdc.train.fit import train
-from thresholdc.train.warmstart import LINK_SCALE, prepare_start
+from thresholdc.training.fit import train
+from thresholdc.training.warmstart import LINK_SCALE, prepare_start
 
 # y = (a and b) or c, as a two-layer step network; z = not d reads only d.
 RULES = Network(

@@ -9,10 +9,10 @@ from typing import Any
 
 from ..api import load
 from ..errors import UsageError
-from ..train.data import load_data, parse_label_specs
-from ..train.fit import DEFAULT_LR, DEFAULTS, train
-from ..train.scoring import score
-from .common import add_parser, fmt_num, print_json
+from ..training.data import load_data, parse_label_specs
+from ..training.fit import DEFAULT_LR, DEFAULTS, train
+from ..training.scoring import score
+from .common import add_parser, fmt_num, print_json, warn
 from .score import add_data_arguments
 
 SUFFIXES = (".json", ".npz", ".onnx")
@@ -98,6 +98,8 @@ def run(args: argparse.Namespace) -> int:
     net = load(args.network, like=like)
     labels = parse_label_specs(args.label)
     data = load_data(args.data, net, labels=labels, positive=args.positive, require_labels=True)
+    for note in data.warnings():
+        warn(note)
     freeze = tuple(s.strip() for s in args.freeze.split(",") if s.strip())
     result = train(
         net, data.X, data.y, outputs=data.outputs, epochs=args.epochs, seed=args.seed,

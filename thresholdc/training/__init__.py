@@ -3,7 +3,7 @@
 - :func:`load_data` reads a CSV file into the input units and labels of a network;
 - :func:`score` counts how often the network's outputs match the labels;
 - :func:`train` fits the network to labelled rows, starting from its rules with certified
-  sigmoid gains and an anchor toward them (see :mod:`thresholdc.train.fit` for the defaults).
+  sigmoid gains and an anchor toward them (see :mod:`thresholdc.training.fit` for the defaults).
 
 >>> import numpy as np
 >>> from thresholdc.network.model import Network, Neuron, Output

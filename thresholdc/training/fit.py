@@ -2,13 +2,13 @@
 
 The steps, in order:
 
-1. the start (:func:`thresholdc.train.warmstart.prepare_start`): certified sigmoid gains,
+1. the start (:func:`thresholdc.training.warmstart.prepare_start`): certified sigmoid gains,
    strict layers, dense links, extra units, frozen neurons, or a random start;
 2. a seeded split of the rows into a training part and a validation part (``validation``);
 3. the anchor λ: fixed, or chosen by k-fold cross-validation on all rows
-   (:func:`thresholdc.train.anchor.choose_anchor`);
+   (:func:`thresholdc.training.anchor.choose_anchor`);
 4. mini-batch training on the training part with early stopping on the validation part
-   (:func:`thresholdc.train.loop.fit_params`);
+   (:func:`thresholdc.training.loop.fit_params`);
 5. the trained dense network, with the training options in ``meta.training``.
 
 Defaults (chosen for small, noisy tabular problems by ``benchmarks/training_bench.py``):
@@ -79,7 +79,7 @@ class TrainResult:
     """A finished training run.
 
     ``network`` is the trained dense network, ``start`` the dense network training began
-    from, ``history`` one :class:`~thresholdc.train.loop.Epoch` per epoch run (epoch 0 is the
+    from, ``history`` one :class:`~thresholdc.training.loop.Epoch` per epoch run (epoch 0 is the
     start), ``best_epoch`` the epoch whose parameters were kept, ``anchor`` the λ used and how
     it was chosen, ``frozen`` the neurons kept fixed, ``outputs`` the trained outputs.
     """
@@ -233,7 +233,7 @@ def train(
     network : Network
         A compiled step network (the usual case) or a soft strict layered one.
     X : array, (rows, len(network.inputs))
-        Input units (see :func:`thresholdc.train.data.load_data`).
+        Input units (see :func:`thresholdc.training.data.load_data`).
     y : array, (rows, len(outputs))
         0/1 labels of the trained outputs.
     outputs : sequence of str, optional

@@ -11,7 +11,7 @@ always chose the strongest anchor and never repaired a wrong rule.
 
 >>> import numpy as np
 >>> from thresholdc.network.model import Network, Neuron, Output
->>> from thresholdc.train.mlp import Layout
+>>> from thresholdc.training.mlp import Layout
 >>> net = Network(("a",), (Neuron("y", 1, ("a",), (6.0,), -3.0, "sigmoid"),), (Output("y", "y"),))
 >>> lay = Layout.of(net); W, b = lay.params(net)
 >>> X = np.tile([[0.0], [1.0]], (6, 1)); T = X.copy()
@@ -81,7 +81,7 @@ def choose_anchor(
 ) -> AnchorChoice:
     """Pick λ from ``grid`` by ``folds``-fold cross-validation (see the module docstring).
 
-    ``fit_options`` go to :func:`thresholdc.train.loop.fit_params` (epochs, lr, batch,
+    ``fit_options`` go to :func:`thresholdc.training.loop.fit_params` (epochs, lr, batch,
     optimizer, loss, target, masks); fewer than two rows per fold gives
     :data:`FALLBACK_ANCHOR` with method ``"too few rows"``.
     """
