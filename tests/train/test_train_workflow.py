@@ -196,3 +196,25 @@ def test_cli_defaults_and_choices_come_from_the_options():
         assert actions[name].default == getattr(d, name)
     for name in ("epochs", "patience", "folds", "validation", "workers", "weight", "anchor"):
         assert actions[name].default == getattr(d, name)
+
+
+def test_same_bytes_whatever_the_workers_and_no_paths_in_the_file(files):
+    tmp, rules, data = files
+    outs = [tmp / "w1.json", tmp / "w2.json"]
+    for out, workers in zip(outs, ("1", "2")):
+        assert main(["train", rules, data, "-o", str(out), "--label", "y=label",
+                     "--workers", workers, "--seed", "2"]) == 0
+    one, two = (p.read_bytes() for p in outs)
+    assert one == two
+    assert str(tmp).encode() not in one
+    assert load(str(outs[0])).meta["rules"]["file"] == "r.rules"
+
+
+def test_certified_start_from_a_rule_file_compiles_it(files, capsys):
+    tmp, rules, data = files
+    assert main(["train", rules, data, "-o", str(tmp / "c.json"), "--label", "y=label",
+                 "--init", "certified", "--json", "--anchor", "1"]) == 0
+    log = json.loads(capsys.readouterr().out)
+    assert log["init"] == "certified" and log["notes"] == []
+    assert log["start_tolerance"]["decides_rules"] is True  # certified gains, tolerance 0.25
+    assert log["start_tolerance"]["worst_error"] <= 0.25 + 1e-9

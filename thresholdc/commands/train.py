@@ -121,6 +121,10 @@ def _read_network(args: argparse.Namespace) -> tuple[Any, Any]:
         raise UsageError("--rules is for a compiled NET; NET is already a rule file")
     source = load_source(args.network)
     assert source.program is not None
+    if args.init == "certified":  # the compiled network, with the compiler's defaults
+        from ..compiler import compile_source
+
+        return compile_source(source).network, source
     return rule_network(source.program), source
 
 

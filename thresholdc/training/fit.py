@@ -29,6 +29,7 @@ The steps, in order (every choice in :class:`~thresholdc.training.options.TrainO
 
 from __future__ import annotations
 
+import os
 from collections.abc import Sequence
 from dataclasses import dataclass, field, replace
 from typing import Any
@@ -219,7 +220,7 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
            options: TrainOptions | None, progress: bool, changes: dict[str, Any]) -> TrainResult:
     opt = options or TrainOptions()
     if changes:
-        opt = TrainOptions.of(**{**opt.to_dict(), **changes})
+        opt = TrainOptions.of(**{**opt.to_dict(), "workers": opt.workers, **changes})
     names = list(network.output_names) if outputs is None else list(outputs)
     unknown = [n for n in names if n not in network.output_names]
     if unknown:
@@ -329,7 +330,8 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
     meta = {k: v for k, v in network.meta.items()
             if k not in ("certificate", "verification", "start", "training")}
     if source is not None:
-        meta["rules"] = {"file": source.file, "sha256": source.sha256, "text": source.text}
+        meta["rules"] = {"file": os.path.basename(source.file), "sha256": source.sha256,
+                         "text": source.text}
     start_net = _raw_net(start, start.weights, start.biases, shift, scale, dict(meta))
     tolerance = None
     if source is not None and init != "random":

@@ -35,6 +35,7 @@ All weights are proportional to ω: :func:`rule_network` builds the network for 
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass, field
 
 from .. import __version__
@@ -253,8 +254,8 @@ class _Builder:
             for n in order
         )
         outputs = tuple(Output(o, sources[o]) for o in prog.outputs)
-        meta = {"tool": f"thresholdc {__version__}", "start": {"rules": prog.file,
-                                                              "weight": weight}}
+        meta = {"tool": f"thresholdc {__version__}",
+                "start": {"rules": os.path.basename(prog.file), "weight": weight}}
         return Network(tuple(self.inputs), neurons, outputs, meta, "binary",
                        network_features(prog))
 

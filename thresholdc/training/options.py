@@ -187,7 +187,13 @@ class TrainOptions:
         return self.anchor == "auto" or (self.weight == "auto" and self.init != "certified")
 
     def to_dict(self) -> dict[str, Any]:
-        """The options as recorded in ``meta.training.options`` (JSON types)."""
+        """The options as recorded in ``meta.training.options`` (JSON types), without
+        ``workers``, which never changes the result (so the file does not depend on it).
+
+        >>> "workers" in TrainOptions().to_dict(), TrainOptions().to_dict()["init"]
+        (False, 'rules')
+        """
         d = asdict(self)
         d["freeze"] = list(self.freeze)
+        del d["workers"]
         return d
