@@ -32,7 +32,7 @@ sys.path.insert(0, os.path.dirname(__file__))
 
 from training_scenario import labels, rules_text, sample  # noqa: E402
 
-from thresholdc.source import Source  # noqa: E402
+from thresholdc.logic import source_from_text  # noqa: E402
 from thresholdc.training import TrainOptions, rule_network, train  # noqa: E402
 from thresholdc.training.mlp import Layout  # noqa: E402
 
@@ -109,8 +109,8 @@ def main() -> None:
     ap.add_argument("--workers", type=int, default=2)
     ap.add_argument("--seed", type=int, default=0)
     args = ap.parse_args()
-    true = Source.from_text(rules_text(args.readings, args.levels), "depot.rules")
-    bad = Source.from_text(rules_text(args.readings, args.levels, "literal"), "depot.rules")
+    true = source_from_text(rules_text(args.readings, args.levels), "depot.rules")
+    bad = source_from_text(rules_text(args.readings, args.levels, "literal"), "depot.rules")
     rng = np.random.default_rng(args.seed)
     X = sample(args.rows, args.readings, args.levels, rng)
     y = labels(true, X, 0.07, rng)

@@ -31,15 +31,15 @@ sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 
 from training_scenario import labels, rules_text, sample  # noqa: E402
 
-from thresholdc.source import Source  # noqa: E402
+from thresholdc.logic import source_from_text  # noqa: E402
 from thresholdc.training import rule_network, train  # noqa: E402
 
 READINGS, LEVELS, NOISE, TEST_ROWS = 32, 4, 0.07, 3000
 
 
 def one(degrade: str, rows: int, seed: int) -> dict[str, float]:
-    true = Source.from_text(rules_text(READINGS, LEVELS), "depot.rules")
-    bad = Source.from_text(rules_text(READINGS, LEVELS, degrade), "depot.rules")
+    true = source_from_text(rules_text(READINGS, LEVELS), "depot.rules")
+    bad = source_from_text(rules_text(READINGS, LEVELS, degrade), "depot.rules")
     rng = np.random.default_rng([seed, rows])
     X = sample(rows, READINGS, LEVELS, rng)
     y = labels(true, X, NOISE, rng)

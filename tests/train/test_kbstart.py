@@ -10,7 +10,7 @@ from hypothesis import given, settings
 
 from tests.logic.test_reference_sympy import _sympy_table
 from tests.strategies import rule_cases
-from thresholdc.source import Source
+from thresholdc.logic import source_from_text
 from thresholdc.syntax.parser import parse
 from thresholdc.training.kbstart import rule_network
 from thresholdc.training.tolerance import start_tolerance
@@ -73,7 +73,7 @@ def test_start_with_large_weight_decides_every_rule_as_sympy_does(case):
 
 
 def test_tolerance_is_the_exact_worst_error_over_the_rule_domain():
-    src = Source.from_text("input a, b, c\ny = (a and b) or c\n")
+    src = source_from_text("input a, b, c\ny = (a and b) or c\n")
     net = rule_network(src.program, weight=4.0)
     t = start_tolerance(net, src)
     X = np.array(list(itertools.product((0, 1), repeat=3)), dtype=float)
@@ -85,13 +85,13 @@ def test_tolerance_is_the_exact_worst_error_over_the_rule_domain():
 
 
 def test_tolerance_of_a_typed_start_counts_only_valid_assignments():
-    src = Source.from_text("input colour: {red, green, blue}, a\ny = colour == red or a\n")
+    src = source_from_text("input colour: {red, green, blue}, a\ny = colour == red or a\n")
     t = start_tolerance(rule_network(src.program, weight=6.0), src)
     assert t["method"] == "exhaustive" and t["assignments"] == 6 and t["decides_rules"]
 
 
 def test_moderate_weight_start_can_fail_to_decide_deep_rules_and_says_so():
-    src = Source.from_text(
+    src = source_from_text(
         "input a, b, c, d\nt = a implies b\nu = if a then b else c\nv = parity(a, b, c, d)\n"
         "q = t iff u\noutput v, q\n")
     low = start_tolerance(rule_network(src.program, weight=2.0), src)

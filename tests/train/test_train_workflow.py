@@ -10,8 +10,9 @@ import pytest
 
 from thresholdc import compile_rules
 from thresholdc.cli import main
+from thresholdc.export import save_any
+from thresholdc.logic import source_from_text
 from thresholdc.network.fileformat import load
-from thresholdc.source import Source
 from thresholdc.training import TrainOptions, rule_network, train
 
 RULES = "input a, b, c, d\nt = a and not b\ny = t or (c and d)\n"
@@ -20,7 +21,7 @@ RULES = "input a, b, c, d\nt = a and not b\ny = t or (c and d)\n"
 def _rows(n, seed, noise=0.05):
     rng = np.random.default_rng(seed)
     X = rng.integers(0, 2, size=(n, 4)).astype(float)
-    y = Source.from_text(RULES).evaluate(X).astype(float)
+    y = source_from_text(RULES).evaluate(X).astype(float)
     flip = rng.random(y.shape) < noise
     return X, np.where(flip, 1 - y, y)
 
@@ -70,7 +71,7 @@ def test_a_trained_network_remembers_its_rules(files, capsys):
 def test_compiled_network_with_its_rule_file(files, capsys):
     tmp, rules, data = files
     net = tmp / "c.json"
-    compile_rules(RULES).save(str(net))
+    save_any(compile_rules(RULES), str(net))
     out = tmp / "t.json"
     assert main(["train", str(net), data, "-o", str(out), "--label", "y=label", "--rules", rules,
                  "--json", "--anchor", "1", "--weight", "4"]) == 0
@@ -115,7 +116,7 @@ def test_output_without_a_label_column_is_warned(tmp_path, capsys):
 
 def test_worse_than_the_start_on_held_out_rows_is_said():
     # labels that ignore the rules: the held-out error before and after decides the flag
-    src = Source.from_text(RULES)
+    src = source_from_text(RULES)
     seen = []
     for seed in range(6):
         rng = np.random.default_rng(seed)
@@ -135,7 +136,7 @@ def test_worse_than_the_start_on_held_out_rows_is_said():
 def test_real_input_of_range_0_to_1000_keeps_the_rules_accuracy(init):
     # a real input in [0, 1000] with the default scale: training used to break this rule
     text = "input temp: real in [0, 1000], door\nhot = temp > 500 and door\n"
-    src = Source.from_text(text)
+    src = source_from_text(text)
     rng = np.random.default_rng(1)
     temp = rng.uniform(0, 1000, size=400)
     door = rng.integers(0, 2, size=400)
@@ -157,11 +158,11 @@ def test_widen_works_at_every_depth():
     layered = compile_rules(text, layered=True)
     assert layered.depth >= 2
     X = np.array(list(np.ndindex(*(2,) * 5)), dtype=float)
-    y = Source.from_text(text).evaluate(X).astype(float)
+    y = source_from_text(text).evaluate(X).astype(float)
     r = train(layered, X, y, widen=1, anchor=1.0, weight=4.0, init="certified")
     for layer, counts in r.network.layer_sizes().items():
         assert counts["extra"] == (1 if layer < r.network.depth else 0)
-    src = Source.from_text(text)
+    src = source_from_text(text)
     deep = rule_network(src.program)
     assert deep.depth >= 3
     r = train(deep, X, y, rules=src, widen=2, anchor=1.0, weight=4.0)
@@ -173,7 +174,7 @@ def test_widen_works_at_every_depth():
 
 def test_same_result_for_any_number_of_workers():
     X, y = _rows(90, 3, noise=0.1)
-    src = Source.from_text(RULES)
+    src = source_from_text(RULES)
     one = train(rule_network(src.program), X, y, rules=src, workers=1)
     two = train(rule_network(src.program), X, y, rules=src, workers=2)
     assert one.network == two.network

@@ -8,8 +8,10 @@ import sys
 from typing import Any
 
 from ..api import load
+from ..compiler import compile_source
 from ..errors import UsageError
-from ..source import NETLIST_SUFFIXES, load_source
+from ..export import save_any
+from ..logic import NETLIST_SUFFIXES, load_source
 from ..training.data import load_data, parse_label_specs
 from ..training.fit import TrainResult, train
 from ..training.kbstart import rule_network
@@ -122,8 +124,6 @@ def _read_network(args: argparse.Namespace) -> tuple[Any, Any]:
     source = load_source(args.network)
     assert source.program is not None
     if args.init == "certified":  # the compiled network, with the compiler's defaults
-        from ..compiler import compile_source
-
         return compile_source(source).network, source
     return rule_network(source.program), source
 
@@ -160,12 +160,7 @@ def run(args: argparse.Namespace) -> int:
     trained = result.network.with_meta(training=training)
     before = score(result.start, data)
     after = score(trained, data)
-    if suffix == ".json":
-        trained.save(args.output)
-    else:
-        from ..export import save_any
-
-        save_any(trained, args.output)
+    save_any(trained, args.output)
     if args.json:
         log = {"network": args.network, "data": args.data, "output": args.output,
                "rows": data.rows, "warnings": data.warnings(), **result.to_dict(),

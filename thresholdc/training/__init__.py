@@ -6,7 +6,7 @@
 - :func:`train` fits a network to labelled rows (every choice in :class:`TrainOptions`).
 
 >>> import numpy as np
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> rules = Network(("a",), (Neuron("y", 1, ("a",), (1,), -0.5, origin="y"),), (Output("y", "y"),))
 >>> X = np.array([[0.0], [1.0]] * 4)
 >>> train(rules, X, X, anchor=0.1, workers=1).network.decide([[0], [1]]).ravel().tolist()

@@ -18,7 +18,7 @@ The steps, in order (every choice in :class:`~thresholdc.training.options.TrainO
    training are recorded in ``meta.training``.
 
 >>> import numpy as np
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> rules = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5, origin="y"),),
 ...                 (Output("y", "y"),))
 >>> X = np.array([[0, 0], [0, 1], [1, 0], [1, 1]] * 4, dtype=float)
@@ -35,9 +35,11 @@ from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
+from scipy.sparse import csr_array
 
 from ..errors import UsageError
-from ..network.model import Network
+from ..ir.network import Network
+from ..logic import source_from_text
 from .kbstart import rule_network
 from .lbfgs import Problem, fit, pack
 from .loop import Epoch
@@ -45,6 +47,7 @@ from .options import ANCHOR_GRID, WEIGHT_GRID, TrainOptions
 from .scaling import from_standard, input_scaling, standardise
 from .search import Search, search, walk_path
 from .threads import one_blas_thread
+from .tolerance import start_tolerance
 from .warmstart import Start, prepare_start, soft_network
 
 __all__ = ["TrainResult", "train", "DEFAULT_NORM"]
@@ -138,15 +141,13 @@ def _split(n: int, fraction: float, rng: np.random.Generator) -> tuple[np.ndarra
 
 def _rules_of(network: Network, rules: Any) -> Any:
     """The rule source to build the start from: ``rules``, or the one recorded in meta."""
-    from ..source import Source
-
     if rules is None:
         recorded = (network.meta or {}).get("rules")
         if not recorded or not recorded.get("text"):
             return None
-        rules = Source.from_text(recorded["text"], recorded.get("file", "<rules>"), "rules")
+        rules = source_from_text(recorded["text"], recorded.get("file", "<rules>"), "rules")
     elif isinstance(rules, str):
-        rules = Source.from_text(rules, "<rules>", "rules")
+        rules = source_from_text(rules, "<rules>", "rules")
     if getattr(rules, "program", None) is None:
         raise UsageError("the rule-structured start needs a rule file, not a netlist")
     if tuple(rules.inputs) != tuple(network.inputs):
@@ -200,7 +201,7 @@ def train(
         0/1 labels of the trained outputs.
     outputs : sequence of str, optional
         The outputs ``y``'s columns label, in network order (default: every output).
-    rules : Source or str, optional
+    rules : RuleSource or str, optional
         The rule file the network was compiled from (default: ``meta.rules`` if recorded);
         with it ``init="rules"`` builds the rule-structured start.
     options : TrainOptions, optional
@@ -276,8 +277,6 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
 
     Xfit: Any = Xs
     if optimizer == "lbfgs" and np.count_nonzero(Xs) <= SPARSE_BELOW * Xs.size:
-        from scipy.sparse import csr_array
-
         Xfit = csr_array(Xs)
 
     def problem(w: float) -> tuple[Problem, np.ndarray]:
@@ -335,8 +334,6 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
     start_net = _raw_net(start, start.weights, start.biases, shift, scale, dict(meta))
     tolerance = None
     if source is not None and init != "random":
-        from .tolerance import start_tolerance
-
         tolerance = start_tolerance(start_net, source, time_limit=opt.bound_time)
     training = {
         "options": opt.to_dict(),

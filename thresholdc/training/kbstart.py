@@ -38,11 +38,10 @@ from __future__ import annotations
 import os
 from dataclasses import dataclass, field
 
-from .. import __version__
-from ..logic.lower import input_units
-from ..logic.typed import feature_scale, network_features, strict_real_test
-from ..network.model import Network, Neuron, Output
-from ..syntax import ast
+from ..ir import program as ast
+from ..ir.network import Network, Neuron, Output
+from ..logic import feature_scale, input_units, network_features, strict_real_test
+from ..version import __version__
 
 __all__ = ["rule_network", "REAL_MIN_SLOPE_FRACTION"]
 

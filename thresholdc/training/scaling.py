@@ -7,7 +7,7 @@ The first layer's weights are converted in both directions: with ``x = lo + s·x
 ``W x + b = (W s) x' + (b + W lo)``, so a trained network is written in the user's units.
 
 >>> import numpy as np
->>> from thresholdc.network.model import Network
+>>> from thresholdc.ir.network import Network
 >>> net = Network(("t", "a"), (), (), features=({"name": "t", "kind": "real", "units": ["t"],
 ...               "range": [0, 1000], "scale": 1}, {"name": "a", "kind": "bool", "units": ["a"]}))
 >>> sh, sc = input_scaling(net, np.array([[5.0, 1.0]]))

@@ -18,7 +18,7 @@ Paths are independent, so they run in ``workers`` processes; each is determinist
 result does not depend on the number of workers.
 
 >>> import numpy as np
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> from thresholdc.training.mlp import Layout
 >>> from thresholdc.training.lbfgs import Problem, pack
 >>> net = Network(("a",), (Neuron("y", 1, ("a",), (4.0,), -2.0, "sigmoid"),), (Output("y", "y"),))

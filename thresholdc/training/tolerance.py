@@ -8,9 +8,9 @@ at most ``0.5 − min_margin`` (for real inputs: outside a band of ± scale arou
 threshold, as that verifier states).  A start whose worst error is below 0.5 decides every
 rule as written.
 
->>> from thresholdc.source import Source
+>>> from thresholdc.logic import source_from_text
 >>> from thresholdc.training.kbstart import rule_network
->>> src = Source.from_text("input a, b\\ny = a and b\\n")
+>>> src = source_from_text("input a, b\\ny = a and b\\n")
 >>> t = start_tolerance(rule_network(src.program, weight=4.0), src)
 >>> t["method"], round(t["worst_error"], 4), t["decides_rules"]
 ('exhaustive', 0.1192, True)
@@ -23,8 +23,8 @@ from typing import Any
 import numpy as np
 
 from ..errors import VerificationUndecided
-from ..network.model import Network
-from ..verify.domain import boolean_or_typed_domain, network_rows
+from ..ir.network import Network
+from ..verify import boolean_or_typed_domain, network_rows, verify_bounds
 
 __all__ = ["MAX_ENUMERATED", "start_tolerance"]
 
@@ -61,7 +61,7 @@ def start_tolerance(net: Network, source: Any, *, time_limit: float = 1.0) -> di
     net : Network
         A soft network (sigmoid outputs in the binary encoding) with the source's inputs and
         outputs.
-    source : Source
+    source : RuleSource
         The rules.
     time_limit : float
         Seconds the bounds search may take where the domain is not enumerated.
@@ -79,8 +79,6 @@ def start_tolerance(net: Network, source: Any, *, time_limit: float = 1.0) -> di
     if time_limit <= 0:
         return {"method": "bounds", "worst_error": None, "decides_rules": None,
                 "note": "not bounded (no time given)"}
-    from ..verify.bounds import verify_bounds
-
     try:
         report = verify_bounds(net, source, time_limit=time_limit, max_nodes=50_000)
     except VerificationUndecided as exc:
