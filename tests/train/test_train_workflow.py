@@ -219,3 +219,13 @@ def test_certified_start_from_a_rule_file_compiles_it(files, capsys):
     assert log["init"] == "certified" and log["notes"] == []
     assert log["start_tolerance"]["decides_rules"] is True  # certified gains, tolerance 0.25
     assert log["start_tolerance"]["worst_error"] <= 0.25 + 1e-9
+
+
+def test_options_a_run_cannot_honour_are_named(files, capsys):
+    tmp, rules, data = files
+    assert main(["train", rules, data, "-o", str(tmp / "t.json"), "--label", "y=label",
+                 "--lr", "0.1", "--tolerance", "0.1", "--validation", "0.3"]) == 0
+    err = capsys.readouterr().err
+    assert "warning: lr has no effect with the lbfgs optimizer" in err
+    assert "warning: tolerance has no effect: it sets the certified start" in err
+    assert "warning: validation has no effect: λ and ω are searched" in err

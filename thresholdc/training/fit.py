@@ -157,6 +157,26 @@ def _rules_of(network: Network, rules: Any) -> Any:
     return rules
 
 
+def _unused(opt: TrainOptions, init: str, optimizer: str, searched: bool) -> list[str]:
+    """A note for every option set away from its default that this run cannot honour.
+
+    >>> notes = _unused(TrainOptions(lr=0.1, tolerance=0.1), "rules", "lbfgs", True)
+    >>> len(notes), notes[0]
+    (2, 'lr has no effect with the lbfgs optimizer (Adam and SGD only)')
+    """
+    d = TrainOptions()
+    out = []
+    if optimizer == "lbfgs":
+        out += [f"{name} has no effect with the lbfgs optimizer (Adam and SGD only)"
+                for name in ("lr", "batch") if getattr(opt, name) != getattr(d, name)]
+    if init != "certified" and opt.tolerance != d.tolerance:
+        out.append("tolerance has no effect: it sets the certified start (--init certified)")
+    if searched and opt.validation != d.validation:
+        out.append("validation has no effect: λ and ω are searched, and early stopping uses"
+                   " the cross-validation folds")
+    return out
+
+
 def _standard_net(net: Network, shift: np.ndarray, scale: np.ndarray) -> Network:
     """A soft strict layered network with its first layer for standardised inputs."""
     col = {u: i for i, u in enumerate(net.inputs)}
@@ -318,6 +338,7 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
             held = {"rows": int(len(va)), "start_error": 1.0 - e0.validation_accuracy,
                     "error": 1.0 - eb.validation_accuracy, "start_loss": e0.validation_loss,
                     "loss": eb.validation_loss}
+    notes.extend(_unused(opt, init, optimizer, found is not None))
     if held is not None:
         held["worse"] = bool(held["error"] > held["start_error"] + 1e-12)
         if held["worse"]:
