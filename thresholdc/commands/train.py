@@ -104,6 +104,9 @@ def register(subparsers: Any) -> None:
     p.add_argument("--tolerance", type=float, default=d.tolerance, metavar="EPS",
                    help="certified distance from the rules of the --init certified start "
                    f"(default {d.tolerance})")
+    p.add_argument("--bound-time", type=float, default=d.bound_time, metavar="SECONDS",
+                   help="time to bound the start's worst error where the rule domain is too "
+                   f"large to enumerate; 0: skip (default {d.bound_time:g})")
     p.add_argument("--seed", type=int, default=d.seed, metavar="S",
                    help=f"seed of every random choice (default {d.seed})")
     p.add_argument("--json", action="store_true", help="print the training log as JSON")
@@ -140,7 +143,7 @@ def run(args: argparse.Namespace) -> int:
         optimizer=args.optimizer, epochs=args.epochs, patience=args.patience, folds=args.folds,
         validation=args.validation, workers=args.workers, widen=args.widen,
         freeze=args.freeze, tolerance=args.tolerance, lr=args.lr, batch=args.batch,
-        seed=args.seed,
+        bound_time=args.bound_time, seed=args.seed,
     )
     net, source = _read_network(args)
     labels = parse_label_specs(args.label)
@@ -190,9 +193,9 @@ def _tolerance_line(t: dict[str, Any] | None) -> str | None:
     if t is None:
         return None
     if t.get("worst_error") is None:
-        why = "decides the rules" if t.get("decides_rules") else (
-            "disagrees with the rules" if t.get("decides_rules") is False else "not bounded")
-        return f"  tolerance    {why} ({t['method']})"
+        if t.get("decides_rules") is False:
+            return "  tolerance    the start disagrees with the rules (branch and bound)"
+        return "  tolerance    not bounded within --bound-time (domain too large to enumerate)"
     verdict = "decides every rule" if t.get("decides_rules") else "does not decide every rule"
     how = ("exact over " + str(t["assignments"]) + " assignments") if t["method"] == \
         "exhaustive" else "upper bound, branch and bound"
