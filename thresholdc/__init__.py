@@ -29,7 +29,7 @@ from .syntax import parse_bench, parse_blif
 from .synth import MAX_VARIABLES, Realisation, is_threshold  # noqa: E402
 from .synth.identify import identify  # noqa: E402
 from .training import TrainOptions, TrainResult, load_data, rule_network, score, train  # noqa: E402
-from .verify import (
+from .verification import (
     CertificateCheck,
     Report,
     check_certificate,

@@ -23,7 +23,7 @@ from .ir.reference import Reference
 from .logic import load_source, network_features, source_from_text
 from .network import apply_activation, survives
 from .synth import collapse, map_to_neurons
-from .verify import Report, verify_network
+from .verification import Report, verify_network
 from .version import __version__
 
 __all__ = ["compile_rules", "compile_source", "compile_file", "CompileResult", "DEFAULTS",

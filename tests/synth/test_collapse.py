@@ -19,7 +19,7 @@ from thresholdc.ir.gates import Gate, GateGraph
 from thresholdc.ir.network import check_network
 from thresholdc.logic.source import NetlistSource
 from thresholdc.synth.collapsing import collapse
-from thresholdc.verify.local import structural_classes, verify_local
+from thresholdc.verification.local import structural_classes, verify_local
 
 
 def rows(n: int) -> np.ndarray:

@@ -14,8 +14,8 @@ from its exact step value on every input assignment::
 
 ``m`` is the pre-gain margin (min |z| over every assignment of the input units; 0.5 when they
 are too many to enumerate), ``g`` the gain folded into the neuron, ``b`` its certified
-deviation and ``B`` the largest ``b``.  :func:`thresholdc.verify.certificate.check_certificate`
-checks it.
+deviation and ``B`` the largest ``b``.
+:func:`thresholdc.verification.certificate.check_certificate` checks it.
 
 >>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5, origin="y"),),

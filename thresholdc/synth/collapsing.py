@@ -23,9 +23,9 @@ inside its cone.  ``meta["cones"]`` gives, for each neuron named after a signal,
 signal it computes and the leaves (signals carried by input units or named neurons) over which
 its sub-network is closed: evaluating the network from those leaves alone gives that neuron.
 Structural hashing merges only signals of one structural class of the local check
-(:func:`thresholdc.verify.local.structural_classes`), so a leaf or root may be any signal of
-its class, and a unit may be named after a signal of the other polarity of its class (an
-output that reads the node only complemented then needs no inverter).
+(:func:`thresholdc.verification.structural.structural_classes`), so a leaf or root may be
+any signal of its class, and a unit may be named after a signal of the other polarity of its
+class (an output that reads the node only complemented then needs no inverter).
 
 >>> from thresholdc.ir.gates import Gate, GateGraph
 >>> g = GateGraph.build(["a", "b", "c"], [("s", "s"), ("co", "co")], [

@@ -3,7 +3,7 @@
 Where the rule domain is small enough (Boolean and categorical inputs, at most
 :data:`MAX_ENUMERATED` assignments) every assignment is evaluated and the worst
 ``|output − rule value|`` is exact.  Otherwise the branch-and-bound verifier
-(:func:`thresholdc.verify.bounds.verify_bounds`) bounds it: on agreement the worst error is
+(:func:`thresholdc.verification.bounds.verify_bounds`) bounds it: on agreement the worst error is
 at most ``0.5 − min_margin`` (for real inputs: outside a band of ± scale around each rule
 threshold, as that verifier states).  A start whose worst error is below 0.5 decides every
 rule as written.
@@ -24,7 +24,7 @@ import numpy as np
 
 from ..errors import VerificationUndecided
 from ..ir.network import Network
-from ..verify import boolean_or_typed_domain, network_rows, verify_bounds
+from ..verification import boolean_or_typed_domain, network_rows, verify_bounds
 
 __all__ = ["MAX_ENUMERATED", "start_tolerance"]
 
@@ -84,10 +84,13 @@ def start_tolerance(net: Network, source: Any, *, time_limit: float = 1.0) -> di
     except VerificationUndecided as exc:
         return {"method": "bounds", "worst_error": None, "decides_rules": None,
                 "note": str(exc)}
-    if not report.equal:
-        bad = sum(o.disagreements for o in report.outputs)
+    if any(o.verdict == "different" for o in report.outputs):
+        bad = sum(o.disagreements or 0 for o in report.outputs)
         return {"method": "bounds", "worst_error": None, "decides_rules": False,
                 "disagreements": int(bad)}
+    if not report.equal:  # some output left open by a limit
+        return {"method": "bounds", "worst_error": None, "decides_rules": None,
+                "note": "not bounded within the time given"}
     worst = {o.name: 0.5 - float(o.min_margin or 0.0) for o in report.outputs}
     return {"method": "bounds", "worst_error": max(worst.values(), default=0.0),
             "outputs": worst, "decides_rules": True}

@@ -22,7 +22,7 @@ graph.
 
 >>> import numpy as np
 >>> from thresholdc.logic.source import source_from_text
->>> from thresholdc.verify.domain import boolean_or_typed_domain
+>>> from thresholdc.verification.domain import boolean_or_typed_domain
 >>> src = source_from_text("input a, b\\ny = a and b\\n")
 >>> d = boolean_or_typed_domain(src)
 >>> masks = [np.array([[True, True]]), np.array([[True, False]])]  # a free, b = 0
