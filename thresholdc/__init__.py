@@ -30,7 +30,7 @@ from .network import apply_activation, to_relu
 from .syntax import parse_bench, parse_blif
 from .synth import MAX_VARIABLES, Realisation, is_threshold  # noqa: E402
 from .synth.identify import identify  # noqa: E402
-from .train import TrainResult, load_data, score, train  # noqa: E402
+from .training import TrainOptions, TrainResult, load_data, rule_network, score, train  # noqa: E402
 from .verification import (
     CertificateCheck,
     Report,
@@ -77,6 +77,8 @@ __all__ = [
     "Report",
     "train",
     "TrainResult",
+    "TrainOptions",
+    "rule_network",
     "load_data",
     "score",
     "apply_activation",

@@ -5,7 +5,7 @@ import pytest
 from thresholdc import DataError, RuleError, compile_file
 from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.syntax.parser import parse
-from thresholdc.train.data import load_data
+from thresholdc.training.data import load_data
 
 
 def _message(text):

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 
 from thresholdc.ir.network import Network, Neuron, Output
-from thresholdc.train.mlp import Layout, data_loss, loss_and_grad
+from thresholdc.training.mlp import Layout, data_loss, loss_and_grad
 
 
 def _random_params(sizes, rng):
@@ -101,3 +101,23 @@ def test_layout_round_trip_keeps_names_roles_and_function():
     X = np.array([[0, 0], [0, 1], [1, 0], [1, 1]], dtype=float)
     np.testing.assert_allclose(back.evaluate(X), net.evaluate(X))
     assert lay.output_columns().tolist() == [0, 0]
+
+
+def test_sparse_inputs_give_the_same_loss_and_gradient_as_dense():
+    from scipy.sparse import csr_array
+
+    from thresholdc.training.mlp import loss_and_grad
+
+    rng = np.random.default_rng(4)
+    X = (rng.random((30, 12)) < 0.2).astype(float)  # mostly zero, like one-hot data
+    T = rng.integers(0, 2, size=(30, 2)).astype(float)
+    W = [rng.normal(size=(5, 12)), rng.normal(size=(3, 5))]
+    b = [rng.normal(size=5), rng.normal(size=3)]
+    acts = ("sigmoid", "sigmoid")
+    cols = np.array([0, 2])
+    for loss in ("cross-entropy", "mse"):
+        dense = loss_and_grad(W, b, acts, X, T, cols, loss)
+        sparse = loss_and_grad(W, b, acts, csr_array(X), T, cols, loss)
+        assert sparse[0] == pytest.approx(dense[0])
+        for g, h in zip(dense[1] + dense[2], sparse[1] + sparse[2]):
+            assert isinstance(h, np.ndarray) and np.allclose(g, h)

@@ -9,8 +9,8 @@ import numpy as np
 from thresholdc.cli import main
 from thresholdc.export import save_any
 from thresholdc.ir.network import Network, Neuron, Output
-from thresholdc.train.data import Dataset
-from thresholdc.train.scoring import score
+from thresholdc.training.data import Dataset
+from thresholdc.training.scoring import score
 
 OR = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -0.5, origin="y"),),
              (Output("y", "y"),))

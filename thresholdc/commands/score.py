@@ -14,7 +14,7 @@ import numpy as np
 from ..api import load
 from ..ir.network import Network
 from ..network import atomic_write, check_writable
-from ..train import Dataset, decisions, load_data, parse_label_specs, read_table, score
+from ..training import Dataset, decisions, load_data, parse_label_specs, read_table, score
 from .common import add_parser, count, format_table, print_json
 
 

@@ -13,7 +13,7 @@ tp / (tp + fn), F1 their harmonic mean 2·tp / (2·tp + fp + fn); a ratio whose 
 
 >>> import numpy as np
 >>> from thresholdc.ir.network import Network, Neuron, Output
->>> from thresholdc.train.data import Dataset
+>>> from thresholdc.training.data import Dataset
 >>> net = Network(("a",), (Neuron("y", 1, ("a",), (-1,), 0.5),), (Output("y", "y"),))
 >>> d = Dataset("d.csv", np.array([[0.0], [1.0], [1.0]]), np.array([[1.0], [0.0], [1.0]]),
 ...             ("y",), ("label",), np.array([2, 3, 4]))
@@ -39,7 +39,7 @@ def decisions(network: Network, data: Dataset) -> tuple[np.ndarray, np.ndarray]:
 
     >>> import numpy as np
     >>> from thresholdc.ir.network import Network, Neuron, Output
-    >>> from thresholdc.train.data import Dataset
+    >>> from thresholdc.training.data import Dataset
     >>> net = Network(("a",), (Neuron("y", 1, ("a",), (1,), -0.5),), (Output("y", "y"),))
     >>> d = Dataset("d", np.array([[1.0]]), np.array([[0.0]]), ("y",), ("y",), np.array([2]))
     >>> [a.tolist() for a in decisions(net, d)]
@@ -62,7 +62,7 @@ def score(network: Network, data: Dataset) -> dict[str, Any]:
     ----------
     network : Network
     data : Dataset
-        From :func:`thresholdc.train.data.load_data` for this network.
+        From :func:`thresholdc.training.data.load_data` for this network.
 
     Returns
     -------
@@ -71,7 +71,7 @@ def score(network: Network, data: Dataset) -> dict[str, Any]:
 
     >>> import numpy as np
     >>> from thresholdc.ir.network import Network, Neuron, Output
-    >>> from thresholdc.train.data import Dataset
+    >>> from thresholdc.training.data import Dataset
     >>> net = Network(("a",), (Neuron("y", 1, ("a",), (1,), -0.5),), (Output("y", "y"),))
     >>> d = Dataset("d", np.zeros((2, 1)), np.zeros((2, 1)), ("y",), ("y",), np.array([2, 3]))
     >>> o = score(net, d)["outputs"][0]; o["precision"], o["recall"], o["f1"]
