@@ -274,7 +274,10 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
     starts: dict[float, Start] = {}
     for w in weights:
         if structured:
-            assert source is not None and source.program is not None  # structured needs rules
+            assert source is not None  # structured implies a source
+            if source.program is None:
+                raise UsageError(f"{source.file}: the rule-structured start needs a rule file, "
+                                 "not a netlist (use init='certified')")
             soft = rule_network(source.program, weight=w)
             if opt.widen:
                 soft = soft_network(soft, tolerance=opt.tolerance, hidden=True)
@@ -307,8 +310,9 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
                        mask=mask, unit=w, threshold=threshold)
         return p, pack(s.weights, s.biases)
 
-    fit_options: dict[str, Any] = dict(iterations=opt.epochs, patience=opt.patience, optimizer=optimizer,
-                       lr=opt.learning_rate(optimizer), batch=opt.batch)
+    fit_options: dict[str, Any] = dict(
+        iterations=opt.epochs, patience=opt.patience, optimizer=optimizer,
+        lr=opt.learning_rate(optimizer), batch=opt.batch)
     grid: tuple[float, ...] = ANCHOR_GRID if opt.anchor == "auto" else (float(opt.anchor),)
     found: Search | None = None
     held: dict[str, Any] | None = None
