@@ -22,6 +22,7 @@ from .errors import (  # noqa: E402
     UsageError,
     VerificationUndecided,
 )
+from .explain import Diff, diff, read_units  # noqa: E402
 from .export import load_any, save_any  # noqa: E402
 from .network.model import Network, Neuron, Output  # noqa: E402
 from .network.relu import to_relu  # noqa: E402
@@ -55,6 +56,9 @@ __all__ = [
     "parse_bench",
     "parse_blif",
     "verify_typed",
+    "diff",
+    "Diff",
+    "read_units",
     "load_source",
     "identify",
     "is_threshold",

@@ -20,7 +20,8 @@ from .errors import ThresholdcError
 __all__ = ["main", "build_parser", "COMMANDS"]
 
 # Subcommand modules, in the order ``--help`` lists them.
-COMMANDS = ("compile", "verify", "inspect", "table", "export", "draw", "train", "score")
+COMMANDS = ("compile", "verify", "inspect", "table", "export", "draw", "train", "score",
+            "diff")
 
 
 class _Parser(argparse.ArgumentParser):
