@@ -35,7 +35,7 @@ import numpy as np
 
 from thresholdc import compile_rules
 from thresholdc.source import Source
-from thresholdc.train.fit import DEFAULTS, train
+from thresholdc.training.fit import DEFAULTS, train
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 RULES = os.path.join(HERE, "..", "circuits", "bike_docks.rules")

@@ -65,7 +65,10 @@ def test_json_log(files, capsys):
     assert code == 0
     log = json.loads(capsys.readouterr().out)
     assert log["rows"] == 40 and log["outputs"] == ["y"]
-    assert log["anchor"] == {"value": 0.01, "method": "fixed", "grid": []}
+    assert log["anchor"] == 0.01 and log["search"] is None
+    assert log["init"] == "certified"  # a compiled network without its rule file
+    assert "no rule file at hand" in log["notes"][0]
+    assert log["held_out"]["rows"] == 10
     assert [e["epoch"] for e in log["epochs"]][0] == 0
     assert set(log["epochs"][0]) == {"epoch", "loss", "penalty", "accuracy",
                                      "validation_loss", "validation_accuracy"}

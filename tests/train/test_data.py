@@ -7,7 +7,7 @@ import pytest
 from thresholdc.cli import main
 from thresholdc.errors import DataError, UsageError
 from thresholdc.network.model import Network, Neuron, Output
-from thresholdc.train.data import load_data, parse_label_specs, read_table
+from thresholdc.training.data import load_data, parse_label_specs, read_table
 
 AND = Network(
     ("a", "b"),
@@ -225,3 +225,25 @@ def test_score_text_and_errors(tmp_path, capsys):
     p = _write(tmp_path, "")
     assert main(["score", str(net_path), p]) == 2
     assert capsys.readouterr().err.splitlines()[0] == f"thresholdc: error: {p}:1: empty file"
+
+
+def test_positive_value_that_never_occurs_names_the_column_and_the_values(tmp_path):
+    # Y/N labels read with --positive yes would make every label false
+    p = _write(tmp_path, "a,b,ok\n1,1,Y\n0,1,N\n1,0,N\n")
+    err = _error(p, labels={"y": "ok"}, positive="yes")
+    assert str(err) == (
+        f"{p}:1: --positive 'yes' never occurs in label column 'ok' (output 'y');"
+        " values seen: 'N', 'Y'"
+    )
+
+
+def test_constant_label_column_and_unlabelled_output_are_warned(tmp_path):
+    two = Network(AND.inputs, AND.neurons, (Output("y", "y"), Output("z", "y")))
+    p = _write(tmp_path, "a,b,y\n1,1,1\n0,1,1\n")
+    notes = load_data(p, two).warnings()
+    assert notes == [
+        f"output 'z' has no label column in {p}: it is not trained (name one with"
+        " --label z=COLUMN)",
+        f"label column 'y' (output 'y') is true on every row of {p}",
+    ]
+    assert load_data(_write(tmp_path, "a,b,y\n1,1,1\n0,1,0\n"), AND).warnings() == []

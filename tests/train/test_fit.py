@@ -7,8 +7,9 @@ import pytest
 
 from thresholdc.errors import UsageError
 from thresholdc.network.model import Network, Neuron, Output
-from thresholdc.train.fit import train
-from thresholdc.train.warmstart import LINK_SCALE, prepare_start
+from thresholdc.training.fit import train
+from thresholdc.training.options import ANCHOR_GRID
+from thresholdc.training.warmstart import LINK_SCALE, prepare_start
 
 # y = (a and b) or c, as a two-layer step network; z = not d reads only d.
 RULES = Network(
@@ -49,8 +50,9 @@ def test_training_reduces_the_loss_from_wrong_rules():
     # the rules say y = (a and b) or c, the data says y = a or c
     X, _ = _data()
     y = np.column_stack([np.maximum(X[:, 0], X[:, 2]), 1 - X[:, 3]])
-    for optimizer in ("adam", "sgd"):
-        r = train(RULES, X, y, epochs=60, seed=0, validation=0, anchor=0.0, optimizer=optimizer)
+    for optimizer in ("lbfgs", "adam", "sgd"):
+        r = train(RULES, X, y, epochs=60, seed=0, validation=0, anchor=0.0, optimizer=optimizer,
+                  loss="mse", weight=4.0)
         before, after = _mse(r.start, X, y), _mse(r.network, X, y)
         assert before > 0.05  # (a and b) or c differs from a or c on an eighth of the rows
         assert after < 0.5 * before
@@ -98,7 +100,7 @@ def test_freeze_keeps_the_frozen_neurons_exactly():
     X, _ = _data()
     y = np.column_stack([np.maximum(X[:, 0], X[:, 2]), X[:, 3]])  # both outputs disagree
     r = train(RULES, X, y, epochs=60, seed=0, validation=0, anchor=0.0, freeze=["y"], widen=2,
-              lr=0.1)
+              init="certified", weight=4.0)
     assert set(r.frozen) >= {"y", "ab"}
     assert "z" not in r.frozen
     start = {n.name: n for n in r.start.neurons}
@@ -111,8 +113,8 @@ def test_freeze_keeps_the_frozen_neurons_exactly():
     assert np.array_equal(dec[:, 0], _truth(ALL)[:, 0] > 0.5)
     assert np.array_equal(dec[:, 1], ALL[:, 3] > 0.5)
     with pytest.raises(UsageError, match="no neuron named 'nope'"):
-        train(RULES, X, y, epochs=1, freeze=["nope"])
-    with pytest.raises(UsageError, match="needs --init rules"):
+        train(RULES, X, y, epochs=1, freeze=["nope"], anchor=0.0, weight=4.0)
+    with pytest.raises(UsageError, match="needs --init rules or --init certified"):
         train(RULES, X, y, epochs=1, freeze=["y"], init="random")
 
 
@@ -132,7 +134,8 @@ def test_widen_adds_a_hidden_layer_when_there_is_none():
     flat = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5, origin="y"),),
                    (Output("y", "y"),))
     X = np.array([[0, 0], [0, 1], [1, 0], [1, 1]] * 4, dtype=float)
-    r = train(flat, X, X[:, :1] * X[:, 1:], epochs=3, validation=0, anchor=0.0, widen=2)
+    r = train(flat, X, X[:, :1] * X[:, 1:], epochs=3, validation=0, anchor=0.0, widen=2,
+              weight=4.0)
     assert r.network.depth == 2
     assert r.network.layer_sizes()[1] == {"gate": 1, "relay": 0, "extra": 2}
     assert r.network.layer_sizes()[2] == {"gate": 0, "relay": 1, "extra": 0}
@@ -148,9 +151,9 @@ def _distance(a, b):
 
 def test_anchor_pulls_toward_the_start():
     X, y = _data(noise=0.2, seed=3)
-    kw = dict(epochs=40, seed=0, validation=0)
+    kw = dict(epochs=40, seed=0, validation=0, weight=4.0)
     free = train(RULES, X, y, anchor=0.0, **kw)
-    held = train(RULES, X, y, anchor=1.0, **kw)
+    held = train(RULES, X, y, anchor=3.0, **kw)
     assert _distance(held.network, held.start) < 0.1 * _distance(free.network, free.start)
     assert np.array_equal(held.network.decide(ALL), _truth(ALL) > 0.5)
     assert held.history[-1].penalty > 0 and free.history[-1].penalty == 0
@@ -158,11 +161,12 @@ def test_anchor_pulls_toward_the_start():
 
 def test_random_init_same_architecture_and_anchor_is_weight_decay():
     X, y = _data()
-    warm = train(RULES, X, y, epochs=1, seed=0, validation=0, anchor=0.0)
-    cold = train(RULES, X, y, epochs=30, seed=0, validation=0, anchor=0.0, init="random")
+    kw = dict(seed=0, validation=0, weight=4.0)
+    warm = train(RULES, X, y, epochs=1, anchor=0.0, **kw)
+    cold = train(RULES, X, y, epochs=30, anchor=0.0, init="random", **kw)
     assert [n.name for n in cold.network.neurons] == [n.name for n in warm.network.neurons]
     assert [n.inputs for n in cold.network.neurons] == [n.inputs for n in warm.network.neurons]
-    decayed = train(RULES, X, y, epochs=30, seed=0, validation=0, anchor=5.0, init="random")
+    decayed = train(RULES, X, y, epochs=30, anchor=3.0, init="random", **kw)
     zero = Network(cold.network.inputs,
                    tuple(Neuron(n.name, n.layer, n.inputs, (0.0,) * len(n.inputs), 0.0)
                          for n in cold.network.neurons), cold.network.outputs)
@@ -171,30 +175,36 @@ def test_random_init_same_architecture_and_anchor_is_weight_decay():
 
 def test_early_stopping_keeps_the_best_validation_epoch():
     X, y = _data(rows=80, noise=0.25, seed=4)
-    r = train(RULES, X, y, epochs=200, seed=0, validation=0.25, anchor=0.0, patience=5, lr=0.05)
-    losses = [e.validation_loss for e in r.history]
-    assert r.best_epoch == int(np.argmin(losses))
-    assert len(r.history) - 1 == r.best_epoch + 5 < 200 + 1
-    assert r.network.meta["training"]["validation_rows"] == 20
+    for optimizer in ("lbfgs", "adam"):
+        r = train(RULES, X, y, epochs=200, seed=0, validation=0.25, anchor=0.0, patience=5,
+                  lr=0.05, weight=4.0, optimizer=optimizer)
+        losses = [e.validation_loss for e in r.history]
+        assert r.best_epoch == int(np.argmin(losses))
+        assert len(r.history) - 1 == r.best_epoch + 5 < 200 + 1
+        assert r.network.meta["training"]["held_out"]["rows"] == 20
+        assert r.held_out["loss"] == min(losses) and r.held_out["start_loss"] == losses[0]
 
 
-def test_auto_anchor_reports_its_choice():
+def test_auto_anchor_and_weight_report_their_choice():
     X, y = _data(rows=48, noise=0.05)
-    r = train(RULES, X, y, epochs=8, seed=0)
-    grid = [s[0] for s in r.anchor.scores]
-    assert r.anchor.method == "cross-validation" and r.anchor.value in grid
-    assert r.network.meta["training"]["anchor"]["value"] == r.anchor.value
+    r = train(RULES, X, y, epochs=8, seed=0, workers=1, init="certified")
+    pairs = {(s["weight"], s["anchor"]) for s in r.search.scores}
+    assert (r.weight, r.anchor) in pairs and len(pairs) == len(ANCHOR_GRID)
+    best = min(r.search.scores, key=lambda s: s["loss"])
+    assert best["loss"] == r.search.loss
+    assert r.network.meta["training"]["anchor"] == r.anchor
 
 
 def test_trained_meta_records_options_not_certificate():
     X, y = _data(rows=16)
     net = RULES.with_meta(tool="thresholdc test", verification={"result": "equal"})
-    r = train(net, X, y, epochs=2, seed=3, validation=0, anchor=0.0)
+    r = train(net, X, y, epochs=2, seed=3, validation=0, anchor=0.0, weight=4.0)
     meta = r.network.meta
     assert meta["tool"] == "thresholdc test"
     assert "verification" not in meta and "certificate" not in meta
     assert meta["training"]["options"]["seed"] == 3
-    assert meta["training"]["options"]["optimizer"] == "adam"
+    assert meta["training"]["optimizer"] == "lbfgs"
+    assert meta["training"]["loss"] == "cross-entropy"
 
 
 @pytest.mark.parametrize(
@@ -205,7 +215,11 @@ def test_trained_meta_records_options_not_certificate():
         ({"validation": 1.0}, "'validation' option of train must be a fraction"),
         ({"anchor": "strong"}, "'anchor' option of train must be 'auto' or a number"),
         ({"tolerance": 0.5}, "'tolerance' option of train must be between 0 and 0.5"),
-        ({"optimizer": "rmsprop"}, "'optimizer' option of train must be one of sgd, adam"),
+        ({"optimizer": "rmsprop"},
+         "'optimizer' option of train must be one of auto, lbfgs, adam, sgd"),
+        ({"weight": 0}, "'weight' option of train must be 'auto' or a number > 0"),
+        ({"folds": 1}, "'folds' option of train must be a whole number ≥ 2"),
+        ({"colour": 1}, "unknown option 'colour' of train; known: init, weight"),
         ({"outputs": ["nope"]}, "unknown output 'nope'"),
     ],
 )
@@ -227,7 +241,7 @@ def test_bad_arrays():
 
 def test_subset_of_outputs():
     X, y = _data(rows=16)
-    r = train(RULES, X, y[:, 1:], outputs=["z"], epochs=3, validation=0, anchor=0.0)
+    r = train(RULES, X, y[:, 1:], outputs=["z"], epochs=3, validation=0, anchor=0.0, weight=4.0)
     assert r.outputs == ("z",)
 
 
@@ -243,5 +257,6 @@ def test_real_valued_input_keeps_the_rule_at_the_start():
     X = np.column_stack([temp, door]).astype(float)
     y = ((temp > 500) & (door == 1)).astype(float)[:, None]
     for seed in range(3):
-        r = train(net, X, y, epochs=0, seed=seed, anchor=0.0, widen=2)
+        r = train(net, X, y, epochs=0, seed=seed, anchor=0.0, widen=2, init="certified",
+                  weight=4.0)
         assert np.array_equal(r.start.decide(X), y > 0.5)

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 
 from thresholdc.network.model import Network, Neuron, Output
-from thresholdc.train.mlp import Layout, data_loss, loss_and_grad
+from thresholdc.training.mlp import Layout, data_loss, loss_and_grad
 
 
 def _random_params(sizes, rng):

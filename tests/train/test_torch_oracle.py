@@ -3,8 +3,8 @@
 import numpy as np
 import pytest
 
-from thresholdc.train.loop import Adam
-from thresholdc.train.mlp import loss_and_grad
+from thresholdc.training.loop import Adam
+from thresholdc.training.mlp import loss_and_grad
 
 torch = pytest.importorskip("torch")
 

@@ -7,8 +7,8 @@ import sys
 from typing import Any
 
 from ..api import load
-from ..train.data import load_data, parse_label_specs
-from ..train.scoring import score
+from ..training.data import load_data, parse_label_specs
+from ..training.scoring import score
 from .common import add_parser, format_table, print_json
 
 

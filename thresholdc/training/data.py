@@ -97,10 +97,36 @@ class Dataset:
     columns: tuple[str, ...]
     lines: np.ndarray = field(repr=False)
     sha256: str = ""
+    unlabelled: tuple[str, ...] = ()
 
     @property
     def rows(self) -> int:
         return int(self.X.shape[0])
+
+    def warnings(self) -> list[str]:
+        """What training should know about the labels: outputs without a label column and
+        label columns that hold a single value (nothing to learn from them).
+
+        >>> d = Dataset("d.csv", np.zeros((2, 1)), np.ones((2, 1)), ("y",), ("ok",),
+        ...             np.array([2, 3]), unlabelled=("z",))
+        >>> d.warnings()  # doctest: +NORMALIZE_WHITESPACE
+        ["output 'z' has no label column in d.csv: it is not trained (name one with
+          --label z=COLUMN)", "label column 'ok' (output 'y') is true on every row of d.csv"]
+        """
+        notes = [
+            f"output {name!r} has no label column in {self.file}: it is not trained"
+            f" (name one with --label {name}=COLUMN)"
+            for name in self.unlabelled
+        ]
+        for k, (name, column) in enumerate(zip(self.outputs, self.columns, strict=True)):
+            col = self.y[:, k]
+            if col.size and np.all(col == col[0]):
+                value = "true" if col[0] > 0.5 else "false"
+                notes.append(
+                    f"label column {column!r} (output {name!r}) is {value} on every row of"
+                    f" {self.file}"
+                )
+        return notes
 
     def __repr__(self) -> str:
         return f"Dataset({self.file!r}, rows={self.rows}, outputs={list(self.outputs)})"
@@ -336,7 +362,16 @@ def encode_labels(
     for k, (out, column) in enumerate(pairs):
         cells = table.column(column)
         if positive is not None:
-            y[:, k] = (cells == positive.strip()).astype(float)
+            hit = cells == positive.strip()
+            if not hit.any():
+                seen = np.unique(cells)
+                listed = ", ".join(repr(str(v)) for v in seen[:8])
+                more = f", … ({len(seen)} distinct)" if len(seen) > 8 else ""
+                raise table.fail(
+                    f"--positive {positive.strip()!r} never occurs in label column {column!r}"
+                    f" (output {out!r}); values seen: {listed}{more}"
+                )
+            y[:, k] = hit.astype(float)
         else:
             what = f"label column {column!r} (output {out!r})"
             hint = "; choose the true value with --positive VALUE"
@@ -397,4 +432,5 @@ def load_data(
         tuple(p[1] for p in pairs),
         table.lines,
         table.sha256,
+        tuple(n for n in network.output_names if n not in {p[0] for p in pairs}),
     )

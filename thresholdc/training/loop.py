@@ -1,6 +1,6 @@
 """The training loop: mini-batch gradient steps (SGD or Adam) with an anchor and early stopping.
 
-Objective on a batch: the data loss (:func:`thresholdc.train.mlp.loss_and_grad`) plus
+Objective on a batch: the data loss (:func:`thresholdc.training.mlp.loss_and_grad`) plus
 ``(λ/2)·Σ(θ − θ_target)²`` over every weight and bias, whose gradient is ``λ(θ − θ_target)``.
 Frozen parameters (mask 0) never move.  Each epoch visits the rows in a fresh order drawn from
 the given generator, so a run is reproducible from its seed.
@@ -11,7 +11,7 @@ start, included), and training stops after ``patience`` epochs without improveme
 
 >>> import numpy as np
 >>> from thresholdc.network.model import Network, Neuron, Output
->>> from thresholdc.train.mlp import Layout
+>>> from thresholdc.training.mlp import Layout
 >>> net = Network(("a",), (Neuron("y", 1, ("a",), (0.0,), 0.0, "sigmoid"),), (Output("y", "y"),))
 >>> lay = Layout.of(net); W, b = lay.params(net)
 >>> X = np.array([[0.0], [1.0]]); T = np.array([[0.0], [1.0]])

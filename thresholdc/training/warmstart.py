@@ -7,8 +7,8 @@ The recipe (issue 5 §3):
    training every neuron is within ``tolerance`` of its exact rule value.  A network that is
    already soft and strictly layered is used as it is.
 2. Dense: every unit reads every unit of the previous layer.  Links the rules use keep their
-   compiled values; the others start at small random weights (normal, scale
-   :data:`LINK_SCALE`), so training can reach inputs the rules ignore.
+   compiled values; the others start at small random weights (uniform in
+   ±:data:`LINK_SCALE`), so training can reach inputs the rules ignore.
 3. ``widen=K`` adds K units (role ``extra``, origin null) to every hidden layer, with small
    random incoming and outgoing weights, so training can add what the rules miss; a network
    without a hidden layer first gets one (a relay after each output).
@@ -252,7 +252,7 @@ def prepare_start(
         for r, name in enumerate(units):
             for i in soft.neuron(name).inputs:
                 used[r, col[i]] = True
-        noise = rng.normal(0.0, LINK_SCALE, size=W[L].shape) * per_column[L][None, :]
+        noise = rng.uniform(-LINK_SCALE, LINK_SCALE, size=W[L].shape) * per_column[L][None, :]
         rows_frozen = np.array([u in frozen_set for u in units], dtype=bool)
         fill = ~used & ~rows_frozen[:, None]
         W[L] = np.where(fill, noise, W[L])
@@ -266,10 +266,13 @@ def prepare_start(
         taken = set(soft.inputs) | {n.name for n in soft.neurons}
         for L in range(len(units) - 1):
             names = [_unique(f"extra~{L + 1}~{k + 1}", taken) for k in range(widen)]
-            incoming = rng.normal(0.0, LINK_SCALE, size=(widen, W[L].shape[1]))
-            W[L] = np.vstack([W[L], incoming * per_column[L][None, :]])
-            b[L] = np.concatenate([b[L], rng.normal(0.0, LINK_SCALE, size=widen)])
-            out = rng.normal(0.0, LINK_SCALE, size=(W[L + 1].shape[0], widen))
+            # layer L reads layer L - 1, which already holds its own extra units when L > 0
+            incoming = rng.uniform(-LINK_SCALE, LINK_SCALE, size=(widen, W[L].shape[1]))
+            if L == 0:
+                incoming = incoming * per_column[0][None, :]
+            W[L] = np.vstack([W[L], incoming])
+            b[L] = np.concatenate([b[L], rng.uniform(-LINK_SCALE, LINK_SCALE, size=widen)])
+            out = rng.uniform(-LINK_SCALE, LINK_SCALE, size=(W[L + 1].shape[0], widen))
             rows_frozen = np.array([u in frozen_set for u in units[L + 1]], dtype=bool)
             out[rows_frozen] = 0.0
             W[L + 1] = np.hstack([W[L + 1], out])

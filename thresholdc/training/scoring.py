@@ -7,7 +7,7 @@ The result is the ``score --json`` layout::
 
 >>> import numpy as np
 >>> from thresholdc.network.model import Network, Neuron, Output
->>> from thresholdc.train.data import Dataset
+>>> from thresholdc.training.data import Dataset
 >>> net = Network(("a",), (Neuron("y", 1, ("a",), (-1,), 0.5),), (Output("y", "y"),))
 >>> d = Dataset("d.csv", np.array([[0.0], [1.0], [1.0]]), np.array([[1.0], [0.0], [1.0]]),
 ...             ("y",), ("label",), np.array([2, 3, 4]))
@@ -35,7 +35,7 @@ def score(network: Network, data: Dataset) -> dict[str, Any]:
     ----------
     network : Network
     data : Dataset
-        From :func:`thresholdc.train.data.load_data` for this network.
+        From :func:`thresholdc.training.data.load_data` for this network.
 
     Returns
     -------

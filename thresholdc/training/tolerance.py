@@ -1,0 +1,92 @@
+"""How far a starting network is from its rules: the worst output error on the rule domain.
+
+Where the rule domain is small enough (Boolean and categorical inputs, at most
+:data:`MAX_ENUMERATED` assignments) every assignment is evaluated and the worst
+``|output − rule value|`` is exact.  Otherwise the branch-and-bound verifier
+(:func:`thresholdc.verify.bounds.verify_bounds`) bounds it: on agreement the worst error is
+at most ``0.5 − min_margin`` (for real inputs: outside a band of ± scale around each rule
+threshold, as that verifier states).  A start whose worst error is below 0.5 decides every
+rule as written.
+
+>>> from thresholdc.source import Source
+>>> from thresholdc.training.kbstart import rule_network
+>>> src = Source.from_text("input a, b\\ny = a and b\\n")
+>>> t = start_tolerance(rule_network(src.program, weight=4.0), src)
+>>> t["method"], round(t["worst_error"], 4), t["decides_rules"]
+('exhaustive', 0.1192, True)
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from ..errors import VerificationUndecided
+from ..network.model import Network
+from ..verify.domain import boolean_or_typed_domain, network_rows
+
+__all__ = ["MAX_ENUMERATED", "start_tolerance"]
+
+MAX_ENUMERATED = 1 << 16
+
+
+def _exhaustive(net: Network, source: Any) -> dict[str, Any] | None:
+    program = getattr(source, "program", None)
+    if program is not None and any(v.kind == "real" for v in program.inputs):
+        return None
+    domain = boolean_or_typed_domain(source)
+    if domain.size > MAX_ENUMERATED:
+        return None
+    X = domain.unit_rows(domain.enumerate(0, domain.size))
+    out = net.evaluate(network_rows(net, domain, X))
+    ref = np.asarray(source.evaluate(X), dtype=float)
+    if net.encoding == "bipolar":
+        ref = 2.0 * ref - 1.0
+    worst = np.abs(out - ref).max(axis=0)
+    return {
+        "method": "exhaustive",
+        "assignments": int(domain.size),
+        "worst_error": float(worst.max(initial=0.0)),
+        "outputs": {o: float(w) for o, w in zip(net.output_names, worst, strict=True)},
+        "decides_rules": bool(np.all(net.decide(network_rows(net, domain, X)) == (ref > 0))),
+    }
+
+
+def start_tolerance(net: Network, source: Any, *, time_limit: float = 5.0) -> dict[str, Any]:
+    """The worst output error of ``net`` against ``source`` on the rule domain.
+
+    Parameters
+    ----------
+    net : Network
+        A soft network (sigmoid outputs in the binary encoding) with the source's inputs and
+        outputs.
+    source : Source
+        The rules.
+    time_limit : float
+        Seconds the bounds search may take where the domain is not enumerated.
+
+    Returns
+    -------
+    dict
+        ``method`` (``exhaustive`` or ``bounds``), ``worst_error`` (exact, an upper bound, or
+        None when the search was stopped), ``decides_rules`` (every rule decided as written,
+        or None when unknown) and, per output, its worst error where known.
+    """
+    exact = _exhaustive(net, source)
+    if exact is not None:
+        return exact
+    from ..verify.bounds import verify_bounds
+
+    try:
+        report = verify_bounds(net, source, time_limit=time_limit, max_nodes=200_000)
+    except VerificationUndecided as exc:
+        return {"method": "bounds", "worst_error": None, "decides_rules": None,
+                "note": str(exc)}
+    if not report.equal:
+        bad = sum(o.disagreements for o in report.outputs)
+        return {"method": "bounds", "worst_error": None, "decides_rules": False,
+                "disagreements": int(bad)}
+    worst = {o.name: 0.5 - float(o.min_margin or 0.0) for o in report.outputs}
+    return {"method": "bounds", "worst_error": max(worst.values(), default=0.0),
+            "outputs": worst, "decides_rules": True}
