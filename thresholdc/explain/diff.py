@@ -374,6 +374,22 @@ def _drift(net: Network, start: Network) -> list[UnitDrift]:
     return out
 
 
+def _recorded_start(net: Network, src: Source, notes: list[str]) -> Network | None:
+    """The rule-structured start rebuilt from what a training run recorded in ``meta``: the
+    same rule file and ω (its small random links count as 0)."""
+    training = (net.meta or {}).get("training") or {}
+    recorded = (net.meta or {}).get("rules") or {}
+    if training.get("init") != "rules" or recorded.get("sha256") != src.sha256:
+        return None
+    from ..training.kbstart import rule_network
+
+    assert src.program is not None
+    weight = float(training["weight"])
+    notes.append(f"drift against the rule-structured start rebuilt from the rules (ω = "
+                 f"{weight:g}; its small random links count as 0)")
+    return rule_network(src.program, weight=weight)
+
+
 def _as_source(source: Source | str | Path) -> Source:
     from ..api import as_source
 
@@ -480,6 +496,8 @@ def diff(
     if gmethod == "sampled":
         notes.append(f"the outputs and the rounding check use {len(Xg)} sampled assignments "
                      f"(seed {seed}): the domain is too large to enumerate")
+    if start is None:
+        start = _recorded_start(network, src, notes)
     drift = _drift(network, start) if start is not None else None
     if start is None:
         notes.append("no start network given: weight drift not computed")
