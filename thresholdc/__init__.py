@@ -30,7 +30,7 @@ from .network.soften import apply_activation  # noqa: E402
 from .source import Source, load_source  # noqa: E402
 from .syntax.importers import parse_bench, parse_blif  # noqa: E402
 from .synth.identify import MAX_VARIABLES, Realisation, identify, is_threshold  # noqa: E402
-from .training import TrainResult, load_data, score, train  # noqa: E402
+from .training import TrainOptions, TrainResult, load_data, rule_network, score, train  # noqa: E402
 from .verify.auto import verify_network  # noqa: E402
 from .verify.bounds import verify_bounds  # noqa: E402
 from .verify.certificate import CertificateCheck, check_certificate  # noqa: E402
@@ -71,6 +71,8 @@ __all__ = [
     "Report",
     "train",
     "TrainResult",
+    "TrainOptions",
+    "rule_network",
     "load_data",
     "score",
     "apply_activation",

@@ -43,10 +43,13 @@ from .loop import Epoch
 from .options import ANCHOR_GRID, WEIGHT_GRID, TrainOptions
 from .scaling import from_standard, input_scaling, standardise
 from .search import Search, search, walk_path
+from .threads import one_blas_thread
 from .warmstart import Start, prepare_start, soft_network
 
 __all__ = ["TrainResult", "train", "DEFAULT_NORM"]
 
+#: Inputs with at most this fraction of non-zero units (one-hot data) are stored sparse.
+SPARSE_BELOW = 0.25
 #: The ω the anchor is measured in when the start has no rule weight (certified, random).
 DEFAULT_NORM = 4.0
 
@@ -208,6 +211,12 @@ def train(
     -------
     TrainResult
     """
+    with one_blas_thread():
+        return _train(network, X, y, outputs, rules, options, progress, changes)
+
+
+def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rules: Any,
+           options: TrainOptions | None, progress: bool, changes: dict[str, Any]) -> TrainResult:
     opt = options or TrainOptions()
     if changes:
         opt = TrainOptions.of(**{**opt.to_dict(), **changes})
@@ -264,10 +273,16 @@ def train(
     cols = lay.output_columns(ordered)
     threshold = network.decision_threshold
 
+    Xfit: Any = Xs
+    if optimizer == "lbfgs" and np.count_nonzero(Xs) <= SPARSE_BELOW * Xs.size:
+        from scipy.sparse import csr_array
+
+        Xfit = csr_array(Xs)
+
     def problem(w: float) -> tuple[Problem, np.ndarray]:
         s = starts[w]
         mask = pack(s.masks_w, s.masks_b)
-        p = Problem.of(lay.activations, Xs, T, cols, loss, s.target_weights, s.target_biases,
+        p = Problem.of(lay.activations, Xfit, T, cols, loss, s.target_weights, s.target_biases,
                        mask=mask, unit=w, threshold=threshold)
         return p, pack(s.weights, s.biases)
 
@@ -295,7 +310,7 @@ def train(
         tr, va = _split(len(X), opt.validation, streams[1])
         out = p.rows(tr)
         run = fit(
-            out, theta0, lam=lam, held_out=(Xs[va], T[va]) if len(va) else None,
+            out, theta0, lam=lam, held_out=(Xfit[va], T[va]) if len(va) else None,
             rng=streams[3], **fit_options)
         theta, best, history = run.theta, run.best, run.history
         if len(va):
@@ -320,7 +335,7 @@ def train(
     if source is not None and init != "random":
         from .tolerance import start_tolerance
 
-        tolerance = start_tolerance(start_net, source, time_limit=3.0)
+        tolerance = start_tolerance(start_net, source, time_limit=opt.bound_time)
     training = {
         "options": opt.to_dict(),
         "init": init,

@@ -81,7 +81,7 @@ class Problem:
 
     def evaluate(self, theta: np.ndarray, X: np.ndarray, T: np.ndarray) -> tuple[float, float]:
         """Data loss and decision accuracy of ``theta`` on ``(X, T)``."""
-        if len(X) == 0:
+        if X.shape[0] == 0:
             return 0.0, 1.0
         W, b = self.unpack(theta)
         value, P = data_loss(W, b, self.activations, X, T, self.cols, self.loss)
@@ -132,19 +132,24 @@ def fit(
     rng: np.random.Generator | None = None,
     lr: float = 0.01,
     batch: int = 32,
+    light: bool = False,
 ) -> Run:
     """Fit from ``theta0`` with anchor ``lam`` for at most ``iterations`` iterations (passes).
 
     ``held_out`` rows turn on early stopping; ``optimizer`` is ``lbfgs``, ``adam`` or ``sgd``
-    (the last two draw their batches from ``rng``).
+    (the last two draw their batches from ``rng``).  ``light`` skips the training rows'
+    accuracy in the history (NaN; the loss comes from the optimizer), for the search.
     """
     p = problem
     k = lam / (p.unit * p.unit)
 
-    def entry(i: int, theta: np.ndarray) -> Epoch:
-        loss, acc = p.evaluate(theta, p.X, p.T)
+    def entry(i: int, theta: np.ndarray, total: float | None = None) -> Epoch:
         d = (theta - p.target) * p.mask
         pen = 0.5 * k * float(d @ d)
+        if light and total is not None:
+            loss, acc = total - pen, float("nan")
+        else:
+            loss, acc = p.evaluate(theta, p.X, p.T)
         if held_out is None:
             return Epoch(i, loss, pen, acc)
         vl, va = p.evaluate(theta, *held_out)
@@ -172,7 +177,7 @@ def fit(
     def watch(intermediate_result: Any) -> None:
         theta = np.array(intermediate_result.x, dtype=float)
         last[0] = theta
-        e = entry(len(history), theta)
+        e = entry(len(history), theta, float(intermediate_result.fun))
         history.append(e)
         if held_out is None:
             return

@@ -142,13 +142,22 @@ class Layout:
         return f"Layout(sizes={list(self.sizes)}, activations={list(self.activations)})"
 
 
+def _is_sparse(X: Any) -> bool:
+    """True for a scipy sparse matrix (one-hot inputs are stored so for L-BFGS)."""
+    return hasattr(X, "tocsr")
+
+
 def forward(
     weights: Sequence[np.ndarray],
     biases: Sequence[np.ndarray],
     activations: Sequence[str],
     X: np.ndarray,
 ) -> tuple[list[np.ndarray], np.ndarray]:
-    """Activations of every layer (``A[0] = X``) and the last layer's pre-activations."""
+    """Activations of every layer (``A[0] = X``) and the last layer's pre-activations.
+
+    ``X`` may be a scipy sparse matrix (mostly-zero one-hot inputs): the first product is
+    then sparse, the rest dense.
+    """
     A = [X]
     Z = X
     for W, b, f in zip(weights, biases, activations, strict=True):
@@ -208,7 +217,7 @@ def loss_and_grad(
     bipolar encoding).  Cross-entropy needs a sigmoid output layer.
     """
     A, Z = forward(weights, biases, activations, X)
-    n = max(len(X), 1)
+    n = max(X.shape[0], 1)
     units = A[-1].shape[1]
     S = np.zeros((len(cols), units))  # selects the labelled outputs: P = A_L Sᵀ
     S[np.arange(len(cols)), cols] = 1.0
@@ -222,7 +231,7 @@ def loss_and_grad(
     gW: list[np.ndarray] = [np.empty(0)] * len(weights)
     gb: list[np.ndarray] = [np.empty(0)] * len(weights)
     for layer in range(len(weights) - 1, -1, -1):
-        gW[layer] = D.T @ A[layer]
+        gW[layer] = (A[layer].T @ D).T if layer == 0 and _is_sparse(X) else D.T @ A[layer]
         gb[layer] = D.sum(axis=0)
         if layer:
             D = (D @ weights[layer]) * act.get(activations[layer - 1]).derivative(A[layer])

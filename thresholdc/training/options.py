@@ -28,7 +28,7 @@ __all__ = ["TrainOptions", "CHOICES", "ANCHOR_GRID", "WEIGHT_GRID", "DEFAULT_LR"
 #: (moving one rule weight by ω costs 1.5, twice the largest per-row cross-entropy of an
 #: undecided unit), 0 is free training.  The search walks it from the strongest to the
 #: weakest, each fit starting where the previous one stopped.
-ANCHOR_GRID = (3.0, 1.0, 0.3, 0.1, 0.03, 0.01, 0.0)
+ANCHOR_GRID = (3.0, 0.3, 0.03, 0.0)
 #: The rule weights ω the search tries (Towell & Shavlik 1994 used 4, from memory).
 WEIGHT_GRID = (4.0, 8.0)
 DEFAULT_LR = {"adam": 0.01, "sgd": 0.5}
@@ -94,6 +94,9 @@ class TrainOptions:
         Adam/SGD only (``lr=None``: 0.01 for Adam, 0.5 for SGD).
     lbfgs_cells : int
         The largest rows × units for full-batch L-BFGS under ``optimizer="auto"``.
+    bound_time : float
+        Seconds the start's worst error may take to bound where the rule domain is too large
+        to enumerate (0: not bounded there).
     seed : int
         Seeds every random choice.
     """
@@ -104,7 +107,7 @@ class TrainOptions:
     loss: str = "auto"
     optimizer: str = "auto"
     epochs: int = 300
-    patience: int = 10
+    patience: int = 3
     folds: int = 3
     validation: float = 0.2
     workers: int = 2
@@ -114,6 +117,7 @@ class TrainOptions:
     lr: float | None = None
     batch: int = 32
     lbfgs_cells: int = 20_000_000
+    bound_time: float = 1.0
     seed: int = 0
 
     def __post_init__(self) -> None:
@@ -142,6 +146,8 @@ class TrainOptions:
             raise _bad("validation", "a fraction in [0, 1)", self.validation)
         if not _is_real(self.tolerance) or not 0 < self.tolerance < 0.5:
             raise _bad("tolerance", "between 0 and 0.5 (exclusive)", self.tolerance)
+        if not _is_real(self.bound_time) or self.bound_time < 0:
+            raise _bad("bound_time", "a number of seconds ≥ 0", self.bound_time)
         if self.lr is not None and (not _is_real(self.lr) or self.lr <= 0):
             raise _bad("lr", "a positive number", self.lr)
         freeze = self.freeze

@@ -5,7 +5,9 @@ one *path* runs: starting from the ω start, the network is fitted on the other 
 λ of the grid in turn, strongest first, each fit starting where the previous one stopped and
 stopping early on the held-out part.  So the strong anchors (close to the start) cost a few
 iterations each and every later fit starts near its answer.  Per (ω, λ) the path records the
-held-out loss and error of the kept parameters and how many iterations were kept.
+held-out loss and error of the kept parameters and how many iterations were kept.  A path
+ends early after :data:`GIVE_UP` λ in a row that did not improve its best held-out loss
+(past the best λ the held-out loss only grows); a λ counts only where every fold reached it.
 
 The choice is the (ω, λ) with the smallest mean held-out loss (on a tie, the larger λ, then
 the smaller ω).  The final network walks the same path on all rows, each λ for the median
@@ -40,8 +42,12 @@ import numpy as np
 
 from ..progress import bar as progress_bar
 from .lbfgs import Problem, Run, fit
+from .threads import one_blas_thread
 
-__all__ = ["Search", "search", "walk_path"]
+__all__ = ["GIVE_UP", "Search", "search", "walk_path"]
+
+#: A fold's path ends after this many λ in a row without a better held-out loss.
+GIVE_UP = 1
 
 
 @dataclass(frozen=True)
@@ -78,34 +84,54 @@ class Search:
 def walk_path(
     problem: Problem, theta0: np.ndarray, grid: Sequence[float], steps: Sequence[int] | None,
     *, held_out: tuple[np.ndarray, np.ndarray] | None = None, seed: int = 0,
-    **fit_options: Any,
+    give_up: int | None = None, **fit_options: Any,
 ) -> list[Run]:
     """Fit for each λ of ``grid`` in turn, each from where the previous fit stopped.
 
     ``steps[i]`` caps the iterations at ``grid[i]`` (default: ``fit_options['iterations']``).
+    With ``held_out`` rows and ``give_up``, the path ends after ``give_up`` λ in a row that
+    did not lower the best held-out loss so far (the rest of the path is not better).
     """
-    runs = []
+    runs: list[Run] = []
     theta = theta0
     iterations = fit_options.pop("iterations", 300)
+    best, since = float("inf"), 0
     for i, lam in enumerate(grid):
         n = iterations if steps is None else int(steps[i])
         run = fit(problem, theta, lam=float(lam), iterations=n, held_out=held_out,
                   rng=np.random.default_rng([seed, i]), **fit_options)
         runs.append(run)
         theta = run.theta
+        if held_out is not None and give_up is not None:
+            value = run.history[run.best].validation_loss
+            assert value is not None
+            if value < best - 1e-9:
+                best, since = value, 0
+            else:
+                since += 1
+                if since >= give_up:
+                    break
     return runs
 
 
-def _path_job(job: tuple[Any, ...]) -> list[tuple[float, float, float, float, int]]:
+def _path_job(job: tuple[Any, ...]) -> list[tuple[float, float, float, int]]:
     """One (ω, fold) path: per λ the held-out loss and error, and the iterations kept; the
     first entry is the start."""
     problem, theta0, train, test, grid, seed, fit_options = job
+    with one_blas_thread():
+        return _path(problem, theta0, train, test, grid, seed, fit_options)
+
+
+def _path(problem: Problem, theta0: np.ndarray, train: np.ndarray, test: np.ndarray,
+          grid: Sequence[float], seed: int, fit_options: dict[str, Any]
+          ) -> list[tuple[float, float, float, int]]:
     part = problem.rows(train)
     held = (problem.X[test], problem.T[test])
     loss0, acc0 = problem.evaluate(theta0, *held)
     out = [(float("nan"), loss0, 1.0 - acc0, 0)]
-    for lam, run in zip(grid, walk_path(part, theta0, grid, None, held_out=held, seed=seed,
-                                        **fit_options), strict=True):
+    runs = walk_path(part, theta0, grid, None, held_out=held, seed=seed, give_up=GIVE_UP,
+                     light=True, **fit_options)
+    for lam, run in zip(grid, runs, strict=False):
         loss, acc = problem.evaluate(run.theta, *held)
         out.append((float(lam), loss, 1.0 - acc, run.best))
     return out
@@ -127,7 +153,7 @@ def search(
     go to :func:`thresholdc.training.lbfgs.fit` (iterations, patience, optimizer, lr, batch).
     """
     some = next(iter(starts.values()))[0]
-    n = len(some.X)
+    n = some.X.shape[0]
     parts = np.array_split(rng.permutation(n), folds)
     seeds = rng.integers(0, 2**31 - 1, size=folds)
     jobs, keys = [], []
@@ -157,7 +183,8 @@ def search(
     scores = []
     for w in starts:
         per_fold = [results[(w, k)] for k in range(folds)]
-        for i, lam in enumerate(grid, start=1):
+        reached = min(len(r) for r in per_fold) - 1  # λ every fold's path reached
+        for i, lam in enumerate(grid[:reached], start=1):
             loss = np.array([r[i][1] for r in per_fold])
             err = np.array([r[i][2] for r in per_fold])
             iters = [r[i][3] for r in per_fold]

@@ -53,7 +53,7 @@ def _exhaustive(net: Network, source: Any) -> dict[str, Any] | None:
     }
 
 
-def start_tolerance(net: Network, source: Any, *, time_limit: float = 5.0) -> dict[str, Any]:
+def start_tolerance(net: Network, source: Any, *, time_limit: float = 1.0) -> dict[str, Any]:
     """The worst output error of ``net`` against ``source`` on the rule domain.
 
     Parameters
@@ -76,10 +76,13 @@ def start_tolerance(net: Network, source: Any, *, time_limit: float = 5.0) -> di
     exact = _exhaustive(net, source)
     if exact is not None:
         return exact
+    if time_limit <= 0:
+        return {"method": "bounds", "worst_error": None, "decides_rules": None,
+                "note": "not bounded (no time given)"}
     from ..verify.bounds import verify_bounds
 
     try:
-        report = verify_bounds(net, source, time_limit=time_limit, max_nodes=200_000)
+        report = verify_bounds(net, source, time_limit=time_limit, max_nodes=50_000)
     except VerificationUndecided as exc:
         return {"method": "bounds", "worst_error": None, "decides_rules": None,
                 "note": str(exc)}
