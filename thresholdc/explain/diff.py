@@ -38,7 +38,7 @@ import numpy as np
 from ..errors import UsageError
 from ..logic.reference import evaluate_definitions
 from ..network.model import Network
-from ..source import Source
+from ..source import Source, load_source
 from ..syntax.ast import (
     BinOp,
     Call,
@@ -53,6 +53,8 @@ from ..syntax.ast import (
     RealTest,
     sub_expressions,
 )
+from ..training.kbstart import rule_network
+from ..verify.exhaustive import check_names
 from .columns import enumerate_rows, levels, sample_rows, support, unit_rows, value_label
 from .explanation import shrink, smallest_forcing
 from .printer import expr_text
@@ -111,7 +113,8 @@ class UnitDrift:
 
 @dataclass
 class Diff:
-    """The whole comparison; :meth:`to_dict` for JSON, :meth:`render` for text."""
+    """The whole comparison; :meth:`to_dict` for JSON (the text report is
+    :func:`thresholdc.commands.diff.render`)."""
 
     definitions: list[DefinitionDiff]
     outputs: list[OutputAgreement]
@@ -132,11 +135,6 @@ class Diff:
             "notes": list(self.notes),
             "rules": self.rules_text,
         }
-
-    def render(self, net_file: str = "network", rules_file: str = "rules") -> str:
-        from .render import render
-
-        return render(self, net_file, rules_file)
 
 
 # ---------------------------------------------------------------------- antecedents
@@ -381,8 +379,6 @@ def _recorded_start(net: Network, src: Source, notes: list[str]) -> Network | No
     recorded = (net.meta or {}).get("rules") or {}
     if training.get("init") != "rules" or recorded.get("sha256") != src.sha256:
         return None
-    from ..training.kbstart import rule_network
-
     assert src.program is not None
     weight = float(training["weight"])
     notes.append(f"drift against the rule-structured start rebuilt from the rules (ω = "
@@ -391,9 +387,12 @@ def _recorded_start(net: Network, src: Source, notes: list[str]) -> Network | No
 
 
 def _as_source(source: Source | str | Path) -> Source:
-    from ..api import as_source
-
-    src = as_source(source)
+    if isinstance(source, Path):
+        src = load_source(str(source))
+    elif isinstance(source, str):
+        src = Source.from_text(source, "<rules>", kind="rules")
+    else:
+        src = source
     if src.program is None:
         raise UsageError("diff needs a rule file (a netlist has no definitions to compare)",
                          file=src.file)
@@ -444,8 +443,6 @@ def diff(
     >>> diff(compile_rules(rules), rules).definitions[0].agreement
     1.0
     """
-    from ..verify.exhaustive import check_names
-
     src = _as_source(source)
     program = src.program
     assert program is not None
