@@ -108,3 +108,14 @@ def test_every_reading_computes_its_unit(weights, bias, activation):
     point = {"sigmoid": 0.0, "step": 0.0, "relu": 0.5}[activation]
     text = expr_text(read_units(net, {"y"})["y"].expr)
     assert reading_table(names, text) == unit_table(weights, bias, point)
+
+
+def test_a_unit_with_too_many_inputs_that_matter_is_read_with_rounded_weights():
+    names = tuple(f"x{i}" for i in range(20))
+    weights = (4.0, 4.0) + (0.15,) * 18  # the small links together can tip the unit
+    net = Network(names, (Neuron("y", 1, names, weights, -6.0, "sigmoid"),),
+                  (Output("y", "y"),))
+    reading = read_units(net, {"y"})["y"]
+    assert kept_inputs(np.array(weights), -6.0, 0.0) is None
+    assert reading.exact is False
+    assert expr_text(reading.expr) == "x0 and x1"  # the small weights round to 0

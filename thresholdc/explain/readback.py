@@ -177,10 +177,16 @@ def _rounded(n: Neuron, operands: list[Expr], idx: list[int] | None, point: floa
     keep = idx if idx is not None else [i for i in range(len(w)) if abs(w[i]) > 0]
     scale = 10.0 / max(float(np.abs(w).max()), 1e-12)
     coefs = [int(round(w[i] * scale)) for i in keep]
-    terms = tuple(Term(c, operands[i]) for c, i in zip(coefs, keep) if c != 0)
-    if not terms:
+    pairs = [(c, operands[i]) for c, i in zip(coefs, keep) if c != 0]
+    if not pairs:
         return Const(n.bias > point)
-    return Compare(terms, ">", int(math.floor((point - n.bias) * scale)))
+    rhs = int(math.floor((point - n.bias) * scale))  # Σ c·x > rhs
+    if len(pairs) <= MAX_VARIABLES:  # the rounded unit, identified like any other
+        sums = _subset_sums(np.array([c for c, _ in pairs], dtype=float))
+        real = identify((sums > rhs).astype(np.uint8))
+        assert real is not None
+        return threshold_expr([e for _, e in pairs], real.weights, real.threshold)
+    return Compare(tuple(Term(c, e) for c, e in pairs), ">", rhs)
 
 
 def _real_test(n: Neuron, unit: str, w: float, point: float) -> Expr:
