@@ -20,6 +20,7 @@ from .errors import (  # noqa: E402
     UsageError,
     VerificationUndecided,
 )
+from .explain import Diff, diff, read_units  # noqa: E402
 from .export import load_any, save_any  # noqa: E402
 from .htmlreport import report_html, write_report  # noqa: E402  (also registers displays)
 from .ir.network import Network, Neuron, Output  # noqa: E402
@@ -64,6 +65,9 @@ __all__ = [
     "parse_bench",
     "parse_blif",
     "verify_typed",
+    "diff",
+    "Diff",
+    "read_units",
     "load_source",
     "source_from_text",
     "identify",

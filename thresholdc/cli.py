@@ -25,7 +25,7 @@ __all__ = ["main", "build_parser", "COMMANDS"]
 INTERNAL_ERROR = 3
 
 COMMANDS = ("compile", "verify", "inspect", "table", "export", "draw", "train", "score",
-            "report", "example")
+            "diff", "report", "example")
 
 
 class _Parser(argparse.ArgumentParser):

@@ -19,7 +19,8 @@ FLOORS: tuple[tuple[str, tuple[str, ...]], ...] = (
     ("synth", ("thresholdc.synth",)),
     ("verify", ("thresholdc.verification", "thresholdc.forcing")),
     ("export", ("thresholdc.export",)),
-    ("train", ("thresholdc.train", "thresholdc.training")),
+    ("train", ("thresholdc.training",)),
+    ("explain", ("thresholdc.explain",)),
     ("compiler", ("thresholdc.compiler",)),
     ("api", ("thresholdc.api", "thresholdc.htmlreport")),
     ("commands", ("thresholdc.commands",)),
@@ -28,7 +29,8 @@ FLOORS: tuple[tuple[str, tuple[str, ...]], ...] = (
 )
 
 #: Stage packages: code outside a stage reaches it through its ``__init__`` (its public names).
-STAGES = ("syntax", "logic", "network", "synth", "verification", "export", "train")
+STAGES = ("syntax", "logic", "network", "synth", "verification", "export", "training",
+          "explain")
 
 
 def floor_of(module: str) -> int:

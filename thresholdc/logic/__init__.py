@@ -9,7 +9,7 @@ against.
 """
 
 from .lower import DEFAULT_SIMPLIFY_SUPPORT, input_units, lower_to_gates
-from .reference import evaluate, evaluate_columns
+from .reference import evaluate, evaluate_columns, evaluate_definitions
 from .source import (
     NETLIST_SUFFIXES,
     NetlistSource,
@@ -33,7 +33,8 @@ __all__ = [
     "evaluate", "evaluate_columns",
     "NETLIST_SUFFIXES", "NetlistSource", "RuleSource", "load_source", "read_source_text",
     "source_from_text",
-    "decode_units", "evaluate_units", "feature_scale", "network_features", "real_thresholds",
+    "decode_units", "evaluate_definitions",
+    "evaluate_units", "feature_scale", "network_features", "real_thresholds",
     "strict_real_test",
     "network_support", "source_support", "unused_inputs",
 ]

@@ -36,7 +36,7 @@ from ..ir.program import (
     unknown_function,
 )
 
-__all__ = ["evaluate", "evaluate_columns"]
+__all__ = ["evaluate", "evaluate_columns", "evaluate_definitions"]
 
 
 def evaluate(program: Program, X: np.ndarray) -> np.ndarray:
@@ -63,6 +63,23 @@ def evaluate(program: Program, X: np.ndarray) -> np.ndarray:
     [False, True, True, False]
     """
     X = np.asarray(X)
+    values = evaluate_definitions(program, X)
+    out = np.empty((X.shape[0], len(program.outputs)), dtype=bool)
+    for i, name in enumerate(program.outputs):
+        out[:, i] = values[name]
+    return out
+
+
+def evaluate_definitions(program: Program, X: np.ndarray) -> dict[str, np.ndarray]:
+    """Every input and definition of ``program`` on the rows of ``X`` (encoded as for
+    :func:`evaluate`), by name.
+
+    >>> from thresholdc.syntax.parser import parse
+    >>> prog = parse("input a, b\\nt = a or b\\ny = t and not a\\n")
+    >>> evaluate_definitions(prog, np.array([[0, 1], [1, 1]]))["t"].tolist()
+    [True, True]
+    """
+    X = np.asarray(X)
     if X.ndim != 2 or X.shape[1] != len(program.inputs):
         raise ValueError(
             f"X must have shape (rows, {len(program.inputs)}), got {tuple(X.shape)}"
@@ -79,11 +96,7 @@ def evaluate(program: Program, X: np.ndarray) -> np.ndarray:
             env[var.name] = idx
         else:
             env[var.name] = col.astype(np.float64)
-    values = _run(program, env, X.shape[0])
-    out = np.empty((X.shape[0], len(program.outputs)), dtype=bool)
-    for i, name in enumerate(program.outputs):
-        out[:, i] = values[name]
-    return out
+    return _run(program, env, X.shape[0])
 
 
 def evaluate_columns(

@@ -4,7 +4,7 @@ from .auto import METHODS, merge_reports, verify_network
 from .bounds import verify_bounds
 from .certificate import CertificateCheck, check_certificate
 from .definitions import DefinitionBackend, by_method, definition_units, verify_definitions
-from .domain import boolean_or_typed_domain, network_rows
+from .domain import boolean_or_typed_domain, check_names, network_rows
 from .exhaustive import DEFAULT_MAX_INPUTS, verify_exhaustive
 from .local import verify_local
 from .report import Counterexample, OutputReport, Report, combined_result, undecided_outputs
@@ -18,5 +18,5 @@ __all__ = [
     "OutputReport", "Report", "verify_sat", "verify_typed", "verify_typed_sat",
     "merge_reports", "combined_result", "undecided_outputs", "verify_definitions",
     "definition_units", "by_method", "DefinitionBackend",
-    "boolean_or_typed_domain", "network_rows",
+    "boolean_or_typed_domain", "check_names", "network_rows",
 ]
