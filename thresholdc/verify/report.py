@@ -47,13 +47,34 @@ class Counterexample:
 
 @dataclass
 class OutputReport:
-    """What one method found for one output."""
+    """What one method found for one output.
+
+    ``verdict`` is ``equal`` (proven for this output), ``different`` (a counterexample was
+    found and re-checked) or ``undecided``; ``disagreements`` is the exact number of
+    disagreeing assignments where the method counts them, else None; ``found`` the number of
+    counterexamples found; ``bound`` (undecided only) the bound the method reached.  A bare
+    bool in place of ``verdict`` (older callers) reads as equal/different.
+    """
 
     name: str
-    agrees: bool
-    disagreements: int
+    verdict: str
+    disagreements: int | None = None
     counterexamples: list[Counterexample] = field(default_factory=list)
     min_margin: float | None = None
+    found: int | None = None
+    bound: str | None = None
+
+    def __post_init__(self) -> None:
+        if isinstance(self.verdict, bool):
+            self.verdict = "equal" if self.verdict else "different"
+        assert self.verdict in ("equal", "different", "undecided"), self.verdict
+        if self.found is None:
+            self.found = len(self.counterexamples)
+
+    @property
+    def agrees(self) -> bool:
+        """True only when equality was proven for this output."""
+        return self.verdict == "equal"
 
     def to_dict(self) -> dict[str, Any]:
         return {
