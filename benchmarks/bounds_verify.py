@@ -22,7 +22,7 @@ from dataclasses import replace
 import numpy as np
 
 from thresholdc.compiler import compile_rules
-from thresholdc.source import Source
+from thresholdc.logic.source import source_from_text
 from thresholdc.verify.bounds import verify_bounds
 from thresholdc.verify.exhaustive import verify_exhaustive
 
@@ -72,7 +72,7 @@ def main() -> None:
           f"{'plain Python s':>15} {'exh/bounds':>10} {'py/bounds':>10}")
     for n in [int(s) for s in args.sizes.split(",")]:
         text = rules(n)
-        src = Source.from_text(text)
+        src = source_from_text(text)
         net = perturb(compile_rules(text, activation="sigmoid", verify="none"), args.noise, rng)
         t0 = time.perf_counter()
         bb = verify_bounds(net, src)

@@ -31,7 +31,7 @@ sys.path.insert(0, str(pathlib.Path(__file__).resolve().parent))
 import gen_circuits as gc  # noqa: E402
 
 from thresholdc.compiler import compile_source  # noqa: E402
-from thresholdc.source import Source  # noqa: E402
+from thresholdc.logic.source import source_from_text  # noqa: E402
 from thresholdc.verify.sat import network_side, source_side, verify_sat  # noqa: E402
 from thresholdc.verify.sat_miter import available_solvers, prove_equivalent  # noqa: E402
 
@@ -83,7 +83,7 @@ def main() -> None:
     totals = {"gates": 0, "mapped": 0, "synth": 0}
     slowest = (0.0, "")
     for name, file, text in circuits(args.quick):
-        src = Source.from_text(text, file)
+        src = source_from_text(text, file)
         gates = src.gates().logic_gates()
         mapped = compile_source(src, synthesis=False, verify="none").network
         result, wall = timed(compile_source, src)

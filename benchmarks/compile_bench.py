@@ -19,7 +19,7 @@ import sympy
 from sympy.logic import boolalg
 
 from thresholdc.compiler import compile_source
-from thresholdc.source import Source
+from thresholdc.logic.source import source_from_text
 from thresholdc.verify.exhaustive import assignments
 
 # A formula is a small tree: ("var", i) | ("not", f) | ("and"/"or"/"xor", f, g)
@@ -116,7 +116,7 @@ def main() -> None:
     text = f"input {', '.join(f'x{i}' for i in range(n))}\n" + "".join(
         f"y{j} = {to_rules(f)}\n" for j, f in enumerate(formulas)
     )
-    src = Source.from_text(text, "bench.rules")
+    src = source_from_text(text, "bench.rules")
     t0 = time.perf_counter()
     result = compile_source(src, verify="none")
     t_compile = time.perf_counter() - t0

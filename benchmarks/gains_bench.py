@@ -27,7 +27,7 @@ import time
 
 import numpy as np
 
-from thresholdc.network.model import Network, Neuron, Output
+from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.network.soften import apply_activation
 
 OMEGA = 4.0  # Towell & Shavlik 1994 (from memory)

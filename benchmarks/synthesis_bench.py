@@ -33,9 +33,9 @@ sys.path.insert(0, str(pathlib.Path(__file__).resolve().parent.parent))
 
 import gen_circuits as gc  # noqa: E402
 
-from thresholdc.source import Source  # noqa: E402
-from thresholdc.synth.collapse import collapse  # noqa: E402
-from thresholdc.synth.gates import GateGraph  # noqa: E402
+from thresholdc.ir.gates import GateGraph  # noqa: E402
+from thresholdc.logic.source import source_from_text  # noqa: E402
+from thresholdc.synth.collapsing import collapse  # noqa: E402
 from thresholdc.synth.mapping import map_to_neurons  # noqa: E402
 from thresholdc.verify.local import verify_local  # noqa: E402
 
@@ -226,7 +226,7 @@ def main(argv: list[str] | None = None) -> int:
     tot_base = tot_ours = tot_map = 0
     worst = None
     for name, text in circuits(args.quick):
-        src = Source.from_text(text, f"{name}.bench")
+        src = source_from_text(text, f"{name}.bench")
         g = src.gates()
         mapped = map_to_neurons(g, reserved=src.names)
         t0 = time.perf_counter()
@@ -257,7 +257,7 @@ def main(argv: list[str] | None = None) -> int:
         import cProfile
         import pstats
 
-        src = Source.from_text(worst[1], f"{worst[0]}.bench")
+        src = source_from_text(worst[1], f"{worst[0]}.bench")
         g = src.gates()
         pr = cProfile.Profile()
         pr.enable()

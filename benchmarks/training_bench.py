@@ -34,7 +34,8 @@ import time
 import numpy as np
 
 from thresholdc import compile_rules
-from thresholdc.source import Source
+from thresholdc.ir.reference import Reference
+from thresholdc.logic.source import source_from_text
 from thresholdc.train.fit import DEFAULTS, train
 
 HERE = os.path.dirname(os.path.abspath(__file__))
@@ -43,7 +44,7 @@ RIGHT, WRONG = "and not rain_due", "and not weekend"
 MARKS = (0, 10, 25, 50, 100, 200)
 
 
-def make_data(source: Source, rows: int, noise: float, rng: np.random.Generator):
+def make_data(source: Reference, rows: int, noise: float, rng: np.random.Generator):
     """Uniform random rows labelled by the reference evaluator, ``noise`` of labels flipped."""
     X = rng.integers(0, 2, size=(rows, len(source.inputs))).astype(float)
     y = source.evaluate(X).astype(float)
@@ -106,7 +107,7 @@ def torch_peer(start_net, X, y, ALL, Y_ALL, *, anchor, epochs, lr, batch, seed):
 
 def compare(text_true, text_wrong, rows, noise, seed, epochs):
     """One full comparison on one data set."""
-    source = Source.from_text(text_true, "bike_docks.rules")
+    source = source_from_text(text_true, "bike_docks.rules")
     true_net = compile_rules(text_true)
     wrong_net = compile_rules(text_wrong)
     ALL = np.array(list(itertools.product([0, 1], repeat=len(source.inputs))), dtype=float)

@@ -12,7 +12,7 @@ import os
 
 import numpy as np
 
-from thresholdc.source import Source
+from thresholdc.logic.source import source_from_text
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 RULES = os.path.join(HERE, "..", "circuits", "bike_docks.rules")
@@ -24,7 +24,7 @@ ROWS, NOISE, SEED = 240, 0.04, 20260517
 def main() -> None:
     text = open(RULES, encoding="utf-8").read()
     assert PRACTICE[0] in text
-    practice = Source.from_text(text.replace(*PRACTICE), "practice.rules")
+    practice = source_from_text(text.replace(*PRACTICE), "practice.rules")
     rng = np.random.default_rng(SEED)
     X = (rng.random((ROWS, len(practice.inputs))) < 0.4).astype(int)
     y = practice.evaluate(X)

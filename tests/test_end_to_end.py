@@ -12,8 +12,8 @@ from hypothesis import HealthCheck, given, settings
 
 from tests.strategies import rule_cases
 from thresholdc.compiler import compile_source
-from thresholdc.network import check_network
-from thresholdc.source import Source
+from thresholdc.ir.network import check_network
+from thresholdc.logic.source import source_from_text
 
 SETTINGS = settings(max_examples=40, deadline=None,
                     suppress_health_check=[HealthCheck.too_slow])
@@ -36,7 +36,7 @@ def sympy_table(case, X: np.ndarray) -> np.ndarray:
 
 
 def check(case, **options) -> None:
-    src = Source.from_text(case.text, "random.rules")
+    src = source_from_text(case.text, "random.rules")
     net = compile_source(src, verify="none", **options).network
     check_network(net)
     X = truth_table(len(src.inputs))

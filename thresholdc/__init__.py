@@ -10,8 +10,6 @@
 
 from __future__ import annotations
 
-__version__ = "0.1.0"
-
 from .api import load, verify  # noqa: E402
 from .compiler import CompileResult, compile_file, compile_rules, compile_source  # noqa: E402
 from .errors import (  # noqa: E402
@@ -23,20 +21,25 @@ from .errors import (  # noqa: E402
     VerificationUndecided,
 )
 from .export import load_any, save_any  # noqa: E402
-from .network.model import Network, Neuron, Output  # noqa: E402
-from .network.relu import to_relu  # noqa: E402
-from .network.soften import apply_activation  # noqa: E402
-from .source import Source, load_source  # noqa: E402
-from .syntax.importers import parse_bench, parse_blif  # noqa: E402
-from .synth.identify import MAX_VARIABLES, Realisation, identify, is_threshold  # noqa: E402
+from .ir.network import Network, Neuron, Output  # noqa: E402
+from .ir.reference import Reference
+from .logic import load_source, source_from_text
+from .network import apply_activation, to_relu
+from .syntax import parse_bench, parse_blif
+from .synth import MAX_VARIABLES, Realisation, is_threshold  # noqa: E402
+from .synth.identify import identify  # noqa: E402
 from .train import TrainResult, load_data, score, train  # noqa: E402
-from .verify.auto import verify_network  # noqa: E402
-from .verify.bounds import verify_bounds  # noqa: E402
-from .verify.certificate import CertificateCheck, check_certificate  # noqa: E402
-from .verify.local import verify_local  # noqa: E402
-from .verify.report import Report  # noqa: E402
-from .verify.sat import verify_sat  # noqa: E402
-from .verify.typed import verify_typed  # noqa: E402
+from .verify import (
+    CertificateCheck,
+    Report,
+    check_certificate,
+    verify_bounds,
+    verify_local,
+    verify_network,
+    verify_sat,
+    verify_typed,
+)
+from .version import __version__  # noqa: E402
 
 __all__ = [
     "__version__",
@@ -56,11 +59,12 @@ __all__ = [
     "parse_blif",
     "verify_typed",
     "load_source",
+    "source_from_text",
     "identify",
     "is_threshold",
     "Realisation",
     "MAX_VARIABLES",
-    "Source",
+    "Reference",
     "Network",
     "Neuron",
     "Output",

@@ -16,13 +16,15 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from . import __version__
+from . import progress
 from .errors import ThresholdcError, UsageError, VerificationUndecided
-from .network.fileformat import check_network
-from .network.model import Network
-from .source import Source, load_source
-from .synth.mapping import map_to_neurons
-from .verify.report import Report
+from .ir.network import Network, check_network
+from .ir.reference import Reference
+from .logic import load_source, network_features, source_from_text
+from .network import apply_activation, survives
+from .synth import collapse, map_to_neurons
+from .verify import Report, verify_network
+from .version import __version__
 
 __all__ = ["compile_rules", "compile_source", "compile_file", "CompileResult", "DEFAULTS",
            "CompileError", "network_stats"]
@@ -106,15 +108,11 @@ def _options(given: dict[str, Any]) -> tuple[dict[str, Any], dict[str, Any]]:
     return shape, check
 
 
-def _synthesise(source: Source, shape: dict[str, Any]) -> tuple[Network, Network]:
+def _synthesise(source: Reference, shape: dict[str, Any]) -> tuple[Network, Network]:
     """The one-construction-per-gate network and the synthesised one (the same when off)."""
     gates = source.gates(shape["simplify_support"])
     mapped = map_to_neurons(gates, reserved=source.names)
     if not shape["synthesis"]:
-        return mapped, mapped
-    try:
-        from .synth.collapse import collapse
-    except ImportError:  # pragma: no cover - the pass ships with the package
         return mapped, mapped
     collapsed = collapse(
         gates,
@@ -144,9 +142,6 @@ def _within(net: Network, shape: dict[str, Any]) -> bool:
 
 def _activate(net: Network, shape: dict[str, Any]) -> Network:
     """Activation, gains and layering (the soft-activation pass owns the details)."""
-    from . import progress
-    from .network.soften import apply_activation
-
     return apply_activation(
         net,
         activation=shape["activation"],
@@ -158,15 +153,9 @@ def _activate(net: Network, shape: dict[str, Any]) -> Network:
     )
 
 
-def _verify(net: Network, source: Source, check: dict[str, Any]) -> Report | None:
+def _verify(net: Network, source: Reference, check: dict[str, Any]) -> Report | None:
     if check["verify"] == "none":
         return None
-    try:
-        from .verify.auto import verify_network
-    except ImportError:  # pragma: no cover
-        from .verify.exhaustive import verify_exhaustive
-
-        return verify_exhaustive(net, source, max_inputs=check["max_inputs"])
     return verify_network(
         net,
         source,
@@ -180,12 +169,10 @@ def _survives(net: Network) -> bool:
     """False when a soft network's certificate lets an output be misread."""
     if not isinstance(net.meta.get("certificate"), dict):
         return True
-    from .network.soften import survives
-
     return survives(net)
 
 
-def compile_source(source: Source, **options: Any) -> CompileResult:
+def compile_source(source: Reference, **options: Any) -> CompileResult:
     """Compile a parsed source; see :data:`DEFAULTS` for the options.
 
     Raises CompileError (exit 1) when the verification finds the network different from its
@@ -195,8 +182,6 @@ def compile_source(source: Source, **options: Any) -> CompileResult:
     t0 = time.perf_counter()
     mapped, net = _synthesise(source, shape)
     if source.program is not None and source.program.is_typed():
-        from .logic.typed import network_features
-
         net = Network(net.inputs, net.neurons, net.outputs, net.meta, net.encoding,
                       network_features(source.program))
     check_network(net, "<compiled>")
@@ -267,7 +252,7 @@ def compile_rules(source: str | Path, **options: Any) -> Network:
     if isinstance(source, Path):
         src = load_source(str(source))
     else:
-        src = Source.from_text(source, "<rules>", kind="rules")
+        src = source_from_text(source, "<rules>", kind="rules")
     return compile_source(src, **options).network
 
 

@@ -15,6 +15,7 @@ import pytest
 
 import thresholdc
 from thresholdc.cli import COMMANDS, main
+from thresholdc.export import save_any
 
 ADDER = "input a, b, cin\noutput sum, carry\nsum = a xor b xor cin\ncarry = majority(a, b, cin)\n"
 
@@ -270,7 +271,7 @@ def test_python_api_end_to_end(tmp_path, capsys, adder):
     np.testing.assert_array_equal(got, want)
 
     path = tmp_path / "api.json"
-    net.save(str(path))
+    save_any(net, str(path))
     cli_path = tmp_path / "cli.json"
     assert run(capsys, "compile", adder, "-o", cli_path)[0] == 0
     assert path.read_bytes() == cli_path.read_bytes()  # same rules and options, same bytes

@@ -7,8 +7,7 @@ import itertools
 
 import numpy as np
 
-from thresholdc.network.fileformat import check_network
-from thresholdc.network.model import Network, Neuron, Output
+from thresholdc.ir.network import Network, Neuron, Output, check_network
 
 
 def all_rows(n: int, bipolar: bool = False) -> np.ndarray:

@@ -8,7 +8,7 @@ import pytest
 from tests.export._export_nets import all_rows, full_adder, mlp_forward, random_network, strict_xor
 from thresholdc.errors import UsageError
 from thresholdc.export.dense import dense_form, network_from_layers
-from thresholdc.network.model import Network, Neuron, Output
+from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.network.soften import apply_activation
 
 

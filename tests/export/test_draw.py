@@ -90,7 +90,7 @@ def test_unknown_suffix_is_refused_and_nothing_is_written(tmp_path):
 
 
 def test_network_without_neurons_draws():
-    from thresholdc.network.model import Network, Output
+    from thresholdc.ir.network import Network, Output
 
     data = render(Network(("a",), (), (Output("a", "a"),)), "png")
     assert png_size(data)[0] > 0

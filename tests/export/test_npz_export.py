@@ -11,7 +11,7 @@ import pytest
 from tests.export._export_nets import all_rows, full_adder, random_network, strict_xor
 from thresholdc.errors import NetworkFileError, UsageError
 from thresholdc.export.npz import load_npz, npz_bytes, save_npz
-from thresholdc.network.model import Network, Neuron, Output
+from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.network.soften import apply_activation
 
 

@@ -9,7 +9,7 @@ import pytest
 
 from tests.export._export_nets import all_rows, full_adder, random_network, strict_xor
 from thresholdc.export.onnx import onnx_bytes, save_onnx, to_onnx
-from thresholdc.network.model import Network, Neuron, Output
+from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.network.soften import apply_activation
 
 onnx = pytest.importorskip("onnx")

@@ -10,7 +10,7 @@ import pytest
 
 from tests.export._export_nets import all_rows, full_adder, mlp_forward, random_network, strict_xor
 from thresholdc.errors import NetworkFileError, UsageError
-from thresholdc.network.model import Network, Output
+from thresholdc.ir.network import Network, Output
 from thresholdc.network.soften import apply_activation
 
 onnx = pytest.importorskip("onnx")

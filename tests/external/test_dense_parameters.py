@@ -9,7 +9,8 @@ from __future__ import annotations
 import json
 
 from thresholdc.cli import main
-from thresholdc.network.model import Network, Neuron, Output
+from thresholdc.export import save_any
+from thresholdc.ir.network import Network, Neuron, Output
 
 
 def dense(sizes):
@@ -32,7 +33,7 @@ def test_api_counts_35_parameters_for_4_3_3_2():
 
 def test_inspect_reports_35_parameters(tmp_path, capsys):
     p = tmp_path / "dense.json"
-    dense([4, 3, 3, 2]).save(str(p))
+    save_any(dense([4, 3, 3, 2]), str(p))
     assert main(["inspect", str(p), "--json"]) == 0
     totals = json.loads(capsys.readouterr().out)["totals"]
     assert totals["parameters"] == 35 and totals["weights"] == 27 and totals["biases"] == 8

@@ -10,7 +10,7 @@ import itertools
 
 import numpy as np
 
-from thresholdc.network.model import Network, Neuron, Output
+from thresholdc.ir.network import Network, Neuron, Output
 
 __all__ = ["random_step_network", "full_adder", "all_rows"]
 

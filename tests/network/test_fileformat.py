@@ -8,6 +8,7 @@ import pytest
 
 from thresholdc.compiler import compile_rules
 from thresholdc.errors import NetworkFileError
+from thresholdc.export import save_any
 from thresholdc.network.fileformat import dumps, load, loads
 
 FULL_ADDER = "input a, b, cin\noutput sum, carry\ncarry = majority(a, b, cin)\nsum = a ^ b ^ cin\n"
@@ -34,7 +35,7 @@ def test_same_rules_and_options_give_the_same_bytes():
 def test_round_trip(tmp_path):
     net = compile_rules(FULL_ADDER, layered=True)
     p = tmp_path / "n.json"
-    net.save(str(p))
+    save_any(net, str(p))
     back = load(str(p))
     assert back == net and back.meta == net.meta
 

@@ -9,9 +9,8 @@ import numpy as np
 import pytest
 
 from thresholdc.compiler import compile_rules
-from thresholdc.network import check_network
+from thresholdc.ir.network import Network, Neuron, Output, check_network
 from thresholdc.network.layering import assign_layers, fresh_name, insert_relays
-from thresholdc.network.model import Network, Neuron, Output
 
 RULES = [
     "input a, b, c\ny = (a and b) or c\nz = a\n",

@@ -8,8 +8,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from tests.network.step_networks import all_rows, full_adder, random_step_network
-from thresholdc.network.fileformat import check_network, dumps, loads
-from thresholdc.network.model import Network, Neuron, Output
+from thresholdc.ir.network import Network, Neuron, Output, check_network
+from thresholdc.network.fileformat import dumps, loads
 from thresholdc.network.relu import to_relu
 from thresholdc.network.soften import apply_activation
 

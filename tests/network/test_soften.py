@@ -15,8 +15,8 @@ from hypothesis import strategies as st
 
 from tests.network.step_networks import all_rows, full_adder, random_step_network
 from thresholdc.errors import UsageError
+from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.network.fileformat import dumps, loads
-from thresholdc.network.model import Network, Neuron, Output
 from thresholdc.network.soften import (
     apply_activation,
     certificate_bound,

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from thresholdc.syntax.ast import Call, Compare, Name, Term
+from thresholdc.ir.program import Call, Compare, Name, Term
 from thresholdc.syntax.parser import parse
 
 HEADER = "input a, b, c\n"

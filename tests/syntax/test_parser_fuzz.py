@@ -7,7 +7,7 @@ from hypothesis import strategies as st
 
 from tests.strategies import rule_programs
 from thresholdc.errors import RuleError
-from thresholdc.syntax.ast import Program
+from thresholdc.ir.program import Program
 from thresholdc.syntax.parser import parse
 
 PIECES = [

@@ -10,9 +10,9 @@ from hypothesis import strategies as st
 
 from thresholdc.logic.lower import lower_to_gates
 from thresholdc.logic.reference import evaluate
-from thresholdc.source import Source
+from thresholdc.logic.source import NetlistSource
 from thresholdc.syntax.parser import parse
-from thresholdc.synth.collapse import collapse
+from thresholdc.synth.collapsing import collapse
 from thresholdc.verify.local import verify_local
 
 NAMES = ["a", "b", "c", "d", "e", "f"]
@@ -75,7 +75,7 @@ def test_random_rules_collapse_to_the_reference_function(text, k, fan_in):
     assert np.array_equal(got, want), text
     Z, _ = net.forward(X)
     assert Z.size == 0 or np.abs(Z).min() >= 0.5
-    report = verify_local(net, Source("r.bench", "", "bench", netlist=gates))
+    report = verify_local(net, NetlistSource("r.bench", "", gates))
     assert report.result == "equal", (text, report.notes)
     if fan_in is not None:
         assert all(nn.fan_in <= fan_in for nn in net.neurons)

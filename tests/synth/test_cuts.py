@@ -10,11 +10,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from thresholdc.synth import gadgets as G
-from thresholdc.synth import ttable as T
+from thresholdc.ir.gates import Gate, GateGraph
+from thresholdc.synth import gadgets, ttable
 from thresholdc.synth.cuts import enumerate_cuts, support_cuts
-from thresholdc.synth.gates import Gate, GateGraph
-from thresholdc.synth.strash import hash_gates
+from thresholdc.synth.hashing import hash_gates
 
 
 def table_of(fn, n: int) -> int:
@@ -32,31 +31,31 @@ def table_of(fn, n: int) -> int:
 @pytest.mark.parametrize("n", range(1, 6))
 def test_variables_swaps_flips_and_expansion_match_their_definitions(n):
     for i in range(n):
-        assert T.var(n, i) == table_of(lambda x, i=i: x[i], n)
+        assert ttable.var(n, i) == table_of(lambda x, i=i: x[i], n)
     f = table_of(lambda x: (x[0] & x[-1]) | (sum(x) == 2), n)
     for a, b in itertools.combinations(range(n), 2):
         def swapped(x, a=a, b=b):
             y = list(x)
             y[a], y[b] = y[b], y[a]
             return (y[0] & y[-1]) | (sum(y) == 2)
-        assert T.swap(f, n, a, b) == table_of(swapped, n)
+        assert ttable.swap(f, n, a, b) == table_of(swapped, n)
     for i in range(n):
         def flipped(x, i=i):
             y = list(x)
             y[i] ^= 1
             return (y[0] & y[-1]) | (sum(y) == 2)
-        assert T.flip(f, n, i) == table_of(flipped, n)
+        assert ttable.flip(f, n, i) == table_of(flipped, n)
     # a function of variables (0, 2) re-expressed over n + 2 variables at positions (1, n + 1)
     g = table_of(lambda x: x[0] and not x[1], 2)
-    assert T.expand(g, (1, n + 1), n + 2) == table_of(lambda x: x[1] and not x[n + 1], n + 2)
+    assert ttable.expand(g, (1, n + 1), n + 2) == table_of(lambda x: x[1] and not x[n + 1], n + 2)
 
 
 def test_support_shrink_and_unateness():
     f = table_of(lambda x: x[1] and not x[3], 4)
-    assert T.support(f, 4) == (1, 3)
-    assert T.shrink(f, 4, (1, 3)) == table_of(lambda x: x[0] and not x[1], 2)
-    assert T.unateness(f, 4) == (0, 1, 0, -1)
-    assert T.unateness(table_of(lambda x: x[0] ^ x[1], 2), 2) is None
+    assert ttable.support(f, 4) == (1, 3)
+    assert ttable.shrink(f, 4, (1, 3)) == table_of(lambda x: x[0] and not x[1], 2)
+    assert ttable.unateness(f, 4) == (0, 1, 0, -1)
+    assert ttable.unateness(table_of(lambda x: x[0] ^ x[1], 2), 2) is None
 
 
 @pytest.mark.parametrize("n", range(1, 6))
@@ -66,12 +65,12 @@ def test_symmetry_finds_every_function_of_the_count_under_any_polarity(n):
         values = tuple(int(v) for v in rng.integers(0, 2, n + 1))
         pol = (0,) + tuple(int(p) for p in rng.integers(0, 2, n - 1))
         f = table_of(lambda x, v=values, q=pol: v[sum(a ^ p for a, p in zip(x, q))], n)
-        got = T.symmetry(f, n)
+        got = ttable.symmetry(f, n)
         assert got is not None
         p2, v2 = got
         assert f == table_of(lambda x, v=v2, q=p2: v[sum(a ^ p for a, p in zip(x, q))], n)
     # x0 and x1, or x2: not symmetric
-    assert T.symmetry(table_of(lambda x: (x[0] and x[1]) or x[2], 3), 3) is None
+    assert ttable.symmetry(table_of(lambda x: (x[0] and x[1]) or x[2], 3), 3) is None
 
 
 def test_compose_applies_a_local_function_to_argument_tables():
@@ -80,7 +79,7 @@ def test_compose_applies_a_local_function_to_argument_tables():
         k, n = int(rng.integers(1, 4)), 4
         local = int(rng.integers(0, 1 << (1 << k)))
         args = [int(rng.integers(0, 1 << 16)) for _ in range(k)]
-        got = T.compose(local, k, args, n)
+        got = ttable.compose(local, k, args, n)
         for r in range(16):
             idx = sum(((a >> r) & 1) << j for j, a in enumerate(args))
             assert (got >> r) & 1 == (local >> idx) & 1
@@ -98,17 +97,17 @@ def test_every_counting_construction_computes_its_function(n):
         want = table_of(
             lambda x, v=values, sg=sigma: v[sum(a if s > 0 else 1 - a for a, s in zip(x, sg))],
             n)
-        for g in G.symmetric(sigma, values):
-            assert G.evaluate(g, n) == want
+        for g in gadgets.symmetric(sigma, values):
+            assert gadgets.evaluate(g, n) == want
 
 
 @pytest.mark.parametrize("n", range(2, 12))
 def test_counting_parity_has_one_neuron_per_bit_of_the_count(n):
     # ⌈log2(n + 1)⌉ neurons, the i-th reading the inputs and the higher bits (common practice)
-    g = G.counting((1,) * n, tuple(c % 2 for c in range(n + 1)))
+    g = gadgets.counting((1,) * n, tuple(c % 2 for c in range(n + 1)))
     assert len(g) == n.bit_length()
-    assert G.evaluate(g, n) == table_of(lambda x: sum(x) % 2, n)
-    assert G.fan_in(g) == n + len(g) - 1
+    assert gadgets.evaluate(g, n) == table_of(lambda x: sum(x) % 2, n)
+    assert gadgets.fan_in(g) == n + len(g) - 1
 
 
 @settings(max_examples=200, deadline=None)
@@ -116,33 +115,35 @@ def test_counting_parity_has_one_neuron_per_bit_of_the_count(n):
        st.sampled_from([2, 3, 4]), st.sampled_from([1, 2, None]), st.booleans())
 def test_limited_threshold_trees_compute_the_gate_within_the_limits(ws, t, fan_in, weight, eq):
     n = len(ws)
-    g = G.limited_threshold(tuple(ws), t, fan_in, weight, equal=eq)
+    g = gadgets.limited_threshold(tuple(ws), t, fan_in, weight, equal=eq)
     want = table_of(lambda x: (sum(w * a for w, a in zip(ws, x)) == t) if eq
                     else (sum(w * a for w, a in zip(ws, x)) >= t), n)
-    assert G.evaluate(g, n) == want
-    assert G.fits(g, fan_in, weight)
+    assert gadgets.evaluate(g, n) == want
+    assert gadgets.fits(g, fan_in, weight)
 
 
 @pytest.mark.parametrize("limit", [2, 3, 5])
 @pytest.mark.parametrize("n", [2, 5, 9])
 def test_parity_and_and_trees_keep_the_fan_in(limit, n):
-    g = G.parity_tree(n, limit, None)
-    assert G.evaluate(g, n) == table_of(lambda x: sum(x) % 2, n) and G.fan_in(g) <= limit
+    g = gadgets.parity_tree(n, limit, None)
+    assert gadgets.evaluate(g, n) == table_of(lambda x: sum(x) % 2, n)
+    assert gadgets.fan_in(g) <= limit
     sigma = tuple(1 if i % 3 else -1 for i in range(n))
-    g = G.and_tree(sigma, limit)
-    assert G.evaluate(g, n) == table_of(
+    g = gadgets.and_tree(sigma, limit)
+    assert gadgets.evaluate(g, n) == table_of(
         lambda x: all(a if s > 0 else not a for a, s in zip(x, sigma)), n)
-    assert G.fan_in(g) <= limit
+    assert gadgets.fan_in(g) <= limit
 
 
 def test_equal_and_ite_gadgets():
     for ws, t in [((1, 1, 1, 1), 2), ((2, -1, 1), 1), ((3, 1), 3), ((1, 2), 0)]:
-        g = G.equal(ws, t)
-        assert G.evaluate(g, len(ws)) == table_of(
+        g = gadgets.equal(ws, t)
+        assert gadgets.evaluate(g, len(ws)) == table_of(
             lambda x, ws=ws, t=t: sum(w * a for w, a in zip(ws, x)) == t, len(ws))
         assert len(g) <= 2
     for limit in (None, 2):
-        assert G.evaluate(G.ite(limit), 3) == table_of(lambda x: x[1] if x[0] else x[2], 3)
+        want = table_of(lambda x: x[1] if x[0] else x[2], 3)
+        assert gadgets.evaluate(gadgets.ite(limit), 3) == want
 
 
 # ------------------------------------------------------------------------------ hashing and cuts
@@ -254,6 +255,6 @@ def run_gadget(g, X: np.ndarray) -> np.ndarray:
 def test_wide_parity_trees_within_limits(limit, weight):
     rng = np.random.default_rng(3)
     X = rng.integers(0, 2, (500, 64))
-    g = G.parity_tree(64, limit, weight)
-    assert G.fits(g, limit, weight)
+    g = gadgets.parity_tree(64, limit, weight)
+    assert gadgets.fits(g, limit, weight)
     assert np.array_equal(run_gadget(g, X), X.sum(axis=1) % 2 == 1)

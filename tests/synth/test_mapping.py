@@ -9,8 +9,8 @@ import numpy as np
 import pytest
 
 from thresholdc.compiler import compile_rules
-from thresholdc.network import check_network
-from thresholdc.synth.gates import Gate, GateGraph
+from thresholdc.ir.gates import Gate, GateGraph
+from thresholdc.ir.network import check_network
 from thresholdc.synth.mapping import map_to_neurons
 
 

@@ -7,8 +7,9 @@ import numpy as np
 import pytest
 
 from thresholdc.cli import main
+from thresholdc.export import save_any
+from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.network.fileformat import load
-from thresholdc.network.model import Network, Neuron, Output
 
 RULES = Network(
     ("a", "b", "c"),
@@ -24,7 +25,7 @@ RULES = Network(
 @pytest.fixture
 def files(tmp_path):
     net = tmp_path / "rules.json"
-    RULES.save(str(net))
+    save_any(RULES, str(net))
     rng = np.random.default_rng(0)
     X = rng.integers(0, 2, size=(40, 3))
     y = (X[:, 0] * X[:, 1] + X[:, 2] > 0).astype(int)

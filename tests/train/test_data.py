@@ -6,7 +6,8 @@ import pytest
 
 from thresholdc.cli import main
 from thresholdc.errors import DataError, UsageError
-from thresholdc.network.model import Network, Neuron, Output
+from thresholdc.export import save_any
+from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.train.data import load_data, parse_label_specs, read_table
 
 AND = Network(
@@ -178,7 +179,7 @@ def test_read_table_trims_and_hashes(tmp_path):
 # ------------------------------------------------------------------ the score command
 def test_score_json_exact_layout(tmp_path, capsys):
     net_path = tmp_path / "and.json"
-    AND.save(str(net_path))
+    save_any(AND, str(net_path))
     # AND is true only on row 4; labels are wrong on rows 2 and 4 by construction.
     p = _write(tmp_path, "a,b,truth\n0,0,0\n0,1,1\n1,0,0\n1,1,0\n1,1,1\n")
     code = main(["score", str(net_path), p, "--label", "y=truth", "--json"])
@@ -196,7 +197,7 @@ def test_score_lists_only_labelled_outputs_in_network_order(tmp_path, capsys):
         (Output("z", "z"), Output("y", "y"), Output("w", "a")),
     )
     net_path = tmp_path / "two.json"
-    two.save(str(net_path))
+    save_any(two, str(net_path))
     p = _write(tmp_path, "a,b,y,zz\n0,1,T,T\n1,1,T,T\n")
     code = main(["score", str(net_path), p, "--label", "z=zz", "--positive", "T", "--json"])
     out = json.loads(capsys.readouterr().out)
@@ -208,7 +209,7 @@ def test_score_lists_only_labelled_outputs_in_network_order(tmp_path, capsys):
 
 def test_score_text_and_errors(tmp_path, capsys):
     net_path = tmp_path / "and.json"
-    AND.save(str(net_path))
+    save_any(AND, str(net_path))
     p = _write(tmp_path, "a,b,y\n1,1,1\n")
     assert main(["score", str(net_path), p]) == 0
     text = capsys.readouterr().out

@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from thresholdc.network.model import Network, Neuron, Output
+from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.train.mlp import Layout, data_loss, loss_and_grad
 
 

@@ -11,7 +11,7 @@ import pytest
 import thresholdc
 from thresholdc.compiler import compile_rules
 from thresholdc.errors import VerificationUndecided
-from thresholdc.source import Source
+from thresholdc.logic.source import source_from_text
 from thresholdc.verify.bounds import verify_bounds
 from thresholdc.verify.exhaustive import verify_exhaustive
 from thresholdc.verify.typed import verify_typed
@@ -59,7 +59,7 @@ def shift_real_neurons(net, unit: str, delta: float):
 
 def test_step_network_is_exact_on_cells():
     net = compile_rules(MIXED)
-    rep = verify_typed(net, Source.from_text(MIXED))
+    rep = verify_typed(net, source_from_text(MIXED))
     assert rep.result == "equal" and rep.method == "exhaustive"
     # zone 3 × fan 2 × temp 7 points (range ends -40, 60, cuts 12, 30.5, and 3 cells) ×
     # humid 7 points (cuts -3, 12, 40, two cells between and one beyond each end).
@@ -69,7 +69,7 @@ def test_step_network_is_exact_on_cells():
 
 def test_strict_and_non_strict_differ_only_on_the_threshold():
     net = compile_rules("input t: real, a\ny = t > 1 and a\n")
-    rep = verify_typed(net, Source.from_text("input t: real, a\ny = t >= 1 and a\n"))
+    rep = verify_typed(net, source_from_text("input t: real, a\ny = t >= 1 and a\n"))
     assert rep.result == "different"
     assert rep.outputs[0].disagreements == 1
     assert rep.counterexamples[0].assignment == {"t": 1.0, "a": 1}
@@ -78,7 +78,7 @@ def test_strict_and_non_strict_differ_only_on_the_threshold():
 
 def test_categorical_difference_counts_valid_assignments_only():
     net = compile_rules("input c: {red, green, blue}, k: {1, 2}, a\ny = c in {red, green}\n")
-    src = Source.from_text("input c: {red, green, blue}, k: {1, 2}, a\ny = c == red\n")
+    src = source_from_text("input c: {red, green, blue}, k: {1, 2}, a\ny = c == red\n")
     rep = verify_exhaustive(net, src)  # dispatches to the typed verifier
     assert rep.assignments == 3 * 2 * 2  # never an impossible one-hot pattern
     assert rep.outputs[0].disagreements == 2 * 2  # colour green, any k, any a
@@ -94,7 +94,7 @@ def test_the_public_verify_reads_typed_rules():
 
 
 def test_soft_network_checked_outside_the_bands():
-    src = Source.from_text(MIXED.replace("humid: real", "humid: real in [0, 100] scale 2"))
+    src = source_from_text(MIXED.replace("humid: real", "humid: real in [0, 100] scale 2"))
     soft = compile_rules(src.text, activation="sigmoid")
     rep = verify_typed(soft, src)
     assert rep.result == "equal" and rep.method == "bounds"
@@ -104,7 +104,7 @@ def test_soft_network_checked_outside_the_bands():
 
 def test_soft_network_with_a_moved_threshold_fails_outside_the_band():
     text = "input temp: real in [-40, 60] scale 0.5, door\nhot = temp > 30.5 and door\n"
-    src = Source.from_text(text)
+    src = source_from_text(text)
     soft = compile_rules(text, activation="sigmoid")
     # Within the band: still equal (the band is excluded on purpose).
     assert verify_typed(shift_real_neurons(soft, "temp", 0.3), src).result == "equal"
@@ -123,13 +123,13 @@ def test_soft_network_needs_a_declared_range():
     text = "input temp: real, door\nhot = temp > 30.5 and door\n"
     soft = compile_rules(text, activation="sigmoid", verify="none")
     with pytest.raises(VerificationUndecided, match="range is needed"):
-        verify_typed(soft, Source.from_text(text))
+        verify_typed(soft, source_from_text(text))
 
 
 def test_range_is_respected_by_the_cells():
     # The rules and the network differ only below -50, outside the declared range.
     net = compile_rules("input t: real in [-40, 60]\ny = t > -50 and t < 10\n")
-    rep = verify_typed(net, Source.from_text("input t: real in [-40, 60]\ny = t < 10\n"))
+    rep = verify_typed(net, source_from_text("input t: real in [-40, 60]\ny = t < 10\n"))
     assert rep.result == "equal"
 
 
@@ -151,7 +151,7 @@ q = atleast(2, c == green, k != x, a, b)
 
 
 def test_bounds_equals_enumeration_on_perturbed_categorical_networks():
-    src = Source.from_text(CATS)
+    src = source_from_text(CATS)
     rng = np.random.default_rng(7)
     seen = set()
     for trial in range(16):
@@ -179,7 +179,7 @@ def test_bounds_equals_enumeration_on_perturbed_categorical_networks():
 def test_bounds_on_perturbed_real_networks_match_dense_sampling():
     text = ("input zone: {north, south}, temp: real in [-10, 40] scale 1, fan\n"
             "alarm = zone == north and temp >= 25 or fan and temp < 0\n")
-    src = Source.from_text(text)
+    src = source_from_text(text)
     base = compile_rules(text, activation="sigmoid", verify="none")
     rng = np.random.default_rng(11)
     temps = np.linspace(-10, 40, 2001)

@@ -12,15 +12,16 @@ from tests.verify.threshold_builders import gate_for_gate, load_gen_circuits
 from thresholdc.cli import main
 from thresholdc.compiler import compile_source
 from thresholdc.errors import UsageError, VerificationUndecided
-from thresholdc.network.model import Network, Neuron, Output
-from thresholdc.source import Source
+from thresholdc.ir.network import Network, Neuron, Output
+from thresholdc.ir.reference import Reference
+from thresholdc.logic.source import source_from_text
 from thresholdc.verify.auto import verify_network
 
 gc = load_gen_circuits()
 
 
-def adder_source(n: int) -> Source:
-    return Source.from_text(gc.adder(n), f"adder{n}.bench")
+def adder_source(n: int) -> Reference:
+    return source_from_text(gc.adder(n), f"adder{n}.bench")
 
 
 def buggy(net: Network, k: int) -> Network:
@@ -37,7 +38,7 @@ def integer_check(report, n):
 
 
 def test_small_sources_are_checked_exhaustively():
-    src = Source.from_text("input a, b, c\ny = atleast(2, a, b, c)\n", "m.rules")
+    src = source_from_text("input a, b, c\ny = atleast(2, a, b, c)\n", "m.rules")
     net = compile_source(src, verify="none").network
     report = verify_network(net, src)
     assert (report.result, report.method, report.assignments) == ("equal", "exhaustive", 8)
@@ -86,7 +87,7 @@ def test_a_bug_above_the_bound_is_found():
 
 def test_soft_network_above_the_bound_is_not_an_error():
     xs = [f"x{i}" for i in range(30)]
-    src = Source.from_text(f"input {', '.join(xs)}\ny = {' or '.join(xs)}\n", "s.rules")
+    src = source_from_text(f"input {', '.join(xs)}\ny = {' or '.join(xs)}\n", "s.rules")
     net = Network(tuple(xs), (Neuron("y", 1, tuple(xs), (8.0,) * 30, -4.0, "sigmoid"),),
                   (Output("y", "y"),))
     report = verify_network(net, src)  # another method than local/SAT takes it
@@ -96,7 +97,7 @@ def test_soft_network_above_the_bound_is_not_an_error():
 
 
 def test_refusals():
-    src = Source.from_text("input a, b\ny = a and b\n", "t.rules")
+    src = source_from_text("input a, b\ny = a and b\n", "t.rules")
     net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),), (Output("y", "y"),))
     with pytest.raises(UsageError, match="unknown verification method"):
         verify_network(net, src, method="guess")
@@ -148,7 +149,7 @@ def test_command_line(tmp_path, capsys):
 
 
 def test_big_tables_within_the_bound_go_local_first(monkeypatch):
-    src = Source.from_text(gc.multiplier(8), "m8.bench")  # 16 inputs, 544 gates
+    src = source_from_text(gc.multiplier(8), "m8.bench")  # 16 inputs, 544 gates
     net = gate_for_gate(src.gates())
     report = verify_network(net, src)
     assert (report.result, report.method) == ("equal", "local")

@@ -14,7 +14,7 @@ import pytest
 
 from thresholdc.compiler import compile_rules
 from thresholdc.errors import VerificationUndecided
-from thresholdc.source import Source
+from thresholdc.logic.source import source_from_text
 from thresholdc.verify.bounds import verify_bounds
 from thresholdc.verify.exhaustive import verify_exhaustive
 
@@ -60,7 +60,7 @@ def check_same(net, src):
 
 @pytest.mark.parametrize("text", RULES)
 def test_compiled_sigmoid_agrees(text):
-    src = Source.from_text(text)
+    src = source_from_text(text)
     net = compile_rules(text, activation="sigmoid", verify="none")
     ex, bb = check_same(net, src)
     assert bb.result == "equal" and bb.assignments == 1 << len(src.inputs)
@@ -68,7 +68,7 @@ def test_compiled_sigmoid_agrees(text):
 
 def test_perturbed_network_both_ways():
     text = RULES[0]
-    src = Source.from_text(text)
+    src = source_from_text(text)
     net = compile_rules(text, activation="sigmoid", verify="none")
     rng = np.random.default_rng(1)
     small = perturb(net, 0.02, rng)
@@ -89,7 +89,7 @@ def test_random_perturbed_networks_agree_with_exhaustive():
     verdicts = set()
     for trial in range(24):
         text = RULES[trial % len(RULES)]
-        src = Source.from_text(text)
+        src = source_from_text(text)
         base = compile_rules(text, activation="sigmoid", layered=bool(trial % 2),
                              verify="none")
         net = perturb(base, float(rng.choice([0.05, 0.3, 0.8])), rng)
@@ -100,7 +100,7 @@ def test_random_perturbed_networks_agree_with_exhaustive():
 
 def test_step_network_too():
     text = RULES[2]
-    src = Source.from_text(text)
+    src = source_from_text(text)
     net = compile_rules(text, verify="none")
     check_same(net, src)
     check_same(perturb(net, 0.4, np.random.default_rng(3)), src)
@@ -111,13 +111,13 @@ def test_above_the_exhaustive_bound():
     text = (f"input {', '.join(names)}\n"
             f"many = atleast(4, {', '.join(names)})\n"
             "pair = (x0 and x1) or (x24 and not x25)\n")
-    src = Source.from_text(text)
+    src = source_from_text(text)
     net = compile_rules(text, activation="sigmoid", verify="none")
     with pytest.raises(VerificationUndecided):
         verify_exhaustive(net, src)
     rep = verify_bounds(net, src)
     assert rep.result == "equal" and rep.assignments == 1 << 26
-    wrong = Source.from_text(text.replace("atleast(4", "atleast(5"))
+    wrong = source_from_text(text.replace("atleast(4", "atleast(5"))
     rep = verify_bounds(net, wrong)
     # atleast(4) but not atleast(5): exactly 4 of 26 are true: C(26, 4) assignments.
     assert rep.result == "different"
@@ -127,7 +127,7 @@ def test_above_the_exhaustive_bound():
 
 def test_netlist_source():
     bench = "INPUT(a)\nINPUT(b)\nINPUT(c)\nOUTPUT(y)\nn = NAND(a, b)\ny = XOR(n, c)\n"
-    src = Source.from_text(bench, "tiny.bench")
+    src = source_from_text(bench, "tiny.bench")
     from thresholdc.compiler import compile_source
 
     net = compile_source(src, activation="sigmoid", verify="none").network
@@ -141,13 +141,13 @@ def test_node_limit_is_undecided():
     text = f"input {', '.join(names)}\np = parity({', '.join(names)})\n"
     net = compile_rules(text, activation="sigmoid", verify="none")
     with pytest.raises(VerificationUndecided, match="stopped"):
-        verify_bounds(net, Source.from_text(text), max_nodes=100)
+        verify_bounds(net, source_from_text(text), max_nodes=100)
 
 
 def test_report_layout():
     text = RULES[3]
     net = compile_rules(text, activation="sigmoid", verify="none")
-    data = verify_bounds(net, Source.from_text(text.replace("nor(", "nand("))).to_dict()
+    data = verify_bounds(net, source_from_text(text.replace("nor(", "nand("))).to_dict()
     assert list(data)[:4] == ["result", "method", "assignments", "outputs"]
     assert data["result"] == "different" and data["method"] == "bounds"
     for o in data["outputs"]:
@@ -163,9 +163,9 @@ def test_verify_network_sends_soft_networks_above_the_bound_here():
     names = [f"x{i}" for i in range(26)]
     text = f"input {', '.join(names)}\ny = atleast(3, {', '.join(names)})\n"
     net = compile_rules(text, activation="sigmoid", verify="none")
-    rep = verify_network(net, Source.from_text(text))
+    rep = verify_network(net, source_from_text(text))
     assert (rep.method, rep.result) == ("bounds", "equal")
-    wrong = Source.from_text(text.replace("atleast(3", "atleast(2"))
+    wrong = source_from_text(text.replace("atleast(3", "atleast(2"))
     rep = verify_network(net, wrong)
     assert rep.result == "different"
     assert rep.outputs[0].disagreements == 325  # exactly 2 of 26 true: C(26, 2) = 26·25/2

@@ -10,8 +10,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from tests.network.step_networks import random_step_network
+from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.network.fileformat import dumps, loads
-from thresholdc.network.model import Network, Neuron, Output
 from thresholdc.network.soften import apply_activation
 from thresholdc.verify.certificate import check_certificate
 

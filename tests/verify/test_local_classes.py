@@ -9,7 +9,7 @@ import random
 import numpy as np
 import pytest
 
-from thresholdc.synth.gates import Gate, GateGraph
+from thresholdc.ir.gates import Gate, GateGraph
 from thresholdc.verify.local import structural_classes
 
 OPS = ["and", "or", "nand", "nor", "xor", "xnor", "not", "buf", "threshold", "equal", "ite"]

@@ -10,10 +10,12 @@ import pytest
 
 from tests.verify.threshold_builders import gate_for_gate, load_gen_circuits
 from thresholdc.errors import UsageError
+from thresholdc.ir.gates import Gate, GateGraph
+from thresholdc.ir.network import Network, Neuron, Output
+from thresholdc.ir.reference import Reference
+from thresholdc.logic.source import RuleSource, source_from_text
 from thresholdc.network.layering import insert_relays
-from thresholdc.network.model import Network, Neuron, Output
-from thresholdc.source import Source
-from thresholdc.synth.gates import Gate, GateGraph
+from thresholdc.syntax import parse
 from thresholdc.verify.local import structural_classes, verify_local
 
 gc = load_gen_circuits()
@@ -23,7 +25,7 @@ def table(n: int) -> np.ndarray:
     return ((np.arange(2**n)[:, None] >> np.arange(n)) & 1).astype(np.uint8)
 
 
-def truly_equal(net: Network, src: Source) -> bool:
+def truly_equal(net: Network, src: Reference) -> bool:
     X = table(len(src.inputs))
     perm = [list(src.inputs).index(u) for u in net.inputs]
     order = [list(src.outputs).index(o.name) for o in net.outputs]
@@ -43,7 +45,7 @@ C17 = """INPUT(1)\nINPUT(2)\nINPUT(3)\nINPUT(6)\nINPUT(7)\nOUTPUT(22)\nOUTPUT(23
 @pytest.mark.parametrize("kind, n", [("adder", 4), ("comparator", 4), ("multiplier", 3),
                                      ("parity", 9)])
 def test_gate_for_gate_circuits_are_proven(kind, n):
-    src = Source.from_text(getattr(gc, kind)(n), f"{kind}.bench")
+    src = source_from_text(getattr(gc, kind)(n), f"{kind}.bench")
     net = gate_for_gate(src.gates())
     assert truly_equal(net, src)
     report = verify_local(net, src)
@@ -53,7 +55,7 @@ def test_gate_for_gate_circuits_are_proven(kind, n):
 
 
 def test_every_single_mutation_of_c17_is_judged_right():
-    src = Source.from_text(C17, "c17.bench")
+    src = source_from_text(C17, "c17.bench")
     net = gate_for_gate(src.gates())
     for k in range(len(net.neurons)):
         n = net.neurons[k]
@@ -74,7 +76,7 @@ def test_every_single_mutation_of_c17_is_judged_right():
 
 
 def test_a_wrong_cone_is_never_proven():
-    src = Source.from_text(gc.adder(3), "a.bench")
+    src = source_from_text(gc.adder(3), "a.bench")
     net = gate_for_gate(src.gates())
     rng = random.Random(0)
     for _ in range(20):
@@ -87,7 +89,7 @@ def test_a_wrong_cone_is_never_proven():
 
 
 def test_missing_or_bad_cone_records():
-    src = Source.from_text(C17, "c17.bench")
+    src = source_from_text(C17, "c17.bench")
     net = gate_for_gate(src.gates())
     no_meta = replace(net, meta={})
     assert verify_local(no_meta, src).result == "undecided"
@@ -110,7 +112,7 @@ def test_missing_or_bad_cone_records():
 
 
 def test_relays_of_the_strict_layered_form():
-    src = Source.from_text(gc.adder(3), "a.bench")
+    src = source_from_text(gc.adder(3), "a.bench")
     net = insert_relays(gate_for_gate(src.gates()))
     assert any(n.role == "relay" for n in net.neurons)
     assert verify_local(net, src).result == "equal"
@@ -119,7 +121,7 @@ def test_relays_of_the_strict_layered_form():
 def test_merged_duplicate_gates_are_checked_by_structural_hashing():
     text = "INPUT(a)\nINPUT(b)\nINPUT(c)\nOUTPUT(y)\nOUTPUT(z)\n" \
            "g1 = AND(a, b)\ng2 = AND(b, a)\ny = OR(g1, c)\nz = XOR(g2, c)\n"
-    src = Source.from_text(text, "d.bench")
+    src = source_from_text(text, "d.bench")
     # one neuron for both g1 and g2; z's cone names g2 as its leaf, the network reads g1
     neurons = (
         Neuron("g1", 1, ("a", "b"), (1, 1), -1.5),
@@ -140,7 +142,7 @@ def test_merged_duplicate_gates_are_checked_by_structural_hashing():
 
 def test_output_reading_a_buffered_unit():
     text = "INPUT(a)\nINPUT(b)\nOUTPUT(y)\nOUTPUT(w)\nx = AND(a, b)\ny = BUFF(x)\nw = NOT(y)\n"
-    src = Source.from_text(text, "b.bench")
+    src = source_from_text(text, "b.bench")
     neurons = (Neuron("x", 1, ("a", "b"), (1, 1), -1.5), Neuron("w", 1, ("a", "b"), (-1, -1), 1.5))
     cones = {"x": {"root": "x", "leaves": ["a", "b"]}, "w": {"root": "w", "leaves": ["a", "b"]}}
     net = Network(("a", "b"), neurons, (Output("y", "x"), Output("w", "w")), {"cones": cones})
@@ -157,7 +159,7 @@ def test_wide_cones_symmetric_and_by_sat():
     text += f"all = AND({', '.join(xs)})\n"
     text += f"odd = XOR({', '.join(xs)})\n"
     text += f"half = AND({', '.join(xs[:10])})\nmix = OR(half, {', '.join(xs[10:])})\n"
-    src = Source.from_text(text, "w.bench")
+    src = source_from_text(text, "w.bench")
     bits = (n).bit_length()  # the count of true inputs, highest bit first
     neurons = [Neuron("all", 1, tuple(xs), (1,) * n, -(n - 0.5))]
     higher: list[tuple[str, int]] = []
@@ -189,7 +191,7 @@ def test_wide_cones_symmetric_and_by_sat():
 
 def test_rules_source_small_and_large():
     text = "input a, b, c\nx = a and not b\ny = x or atleast(2, a, b, c)\n"
-    src = Source.from_text(text, "r.rules")
+    src = source_from_text(text, "r.rules")
     net = gate_for_gate_rules(src)
     report = verify_local(net, src)
     assert report.result == "equal"
@@ -207,14 +209,14 @@ def test_rules_to_gates_step_by_sat():
     xs = [f"s{i}" for i in range(18)]
     text = f"input {', '.join(xs)}\nhigh = atleast(3, {', '.join(xs[:9])})\n" \
            f"y = high xor ({' and '.join(xs[9:13])}) or {xs[17]}\n"
-    src = Source.from_text(text, "r.rules")
+    src = source_from_text(text, "r.rules")
     net = gate_for_gate_rules(src)
     report = verify_local(net, src)
     assert report.result == "equal", report.notes
     assert any("sat" in p for p in report.proofs)
 
 
-class _WrongLowering(Source):
+class _WrongLowering(RuleSource):
     """A source whose gate graph does not compute its rules (a lowering bug on purpose)."""
 
     def gates(self, simplify_support=None):
@@ -230,7 +232,7 @@ class _WrongLowering(Source):
 
 def test_rules_to_gates_step_catches_a_wrong_gate_graph():
     text = "input a, b, c\ny = a or (b and c)\n"
-    src = _WrongLowering.from_text(text, "w.rules")
+    src = _WrongLowering("w.rules", text, parse(text, "w.rules"))
     assert isinstance(src, _WrongLowering)
     from thresholdc.synth.mapping import map_to_neurons
 
@@ -243,7 +245,7 @@ def test_rules_to_gates_step_catches_a_wrong_gate_graph():
 
 
 def test_soft_network_is_refused():
-    src = Source.from_text("input a\ny = not a\n", "s.rules")
+    src = source_from_text("input a\ny = not a\n", "s.rules")
     net = Network(("a",), (Neuron("y", 1, ("a",), (-4.0,), 2.0, "tanh"),), (Output("y", "y"),))
     with pytest.raises(UsageError, match="step network"):
         verify_local(net, src)
@@ -252,11 +254,11 @@ def test_soft_network_is_refused():
 def test_cone_left_open_at_a_constant_signal():
     # z is always 0; the neuron for y = b or z reads only b, its cone stops at b
     text = "INPUT(a)\nINPUT(b)\nOUTPUT(y)\nn = NOT(a)\nz = AND(a, n)\ny = OR(b, z)\n"
-    src = Source.from_text(text, "k.bench")
+    src = source_from_text(text, "k.bench")
     net = Network(("a", "b"), (Neuron("y", 1, ("b",), (2,), -1),), (Output("y", "y"),),
                   {"cones": {"y": {"root": "y", "leaves": ["b"]}}})
     assert verify_local(net, src).result == "equal"
     # the same record for y = b or a is not proven: a is not constant
     text2 = "INPUT(a)\nINPUT(b)\nOUTPUT(y)\ny = OR(b, a)\n"
-    report = verify_local(net, Source.from_text(text2, "k2.bench"))
+    report = verify_local(net, source_from_text(text2, "k2.bench"))
     assert report.result == "different"

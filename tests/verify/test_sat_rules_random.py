@@ -19,7 +19,7 @@ pytest.importorskip("pysat.solvers")
 
 from tests.strategies import rule_cases  # noqa: E402
 from thresholdc.compiler import compile_source  # noqa: E402
-from thresholdc.source import Source  # noqa: E402
+from thresholdc.logic.source import source_from_text  # noqa: E402
 from thresholdc.verify.local import verify_local  # noqa: E402
 from thresholdc.verify.sat import verify_sat  # noqa: E402
 
@@ -36,7 +36,7 @@ def truly_equal(net, src) -> bool:
 @given(case=rule_cases(max_inputs=8, max_definitions=4), synthesis=st.booleans(),
        seed=st.integers(0, 10**6))
 def test_random_rules_sat_and_local(case, synthesis, seed):
-    src = Source.from_text(case.text, "random.rules")
+    src = source_from_text(case.text, "random.rules")
     net = compile_source(src, synthesis=synthesis, verify="none").network
     assert verify_sat(net, src, time_limit=30).result == "equal"
     assert verify_local(net, src).result == "equal"

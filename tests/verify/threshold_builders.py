@@ -15,8 +15,8 @@ from __future__ import annotations
 import importlib.util
 import pathlib
 
+from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.network.layering import assign_layers
-from thresholdc.network.model import Network, Neuron, Output
 
 
 def load_gen_circuits():

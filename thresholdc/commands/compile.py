@@ -9,7 +9,8 @@ from typing import Any
 
 from ..compiler import compile_file
 from ..errors import UsageError
-from ..network.fileformat import check_writable
+from ..export import save_any
+from ..network import check_writable
 from .common import add_parser, fmt_num, print_json, warn
 
 SUFFIXES = (".json", ".onnx", ".npz")
@@ -83,12 +84,7 @@ def run(args: argparse.Namespace) -> int:
         time_limit=args.time_limit,
     )
     net = result.network
-    if suffix == ".json":
-        net.save(args.output)
-    else:
-        from ..export import save_any
-
-        save_any(net, args.output)
+    save_any(net, args.output)
     summary = summarise(args.source, args.output, result)
     if args.json:
         print_json(summary)

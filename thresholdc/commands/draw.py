@@ -8,6 +8,8 @@ import sys
 from typing import Any
 
 from ..errors import UsageError
+from ..export import draw, load_any
+from ..network import load
 from .common import add_parser
 
 FORMATS = (".png", ".svg")
@@ -43,9 +45,6 @@ def run(args: argparse.Namespace) -> int:
                          f"supported: {', '.join(FORMATS)}", file=args.output)
     if args.max_neurons < 0:
         raise UsageError(f"--max-neurons must be at least 0, got {args.max_neurons}")
-    from ..export import draw, load_any
-    from ..network.fileformat import load
-
     like = load(args.like) if args.like else None
     net = load_any(args.network, like=like)
     draw(net, args.output, max_neurons=args.max_neurons)

@@ -8,6 +8,8 @@ import sys
 from typing import Any
 
 from ..errors import UsageError
+from ..export import SUFFIXES, load_any, save_any
+from ..network import load
 from .common import add_parser, print_json
 
 
@@ -34,9 +36,6 @@ def register(subparsers: Any) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..export import SUFFIXES, load_any, save_any
-    from ..network.fileformat import load
-
     suffix = os.path.splitext(args.output)[1].lower()
     if suffix not in SUFFIXES:  # checked before reading anything
         raise UsageError(f"unknown output suffix {suffix or '(none)'!r}; "

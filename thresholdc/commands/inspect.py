@@ -7,7 +7,7 @@ import sys
 from typing import Any
 
 from ..api import load
-from ..network.model import Network
+from ..ir.network import Network
 from .common import add_parser, fmt_num, format_table, print_json
 
 

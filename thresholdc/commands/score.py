@@ -7,8 +7,7 @@ import sys
 from typing import Any
 
 from ..api import load
-from ..train.data import load_data, parse_label_specs
-from ..train.scoring import score
+from ..train import load_data, parse_label_specs, score
 from .common import add_parser, format_table, print_json
 
 

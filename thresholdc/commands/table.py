@@ -21,7 +21,9 @@ from typing import Any
 import numpy as np
 
 from ..errors import UsageError
-from ..source import Source, load_source
+from ..ir.reference import Reference
+from ..logic import evaluate as evaluate_rules
+from ..logic import load_source
 from .common import add_parser, warn
 
 __all__ = ["register", "run", "table_rows", "MAX_TABLE_ROWS"]
@@ -50,7 +52,7 @@ def register(subparsers: Any) -> None:
     p.add_argument("--json", action="store_true", help="print the table as JSON")
 
 
-def _columns(source: Source) -> tuple[list[str], list[list[str]], list[bool]]:
+def _columns(source: Reference) -> tuple[list[str], list[list[str]], list[bool]]:
     """The table's input columns, the values each takes (as printed) and which are Boolean."""
     program = source.program
     if program is None or not program.is_typed():
@@ -79,22 +81,21 @@ def _digits(radices: list[int], start: int, stop: int) -> np.ndarray:
     return X
 
 
-def _evaluate(source: Source, X: np.ndarray) -> np.ndarray:
+def _evaluate(source: Reference, X: np.ndarray) -> np.ndarray:
     """Outputs ``(rows, outputs)`` as 0/1 for rows of value indices."""
     program = source.program
     if program is not None and program.is_typed():
-        from ..logic import reference
-
-        return reference.evaluate(program, X).astype(np.uint8)
+        return evaluate_rules(program, X).astype(np.uint8)
     return np.asarray(source.evaluate(X.astype(np.uint8)), dtype=np.uint8)
 
 
-def table_rows(source: Source, limit: int) -> tuple[np.ndarray, np.ndarray, int]:
+def table_rows(source: Reference, limit: int) -> tuple[np.ndarray, np.ndarray, int]:
     """``(inputs, outputs, total)`` for the first ``limit`` rows (0: all), in memory at once.
 
     ``inputs`` holds value indices (0/1 for Boolean inputs).
 
-    >>> src = Source.from_text("input a, b\\ny = a and b\\n", "x.rules")
+    >>> from thresholdc.logic import source_from_text
+    >>> src = source_from_text("input a, b\\ny = a and b\\n", "x.rules")
     >>> X, Y, total = table_rows(src, 0)
     >>> X.tolist(), Y.ravel().tolist(), total
     ([[0, 0], [0, 1], [1, 0], [1, 1]], [0, 0, 0, 1], 4)
@@ -108,14 +109,14 @@ def table_rows(source: Source, limit: int) -> tuple[np.ndarray, np.ndarray, int]
     return X, Y, total
 
 
-def _chunk(source: Source, radices: list[int], start: int, stop: int) -> tuple[np.ndarray,
+def _chunk(source: Reference, radices: list[int], start: int, stop: int) -> tuple[np.ndarray,
                                                                              np.ndarray]:
     """Rows ``start .. stop-1``: value indices and outputs (0/1), both int64."""
     X = _digits(radices, start, stop)
     return X, _evaluate(source, X).astype(np.int64)
 
 
-def _shown(source: Source, total: int, limit: int) -> int:
+def _shown(source: Reference, total: int, limit: int) -> int:
     """How many rows to print; refuses more than MAX_TABLE_ROWS."""
     shown = total if limit <= 0 else min(limit, total)
     if shown > MAX_TABLE_ROWS:

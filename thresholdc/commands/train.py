@@ -9,9 +9,8 @@ from typing import Any
 
 from ..api import load
 from ..errors import UsageError
-from ..train.data import load_data, parse_label_specs
-from ..train.fit import DEFAULT_LR, DEFAULTS, train
-from ..train.scoring import score
+from ..export import save_any
+from ..train import DEFAULT_LR, DEFAULTS, load_data, parse_label_specs, score, train
 from .common import add_parser, fmt_num, print_json
 from .score import add_data_arguments
 
@@ -115,12 +114,7 @@ def run(args: argparse.Namespace) -> int:
     trained = result.network.with_meta(training=training)
     before = score(result.start, data)
     after = score(trained, data)
-    if suffix == ".json":
-        trained.save(args.output)
-    else:
-        from ..export import save_any
-
-        save_any(trained, args.output)
+    save_any(trained, args.output)
     if args.json:
         log = {"network": args.network, "data": args.data, "output": args.output,
                "rows": data.rows, **result.to_dict(), "before": before, "after": after}

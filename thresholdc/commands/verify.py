@@ -8,8 +8,8 @@ from typing import Any
 
 from ..api import load, verify
 from ..errors import VerificationUndecided
-from ..source import load_source
-from ..verify.report import Report
+from ..logic import load_source
+from ..verify import Report, check_certificate
 from .common import add_parser, fmt_num, format_table, print_json
 
 
@@ -69,8 +69,6 @@ def _certificate_problems(net: Any) -> list[str] | None:
     """Problems of a stored soft-activation certificate; None when there is none."""
     if not isinstance(net.meta.get("certificate"), dict):
         return None
-    from ..verify.certificate import check_certificate
-
     return list(check_certificate(net).problems)
 
 

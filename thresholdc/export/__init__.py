@@ -9,7 +9,7 @@ extras ``torch`` and ``plot``; ONNX needs ``onnx`` (and ``onnxruntime`` to run i
 modules are imported only when used.
 
 >>> import os, tempfile
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
 >>> path = os.path.join(tempfile.mkdtemp(), "n.npz")
 >>> save_any(net, path)
@@ -24,8 +24,9 @@ import os
 from typing import Any
 
 from ..errors import UsageError
-from ..network import fileformat
-from ..network.model import Network
+from ..ir.network import Network
+from ..network import load as load_network_file
+from ..network import save as save_network_file
 
 __all__ = [
     "SUFFIXES", "save_any", "load_any", "load_dense",
@@ -95,7 +96,7 @@ def save_any(net: Network, path: str) -> None:
         Any other suffix (the message lists the supported ones), a missing optional
         package, or a network that the format cannot hold.
 
-    >>> from thresholdc.network.model import Network, Output
+    >>> from thresholdc.ir.network import Network, Output
     >>> save_any(Network(("a",), (), (Output("a", "a"),)), "net.txt")  # doctest: +ELLIPSIS
     Traceback (most recent call last):
     ...
@@ -104,7 +105,7 @@ def save_any(net: Network, path: str) -> None:
     suffix = _suffix(path, SUFFIXES, "to write a network")
     try:
         if suffix == ".json":
-            fileformat.save(net, path)
+            save_network_file(net, path)
         elif suffix == ".npz":
             _module("npz", None, "writing .npz").save_npz(net, path)
         else:
@@ -140,7 +141,7 @@ def load_dense(path: str, like: Network | None = None) -> Network:
         A file that cannot be read.
 
     >>> import os, tempfile
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> path = os.path.join(tempfile.mkdtemp(), "n.npz"); save_any(net, path)
     >>> [n.name for n in load_dense(path, like=net).neurons]
@@ -165,5 +166,5 @@ def load_any(path: str, like: Network | None = None) -> Network:
     """
     suffix = _suffix(path, SUFFIXES, "to read a network from")
     if suffix == ".json":
-        return fileformat.load(path)
+        return load_network_file(path)
     return load_dense(path, like)

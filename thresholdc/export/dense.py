@@ -16,7 +16,7 @@ dense form of ``like`` gets ``like``'s neuron names, roles and origins; any othe
 helper names ``L{k}~{i}``.  The imported network is dense: every unit reads every unit of the
 layer before, zero weights included.
 
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5, origin="y"),),
 ...               (Output("y", "y"), Output("z", "y")))
 >>> form = dense_form(net)
@@ -36,8 +36,9 @@ from typing import Any
 import numpy as np
 
 from ..errors import UsageError
-from ..network import activations as act
-from ..network.model import Network, Neuron, Output
+from ..ir import activations as act
+from ..ir.network import Network, Neuron, Output
+from ..network import insert_relays
 
 __all__ = [
     "DenseForm", "Layer", "dense_form", "strict_form", "network_from_layers", "unique_name",
@@ -89,10 +90,6 @@ def strict_form(net: Network) -> Network:
     # Step relays are exact only in a step network; a soft or ReLU network must be layered
     # when it is compiled (its relays then get the network's own activation).
     steps = all(n.activation == "step" for n in net.neurons)
-    try:
-        from ..network.layering import insert_relays
-    except ImportError:
-        steps = False
     if not steps:
         kinds = sorted({n.activation for n in net.neurons} - {"step"})
         raise UsageError(
@@ -118,7 +115,7 @@ def dense_form(net: Network) -> DenseForm:
     DenseForm
         Layers ``(W, b, activation)`` whose last rows are the outputs in output order.
 
-    >>> from thresholdc.network.model import Network, Output
+    >>> from thresholdc.ir.network import Network, Output
     >>> form = dense_form(Network(("a",), (), (Output("a", "a"),)))
     >>> form.layers[0][0].tolist(), form.layers[0][1].tolist(), form.names
     ([[1.0]], [-0.5], [['a~relay']])

@@ -19,7 +19,7 @@ Output is deterministic: PNG without the software tag, SVG with a fixed hash sal
 text kept as text (so an SVG can be searched for neuron names).
 
 >>> import os, tempfile
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5, origin="y"),),
 ...               (Output("y", "y"),))
 >>> path = os.path.join(tempfile.mkdtemp(), "y.svg")
@@ -43,8 +43,8 @@ from matplotlib.patches import PathPatch
 from matplotlib.path import Path
 
 from ..errors import UsageError
-from ..network.fileformat import atomic_write
-from ..network.model import Network
+from ..ir.network import Network
+from ..network import atomic_write
 
 __all__ = ["draw", "figure", "render", "FORMATS", "MAX_NEURONS"]
 
@@ -290,7 +290,7 @@ def figure(net: Network, *, max_neurons: int = MAX_NEURONS,
     max_labels : int
         Above this many links the weights are not written on them (and the picture says so).
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> [round(float(x), 2) for x in figure(net).get_size_inches()]
     [7.8, 3.5]
@@ -337,7 +337,7 @@ def draw(net: Network, path: str, *, max_neurons: int = MAX_NEURONS,
         Any other suffix (the message lists the supported ones).
 
     >>> import os, tempfile
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> path = os.path.join(tempfile.mkdtemp(), "n.png"); draw(net, path)
     >>> open(path, "rb").read(8) == b"\\x89PNG\\r\\n\\x1a\\n"

@@ -1,6 +1,6 @@
 """NumPy ``.npz`` export and import: the strict layered form as plain arrays.
 
-Layout (issue 4 §4): ``W1, b1, …, WL, bL`` (float64; ``Wℓ`` of shape ``(n_out, n_in)``,
+Layout: ``W1, b1, …, WL, bL`` (float64; ``Wℓ`` of shape ``(n_out, n_in)``,
 ``bℓ`` of shape ``(n_out,)``), and unicode (dtype ``'U'``) arrays ``activations`` (length L),
 ``inputs`` and ``outputs``.  The rows of ``WL`` are the outputs in output order (see
 :mod:`thresholdc.export.dense`).  Nothing needs pickle, so ``np.load(path,
@@ -10,7 +10,7 @@ The archive is written by hand (stored entries with a fixed date in a fixed orde
 ``np.savez`` stamps every entry with the current time: the same network gives the same bytes.
 
 >>> import io
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),), (Output("y", "y"),))
 >>> arrays = np.load(io.BytesIO(npz_bytes(net)), allow_pickle=False)
 >>> sorted(arrays.files), arrays["W1"].tolist(), arrays["activations"].tolist()
@@ -27,8 +27,8 @@ from typing import Any
 import numpy as np
 
 from ..errors import NetworkFileError
-from ..network.fileformat import atomic_write
-from ..network.model import Network
+from ..ir.network import Network
+from ..network import atomic_write
 from .dense import dense_form, network_from_layers
 
 __all__ = ["to_arrays", "npz_bytes", "save_npz", "load_npz", "from_arrays"]
@@ -56,7 +56,7 @@ def to_arrays(net: Network) -> dict[str, np.ndarray]:
     dict of str to numpy.ndarray
         ``W1, b1, …, WL, bL, activations, inputs, outputs``.
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> list(to_arrays(net))
     ['W1', 'b1', 'activations', 'inputs', 'outputs']
@@ -89,7 +89,7 @@ def save_npz(net: Network, path: str) -> None:
     """Write ``net`` as ``.npz`` at ``path`` (atomically: temporary file, then rename).
 
     >>> import os, tempfile
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> path = os.path.join(tempfile.mkdtemp(), "n.npz"); save_npz(net, path)
     >>> np.load(path, allow_pickle=False)["b1"].tolist()
@@ -162,7 +162,7 @@ def load_npz(path: str, like: Network | None = None) -> Network:
         A layer's shape does not fit ``like`` (the message names the layer).
 
     >>> import os, tempfile
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> path = os.path.join(tempfile.mkdtemp(), "n.npz"); save_npz(net, path)
     >>> load_npz(path).evaluate([[0], [1]]).tolist()

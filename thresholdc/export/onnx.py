@@ -23,7 +23,7 @@ The model's ``metadata_props`` hold, as JSON text: ``inputs``, ``outputs`` (name
 the graph creates, in creation order) and ``form`` (``dense`` or ``general``).  There is no
 timestamp and node names are fixed, so the same network gives the same bytes.
 
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),), (Output("y", "y"),))
 >>> model = to_onnx(net)
 >>> [n.op_type for n in model.graph.node]
@@ -39,8 +39,9 @@ import numpy as np
 import onnx
 from onnx import TensorProto, helper, numpy_helper
 
-from ..network.fileformat import atomic_write
-from ..network.model import Network
+from ..ir.network import Network
+from ..network import atomic_write
+from ..version import __version__
 from .dense import dense_form
 
 __all__ = ["OPSET", "IR_VERSION", "INPUT", "OUTPUT", "to_onnx", "onnx_bytes", "save_onnx"]
@@ -54,12 +55,7 @@ _OPS = {"sigmoid": "Sigmoid", "tanh": "Tanh", "relu": "Relu"}
 
 def _version() -> str:
     """The package version, for ``producer_version`` (fixed text, no build details)."""
-    try:
-        from .. import __version__
-
-        return str(__version__)
-    except ImportError:
-        return "0"
+    return __version__
 
 
 class _Graph:
@@ -195,7 +191,7 @@ def to_onnx(net: Network) -> onnx.ModelProto:
         Input ``inputs`` (batch × input units), output ``outputs`` (batch × outputs), both
         float32, batch dimension ``batch``; names and origins in ``metadata_props``.
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> meta = {p.key: p.value for p in to_onnx(net).metadata_props}
     >>> meta["inputs"], meta["outputs"]
@@ -244,7 +240,7 @@ def save_onnx(net: Network, path: str) -> None:
     """Write ``net`` as an ONNX file at ``path`` (atomically: temporary file, then rename).
 
     >>> import os, tempfile
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> path = os.path.join(tempfile.mkdtemp(), "n.onnx"); save_onnx(net, path)
     >>> onnx.load(path).opset_import[0].version

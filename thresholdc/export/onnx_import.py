@@ -15,7 +15,7 @@ reads exactly the previous group, the output is the last group) the result goes 
 :func:`thresholdc.export.dense.network_from_layers`, so it gets ``like``'s names where the
 shapes match; other graphs (our general export) take their names from the model's metadata.
 
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> from thresholdc.export.onnx import to_onnx
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),), (Output("y", "y"),))
 >>> back = from_onnx(to_onnx(net))
@@ -34,7 +34,7 @@ import onnx
 from onnx import numpy_helper
 
 from ..errors import NetworkFileError, UsageError
-from ..network.model import Network, Neuron, Output
+from ..ir.network import Network, Neuron, Output
 from .dense import imported_meta, network_from_layers, unique_name
 
 __all__ = ["from_onnx", "load_onnx", "SUPPORTED_OPS"]
@@ -352,7 +352,7 @@ def from_onnx(model: onnx.ModelProto, like: Network | None = None, *,
         An operator outside the supported set, a shape that does not fit ``like`` (naming
         the layer), or no names to give the units.
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> from thresholdc.export.onnx import to_onnx
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> [n.name for n in from_onnx(to_onnx(net), like=net).neurons]
@@ -438,7 +438,7 @@ def load_onnx(path: str, like: Network | None = None) -> Network:
     """Read a network from the ONNX file at ``path`` (see :func:`from_onnx`).
 
     >>> import os, tempfile
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> from thresholdc.export.onnx import save_onnx
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> path = os.path.join(tempfile.mkdtemp(), "n.onnx"); save_onnx(net, path)

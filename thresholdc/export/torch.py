@@ -8,7 +8,7 @@ which has no useful gradient: soften the network (``--activation sigmoid``) befo
 nothing, which is a linear layer) with the names of the compiled network it came from.
 
 >>> import torch
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),), (Output("y", "y"),))
 >>> model = to_torch(net)
 >>> model
@@ -27,7 +27,7 @@ import torch
 from torch import nn
 
 from ..errors import UsageError
-from ..network.model import Network
+from ..ir.network import Network
 from .dense import Layer, dense_form, network_from_layers
 
 __all__ = ["Step", "to_torch", "from_torch"]
@@ -73,7 +73,7 @@ def to_torch(network: Network, *, dtype: torch.dtype = torch.float32) -> nn.Sequ
     torch.nn.Sequential
         Input ``(batch, input units)``, output ``(batch, outputs)`` in output order.
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-2,), 1, "sigmoid"),), (Output("n", "n"),))
     >>> [type(m).__name__ for m in to_torch(net)]
     ['Linear', 'Sigmoid']
@@ -158,7 +158,7 @@ def from_torch(module: nn.Module, like: Network) -> Network:
     UsageError
         An unsupported module, or a layer whose shape does not fit ``like`` (naming it).
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-2,), 1, "sigmoid"),), (Output("n", "n"),))
     >>> from_torch(to_torch(net), like=net).neurons[0].weights
     (-2.0,)

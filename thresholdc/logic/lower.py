@@ -1,4 +1,4 @@
-"""Lowering: a checked :class:`~thresholdc.syntax.ast.Program` becomes a :class:`GateGraph`.
+"""Lowering: a checked :class:`~thresholdc.ir.program.Program` becomes a :class:`GateGraph`.
 
 Rules of the lowering
     * Each definition ``d`` becomes the signal ``d``; the gates inside its expression get the
@@ -31,8 +31,9 @@ from dataclasses import replace
 import sympy
 from sympy.logic import boolalg
 
-from ..syntax import ast
-from ..synth.gates import Gate, GateGraph
+from ..ir import program as ast
+from ..ir.gates import Gate, GateGraph
+from .typed import strict_real_test
 
 __all__ = ["lower_to_gates", "input_units", "DEFAULT_SIMPLIFY_SUPPORT"]
 
@@ -129,8 +130,6 @@ class _Lowerer:
             return self.emit(Gate("not", (sig,), span=span)) if e.negate else sig
         if isinstance(e, ast.RealTest):
             # Only strict tests are gates: x >= c is not(x < c), x <= c is not(x > c).
-            from .typed import strict_real_test
-
             op, c, negate = strict_real_test(e.op, e.value)
             sig = self.emit(Gate("realcmp", (e.var,), span=span, real_test=(op, c)))
             return self.emit(Gate("not", (sig,), span=span)) if negate else sig

@@ -20,7 +20,7 @@ from collections.abc import Mapping
 import numpy as np
 
 from ..errors import DataError
-from ..syntax.ast import (
+from ..ir.program import (
     BinOp,
     Call,
     CategoryTest,

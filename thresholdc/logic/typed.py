@@ -8,7 +8,7 @@ inputs (``input temp: real in [-40, 60] scale 0.5``).  In the network
 * a real input is one unit carrying the raw value, ``temp``;
 * a Boolean input is one 0/1 unit, as before.
 
-The network file's ``features`` list (DESIGN.md §4, issue 5 §1) says how a data column becomes
+The network file's ``features`` list (DESIGN.md §4) says how a data column becomes
 units; :func:`network_features` builds it from a program, :func:`decode_units` goes the other
 way (unit rows back to one column per declared input, for the reference evaluator).
 
@@ -44,22 +44,20 @@ from typing import Any
 
 import numpy as np
 
-from ..syntax import ast
+from ..ir import program as ast
+from ..ir.network import DEFAULT_SCALE
+from .reference import evaluate
 
 __all__ = [
-    "DEFAULT_SCALE",
     "strict_real_test",
     "network_features",
     "feature_scale",
     "real_thresholds",
     "decode_units",
     "evaluate_units",
-    "real_units",
-    "real_margins",
 ]
 
 #: The scale of a real input that declares none (in the input's own units).
-DEFAULT_SCALE = 1.0
 
 
 def strict_real_test(op: str, value: float) -> tuple[str, float, bool]:
@@ -186,46 +184,4 @@ def evaluate_units(program: ast.Program, X: Any, units: Any) -> np.ndarray:
     >>> evaluate_units(prog, [[0, 1, 0.0], [1, 0, 3.0]], ["c=x", "c=y", "t"]).ravel().tolist()
     [True, False]
     """
-    from .reference import evaluate
-
     return evaluate(program, decode_units(program, X, units))
-
-
-def real_units(net: Any) -> dict[str, float]:
-    """``{unit: scale}`` for every real unit of a network (from its ``features``).
-
-    >>> from thresholdc.network.model import Network
-    >>> real_units(Network(("t",), (), (), features=({"name": "t", "kind": "real",
-    ...     "units": ["t"], "range": None, "scale": 0.5},)))
-    {'t': 0.5}
-    """
-    out: dict[str, float] = {}
-    for f in getattr(net, "features", None) or ():
-        if f.get("kind") == "real":
-            scale = f.get("scale")
-            for u in f.get("units", ()):
-                out[u] = float(scale) if scale is not None else DEFAULT_SCALE
-    return out
-
-
-def real_margins(net: Any, margins: np.ndarray) -> np.ndarray:
-    """``margins`` with each neuron that reads a real unit given ``min |w|·scale`` over its real
-    inputs: the distance in ``z`` at which it is ``scale`` away from its threshold.
-
-    The soft-activation pass uses it: a soft gain ``x(ε)/margin`` then is ``ln(1/ε − 1)/scale``
-    for the compiled ``z = ±(x − c)``.
-
-    >>> from thresholdc.network.model import Network, Neuron, Output
-    >>> net = Network(("t",), (Neuron("y", 1, ("t",), (1.0,), -3.0),), (Output("y", "y"),),
-    ...               features=({"name": "t", "kind": "real", "units": ["t"], "range": None,
-    ...                          "scale": 0.25},))
-    >>> real_margins(net, np.array([0.5])).tolist()
-    [0.25]
-    """
-    scales = real_units(net)
-    out = np.array(margins, dtype=float, copy=True)
-    for j, n in enumerate(net.neurons):
-        found = [abs(float(w)) * scales[i] for i, w in zip(n.inputs, n.weights) if i in scales]
-        if found:
-            out[j] = min(found)
-    return out

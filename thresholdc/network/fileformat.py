@@ -5,7 +5,7 @@ numbers deterministically (integral values as integers), so the same network giv
 bytes.  The reader checks everything (:func:`check_network`) and raises
 :class:`~thresholdc.errors.NetworkFileError` naming the file and what is wrong.
 
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
 >>> loads(dumps(net)) == net
 True
@@ -21,11 +21,11 @@ from typing import Any
 
 from ..errors import NetworkFileError, UsageError
 from ..files import read_text as _read_text
-from . import activations as act
-from .model import ENCODINGS, ROLES, Network, Neuron, Output
+from ..ir import activations as act
+from ..ir.network import ENCODINGS, ROLES, Network, Neuron, Output, check_network
 
 __all__ = [
-    "FORMAT", "VERSION", "dumps", "loads", "load", "save", "check_network", "atomic_write",
+    "FORMAT", "VERSION", "dumps", "loads", "load", "save", "atomic_write", "from_dict",
     "check_writable",
 ]
 
@@ -233,49 +233,6 @@ def from_dict(data: Any, file: str = "<network>") -> Network:
     )
     check_network(net, file)
     return net
-
-
-def check_network(net: Network, file: str = "<network>") -> None:
-    """Check the structural invariants of a network; raise NetworkFileError on the first break.
-
-    Names unique, every neuron reads known earlier units, weights match inputs, layers are
-    1 + the largest input layer, outputs read known units.
-    """
-    layer: dict[str, int] = {}
-    for name in net.inputs:
-        _expect(name not in layer, file, f"input unit {name!r} is listed twice")
-        layer[name] = 0
-    for n in net.neurons:
-        _expect(n.name not in layer, file, f"unit name {n.name!r} is used twice")
-        _expect(
-            len(n.inputs) == len(n.weights),
-            file,
-            f"neuron {n.name!r} has {len(n.inputs)} inputs but {len(n.weights)} weights",
-        )
-        for i in n.inputs:
-            _expect(
-                i in layer,
-                file,
-                f"neuron {n.name!r} reads unknown unit {i!r} "
-                "(units must come before their readers)",
-            )
-        want = 1 + max((layer[i] for i in n.inputs), default=0)
-        _expect(
-            n.layer == want,
-            file,
-            f"neuron {n.name!r} has layer {n.layer}, but its inputs put it in layer {want}",
-        )
-        _expect(
-            all(math.isfinite(w) for w in n.weights) and math.isfinite(n.bias),
-            file,
-            f"neuron {n.name!r} has a weight or bias that is not finite",
-        )
-        layer[n.name] = n.layer
-    seen = set()
-    for o in net.outputs:
-        _expect(o.source in layer, file, f"output {o.name!r} reads unknown unit {o.source!r}")
-        _expect(o.name not in seen, file, f"output {o.name!r} is listed twice")
-        seen.add(o.name)
 
 
 def loads(text: str, file: str = "<network>") -> Network:

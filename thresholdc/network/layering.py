@@ -6,7 +6,7 @@ units of layer L − 1 and every output reads a unit of the last layer, so each 
 matrix; :func:`insert_relays` gets there by carrying each unit forward through relay neurons
 (step, weight 1, bias −0.5: the unit's 0/1 value again, with margin 0.5).
 
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a", "b"), (Neuron("h", 1, ("a", "b"), (1, 1), -1.5),
 ...                            Neuron("y", 2, ("a", "h"), (1, -1), -0.5)), (Output("y", "y"),))
 >>> [n.name for n in insert_relays(net).neurons]
@@ -18,7 +18,7 @@ from __future__ import annotations
 from collections.abc import Iterable
 from dataclasses import replace
 
-from .model import Network, Neuron, Output
+from ..ir.network import Network, Neuron, Output
 
 __all__ = ["assign_layers", "insert_relays", "fresh_name", "prune_dead"]
 

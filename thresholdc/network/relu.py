@@ -1,4 +1,4 @@
-"""The exact ReLU form of a step network (issue 4 §2).
+"""The exact ReLU form of a step network.
 
 On ``|z| ≥ ½`` a step is the difference of two ReLUs: ``step(z) = ReLU(z + ½) − ReLU(z − ½)``.
 So every threshold neuron ``n`` becomes a pair of ReLU units ``n~pos`` (bias + ½) and ``n~neg``
@@ -19,7 +19,7 @@ relay unit ``ReLU(n~pos − n~neg)`` (then ``ReLU(r)`` for later layers; ``ReLU(
 unit), never by a relayed pair (its negative half is always 0 there).  Layers 1 … D hold only
 ReLU units and layer D + 1 only the linear output units, so every layer has one activation.
 
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5, origin="y"),),
 ...               (Output("y", "y"),))
 >>> r = to_relu(net)
@@ -33,8 +33,8 @@ from dataclasses import replace
 
 import numpy as np
 
+from ..ir.network import Network, Neuron, Output, real_margins, real_units
 from .layering import fresh_name
-from .model import Network, Neuron, Output
 
 __all__ = ["to_relu"]
 
@@ -46,8 +46,6 @@ def _taken_names(net: Network) -> set[str]:
 
 def _scales(net: Network) -> dict[str, float]:
     """``{neuron: factor}`` for neurons reading a real unit: ``1 / (2 · margin)``."""
-    from ..logic.typed import real_margins, real_units
-
     real = real_units(net)
     if not real:
         return {}
@@ -87,7 +85,7 @@ def to_relu(net: Network, *, layered: bool = False) -> Network:
 
     Examples
     --------
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a", "b"), (Neuron("h", 1, ("a", "b"), (1, 1), -1.5, origin="y"),
     ...                            Neuron("y", 2, ("a", "h"), (1, -2), -0.5, origin="y")),
     ...               (Output("y", "y"),))
@@ -148,8 +146,6 @@ def _layered(net: Network) -> Network:
     # of n at that layer.  Relays exist at every layer L(n) + 1 … need(n), where need(n) is the
     # highest layer any reader (or, for outputs, the last ReLU layer D) wants n at.  Layer D + 1
     # holds one linear unit per output source.
-    from ..logic.typed import real_units
-
     taken = _taken_names(net)
     factor = _scales(net)
     real = real_units(net)

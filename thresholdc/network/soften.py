@@ -1,4 +1,4 @@
-"""Soft activations with certified gains: the ``soften`` pass (issue 4 §1 and §3).
+"""Soft activations with certified gains: the ``soften`` pass.
 
 The compiler's step network has integer weights and half-integer biases, so on every 0/1 input
 every step neuron has ``|z| ≥ 0.5``.  :func:`apply_activation` turns it into the network the
@@ -17,7 +17,7 @@ are too many to enumerate), ``g`` the gain folded into the neuron, ``b`` its cer
 deviation and ``B`` the largest ``b``.  :func:`thresholdc.verify.certificate.check_certificate`
 checks it.
 
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5, origin="y"),),
 ...               (Output("y", "y"),))
 >>> soft = apply_activation(net, activation="sigmoid", tolerance=0.01)
@@ -36,8 +36,10 @@ from typing import Any
 import numpy as np
 
 from ..errors import UsageError
+from ..ir.network import Network, real_margins, real_units
 from ..progress import bar as progress_bar
-from .model import Network
+from .layering import insert_relays
+from .relu import to_relu
 
 __all__ = [
     "ACTIVATION_CHOICES",
@@ -104,8 +106,6 @@ def _check_step_network(net: Network) -> None:
     half-integer biases (the compiler's output)."""
     if net.encoding != "binary":
         raise UsageError("apply_activation needs a network in the binary encoding")
-    from ..logic.typed import real_units
-
     real = real_units(net)
     for n in net.neurons:
         if n.activation != "step":
@@ -168,7 +168,7 @@ def apply_activation(
 
     Examples
     --------
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5, origin="n"),),
     ...               (Output("n", "n"),))
     >>> apply_activation(net, activation="sigmoid", gain=8.0).neurons[0].weights
@@ -181,12 +181,8 @@ def apply_activation(
     _check_options(activation, gain, tolerance, encoding)
     _check_step_network(net)
     if activation == "relu":
-        from .relu import to_relu
-
         return to_relu(net, layered=layered)
     if layered:
-        from .layering import insert_relays
-
         net = insert_relays(net)
     if encoding == "bipolar":
         net = to_bipolar(net)
@@ -205,7 +201,7 @@ def to_bipolar(net: Network) -> Network:
     A neuron ``z = Σ w x + b`` over 0/1 values reads, on ``x' = 2x − 1``,
     ``z = Σ (w/2) x' + (b + Σ w/2)``: the same pre-activation, so the same margins.
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),),
     ...               (Output("y", "y"),))
     >>> bip = to_bipolar(net)
@@ -213,8 +209,6 @@ def to_bipolar(net: Network) -> Network:
     ((0.5, 0.5), -0.5, [[-1.0], [1.0]])
     """
     assert net.encoding == "binary"
-    from ..logic.typed import real_units
-
     real = real_units(net)  # real units carry raw values in both encodings: left as they are
     neurons = tuple(
         replace(n, weights=tuple(w if i in real else w / 2 for i, w in zip(n.inputs, n.weights)),
@@ -283,7 +277,7 @@ def neuron_margins(
     compiler's guarantee 0.5 is returned with ``"assumed"``.  Chunked: never the whole truth
     table in memory.
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (2, 2), -1.5),),
     ...               (Output("y", "y"),))
     >>> neuron_margins(net)
@@ -298,8 +292,6 @@ def neuron_margins(
     k = len(net.inputs)
     count = len(net.neurons)
     if k > max_inputs or _has_real_units(net):
-        from ..logic.typed import real_margins  # neurons reading real units: |w|·scale
-
         return real_margins(net, np.full(count, 0.5)), "assumed"
     margins = np.full(count, np.inf)
     if count == 0:
@@ -457,7 +449,7 @@ def certify_gains(
     :func:`to_bipolar`), weights and bias pre-gain.  Either ``tolerance`` (derived gains) or
     ``gain`` (one fixed gain) is given.
 
-    Rules (issue 4 §1).  A neuron whose inputs are each at most ε_i from their exact values
+    Rules.  A neuron whose inputs are each at most ε_i from their exact values
     has its pre-activation moved by at most s = Σ|w_i|·ε_i (input units: ε = 0), so with gain
     g its output is within deviation(g·(m − s)) of the step value (m: its margin).  With a
     tolerance EPS: backward from the outputs, each neuron gets the budget
@@ -466,7 +458,7 @@ def certify_gains(
     the smallest gain that meets the budget, rounded up to 6 significant digits.  Bounds are
     rounded up to 10 significant digits and the rounded values are propagated.
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5, origin="n"),),
     ...               (Output("n", "n"),))
     >>> cert = certify_gains(net, tolerance=0.01).meta["certificate"]
@@ -515,7 +507,7 @@ def certify_gains(
 def misread_limit(net: Network) -> float:
     """The deviation at which an output could be misread: 0.5 (binary), 1 (bipolar).
 
-    >>> from thresholdc.network.model import Network
+    >>> from thresholdc.ir.network import Network
     >>> misread_limit(Network((), (), ()))
     0.5
     """
@@ -527,7 +519,7 @@ def certificate_bound(net: Network) -> float:
 
     Raises ``ValueError`` for a soft network without a certificate.
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> certificate_bound(net)
     0.0
@@ -544,7 +536,7 @@ def survives(net: Network) -> bool:
     """True when the certified bound keeps every neuron on the right side of the decision
     threshold, i.e. the soft network still computes the rules (bound < :func:`misread_limit`).
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a", "b"), (Neuron("p", 1, ("a", "b"), (1, 1), -1.5),
     ...                            Neuron("q", 1, ("a", "b"), (1, 1), -0.5),
     ...                            Neuron("y", 2, ("p", "q"), (1, 1), -1.5)),

@@ -1,4 +1,4 @@
-"""Whole-file checks of a parsed rule file, ending in a :class:`~thresholdc.syntax.ast.Program`.
+"""Whole-file checks of a parsed rule file, ending in a :class:`~thresholdc.ir.program.Program`.
 
 The rules (DESIGN.md section 3): every name used is a declared input or a definition; a name is
 declared once and defined once, never both; the declared type decides how ``name == value``
@@ -15,7 +15,7 @@ from collections.abc import Iterable
 import networkx as nx
 
 from ..errors import RuleError
-from .ast import (
+from ..ir.program import (
     BinOp,
     Call,
     CategoryTest,

@@ -1,4 +1,4 @@
-"""Parse rule text (DESIGN.md section 3) into a checked :class:`~thresholdc.syntax.ast.Program`.
+"""Parse rule text (DESIGN.md section 3) into a checked :class:`~thresholdc.ir.program.Program`.
 
 The grammar is ``grammar.lark``, read by lark's LALR parser fed by the lexer of :mod:`.lexer`; the
 Transformer of :mod:`.transform` builds the AST while parsing and :mod:`.checks` checks the file
@@ -16,7 +16,7 @@ from lark import Lark, Token
 from lark.exceptions import UnexpectedCharacters, UnexpectedInput, UnexpectedToken
 
 from ..errors import RuleError, Span
-from .ast import Program
+from ..ir.program import Program
 from .checks import check_program
 from .lexer import KEYWORDS, RuleLexer, last_tokens, open_brackets
 from .transform import RuleBuilder

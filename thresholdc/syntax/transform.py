@@ -17,7 +17,7 @@ from dataclasses import dataclass, field
 from lark import Token, Transformer
 
 from ..errors import RuleError, Span
-from .ast import (
+from ..ir.program import (
     BinOp,
     Call,
     Compare,

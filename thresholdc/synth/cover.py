@@ -15,7 +15,7 @@ Rules
     * Every walk is a loop with an explicit stack (no recursion on deep graphs); the order of
       every choice is fixed, so the same graph gives the same cover.
 
->>> from thresholdc.synth.options import Option
+>>> from thresholdc.synth.candidates import Option
 >>> from thresholdc.synth.gadgets import Spec
 >>> one = Option((1, 2), (Spec((0, 1), (1, 1), 2),), 0b1000)
 >>> c = Cover(4, [[], [], [], [one]], [3], [0, 0, 0, 0]); c.run(passes=1)
@@ -25,7 +25,7 @@ Rules
 
 from __future__ import annotations
 
-from .options import Option
+from .candidates import Option
 
 __all__ = ["Cover"]
 

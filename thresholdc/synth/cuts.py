@@ -20,8 +20,8 @@ Rules
       but at most ``support_limit`` also gets that support as a cut, evaluated over the inputs,
       so a function written as a wide sum of products is still seen whole.
 
->>> from thresholdc.synth.gates import Gate, GateGraph
->>> from thresholdc.synth.strash import hash_gates
+>>> from thresholdc.ir.gates import Gate, GateGraph
+>>> from thresholdc.synth.hashing import hash_gates
 >>> g = GateGraph.build(["a", "b", "c"], [("y", "y")], [("t", Gate("or", ("b", "c"))),
 ...     ("y", Gate("and", ("a", "t")))])
 >>> h = hash_gates(g)
@@ -36,7 +36,7 @@ from functools import cache
 from typing import NamedTuple
 
 from . import ttable
-from .strash import Hashed
+from .hashing import Hashed
 
 __all__ = ["Cut", "enumerate_cuts", "node_table", "support_cuts", "MAX_LOCAL"]
 

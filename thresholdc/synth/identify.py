@@ -56,6 +56,7 @@ from functools import cache, lru_cache
 from typing import Any
 
 import numpy as np
+from scipy.optimize import LinearConstraint, linprog, milp
 
 __all__ = ["MAX_VARIABLES", "Realisation", "identify", "is_threshold"]
 
@@ -414,8 +415,6 @@ def _system(m: int, g_bits: int, parts: tuple) -> tuple[np.ndarray, np.ndarray]:
 @lru_cache(maxsize=_CACHE_SIZE)
 def _lp_feasible(m: int, g_bits: int, parts: tuple) -> bool:
     """Whether ``v·y ≥ T'`` on true and ``v·y ≤ T' - 1`` on false points can hold (LP)."""
-    from scipy.optimize import linprog
-
     ymin, ymax = _system(m, g_bits, parts)
     order = _order_rows(m, parts)
     A = np.vstack([np.hstack([-ymin, np.ones((len(ymin), 1))]),
@@ -582,8 +581,6 @@ def _lexmin(an: _Analysis, parts: tuple, reps: tuple) -> Realisation:
 
 def _solve_ilp(an: _Analysis, parts: tuple) -> Realisation | None:
     """The exact minimum by integer programming: cost first, then ``(|T|, w_0, …)``."""
-    from scipy.optimize import LinearConstraint, milp
-
     m = len(an.order)
     ymin, ymax = _system(m, an.g_bits, parts)
     negvec = np.array(an.negative, dtype=np.float64)

@@ -23,7 +23,7 @@ Rules of the mapping
       sub-network reads: ``{NEURON: {"root": SIGNAL, "leaves": [...]}}``.
     * Neurons no output needs are dropped; layers are assigned.
 
->>> from thresholdc.synth.gates import Gate, GateGraph
+>>> from thresholdc.ir.gates import Gate, GateGraph
 >>> g = GateGraph.build(["a", "b"], [("y", "y")], [("y", Gate("xor", ("a", "b")))])
 >>> [repr(n) for n in map_to_neurons(g).neurons]
 ['y~b1[L1 step](+1*a +1*b -1.5)', 'y[L2 step](+1*a +1*b -2*y~b1 -0.5)']
@@ -33,9 +33,9 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 
-from ..network.layering import assign_layers, fresh_name, prune_dead
-from ..network.model import Network, Neuron, Output
-from .gates import Gate, GateGraph
+from ..ir.gates import Gate, GateGraph
+from ..ir.network import Network, Neuron, Output
+from ..network import assign_layers, fresh_name, prune_dead
 
 __all__ = ["map_to_neurons", "Lit"]
 
@@ -257,7 +257,7 @@ def map_to_neurons(gates: GateGraph, *, reserved: Iterable[str] = ()) -> Network
 
     ``reserved`` are names helpers must avoid besides the graph's own signals.
 
-    >>> from thresholdc.synth.gates import Gate, GateGraph
+    >>> from thresholdc.ir.gates import Gate, GateGraph
     >>> g = GateGraph.build(["a", "b"], [("y", "y")], [("y", Gate("and", ("a", "b")))])
     >>> map_to_neurons(g).neurons[0]
     y[L1 step](+1*a +1*b -1.5)

@@ -7,13 +7,13 @@ Rules
     * Its flattened parity replaces each leaf that is itself a parity node by that node's
       flattened parity, in topological order (a loop, no recursion), as long as no leaf
       appears twice (a cancelled pair would drop a leaf the gates read), no leaf lies inside
-      the cone of another part, and at most :data:`~thresholdc.synth.strash.FLAT_LIMIT`
+      the cone of another part, and at most :data:`~thresholdc.synth.hashing.FLAT_LIMIT`
       leaves are collected.
     * The option is the parity of the collected leaves (counting neurons, or a tree of them
       within the limits), complemented when the parts' complements say so.
 
->>> from thresholdc.synth.gates import Gate, GateGraph
->>> from thresholdc.synth.strash import hash_gates
+>>> from thresholdc.ir.gates import Gate, GateGraph
+>>> from thresholdc.synth.hashing import hash_gates
 >>> from thresholdc.synth.cuts import enumerate_cuts
 >>> gates = []
 >>> for i, (p, q) in enumerate([("a", "b"), ("x0", "c")]):
@@ -28,11 +28,10 @@ Rules
 
 from __future__ import annotations
 
-from . import gadgets as G
-from . import ttable
+from . import gadgets, ttable
+from .candidates import KEY_LIMIT, Limits, Option
 from .cuts import Cut
-from .options import KEY_LIMIT, Limits, Option
-from .strash import FLAT_LIMIT, Hashed
+from .hashing import FLAT_LIMIT, Hashed
 
 __all__ = ["parity_chains", "parity_options"]
 
@@ -86,13 +85,13 @@ def parity_options(flat: tuple[tuple[int, ...], int, int], limits: Limits) -> Op
     """The option of a flattened parity within the limits (None when none fits)."""
     leaves, neg, cone = flat
     n = len(leaves)
-    g = G.parity_tree(n, limits.fan_in, limits.weight)
+    g = gadgets.parity_tree(n, limits.fan_in, limits.weight)
     if g is None:
         return None
     if neg:
         r = g[-1]
-        g = g[:-1] + (G.Spec(r.refs, tuple(-w for w in r.weights), 1 - r.T),)
+        g = g[:-1] + (gadgets.Spec(r.refs, tuple(-w for w in r.weights), 1 - r.T),)
         if not limits.fits(g):
             return None
-    tt = G.evaluate(g, n) if n <= KEY_LIMIT else None
+    tt = gadgets.evaluate(g, n) if n <= KEY_LIMIT else None
     return Option(leaves, g, tt, cone)

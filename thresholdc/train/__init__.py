@@ -6,7 +6,7 @@
   sigmoid gains and an anchor toward them (see :mod:`thresholdc.train.fit` for the defaults).
 
 >>> import numpy as np
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> rules = Network(("a",), (Neuron("y", 1, ("a",), (1,), -0.5, origin="y"),), (Output("y", "y"),))
 >>> X = np.array([[0.0], [1.0]] * 4)
 >>> train(rules, X, X, epochs=5, anchor=0.01).network.decide([[0], [1]]).ravel().tolist()
@@ -14,12 +14,13 @@
 """
 
 from .data import Dataset, Table, load_data, parse_label_specs, read_table
-from .fit import DEFAULTS, TrainResult, train
+from .fit import DEFAULT_LR, DEFAULTS, TrainResult, train
 from .loop import Epoch
 from .scoring import score
 from .warmstart import prepare_start
 
 __all__ = [
+    "DEFAULT_LR",
     "DEFAULTS",
     "Dataset",
     "Epoch",

@@ -10,7 +10,7 @@ error of the best) was measured in the training benchmark and rejected: on ~120 
 always chose the strongest anchor and never repaired a wrong rule.
 
 >>> import numpy as np
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> from thresholdc.train.mlp import Layout
 >>> net = Network(("a",), (Neuron("y", 1, ("a",), (6.0,), -3.0, "sigmoid"),), (Output("y", "y"),))
 >>> lay = Layout.of(net); W, b = lay.params(net)

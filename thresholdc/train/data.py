@@ -16,7 +16,7 @@ Every mistake is a :class:`~thresholdc.errors.DataError` naming the file and lin
 line 1), printed by the command line as ``thresholdc: error: DATA:LINE: message``.
 
 >>> import os, tempfile
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),), (Output("y", "y"),))
 >>> path = os.path.join(tempfile.mkdtemp(), "d.csv")
 >>> _ = open(path, "w").write("a,b,y\\n1,1,1\\nTRUE, false ,0\\n")
@@ -177,7 +177,7 @@ def features_of(network: Any) -> list[dict[str, Any]]:
 
     Input units no feature covers are Boolean features named after the unit.
 
-    >>> from thresholdc.network.model import Network
+    >>> from thresholdc.ir.network import Network
     >>> [f["name"] for f in features_of(Network(("a", "b"), (), ()))]
     ['a', 'b']
     """
@@ -245,7 +245,7 @@ def _categories(table: Table, cells: np.ndarray, values: Sequence[str], what: st
 def encode_features(table: Table, network: Any) -> np.ndarray:
     """The input units ``(rows, len(network.inputs))`` of every data row.
 
-    >>> from thresholdc.network.model import Network
+    >>> from thresholdc.ir.network import Network
     >>> t = Table("t", ("b", "a"), np.array([["true", "0"]]), np.array([2]))
     >>> encode_features(t, Network(("a", "b"), (), ())).tolist()
     [[0.0, 1.0]]
@@ -373,7 +373,7 @@ def load_data(
     Dataset
 
     >>> import os, tempfile
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("y", 1, ("a",), (-1,), 0.5),), (Output("y", "y"),))
     >>> p = os.path.join(tempfile.mkdtemp(), "d.csv")
     >>> _ = open(p, "w").write("a,ok\\n0,yes\\n1,no\\n")

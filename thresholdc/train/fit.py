@@ -27,7 +27,7 @@ tolerance=0.25, patience=30, seed=0``.  Why these:
   benchmark; ``validation=0.2`` turns early stopping on.
 
 >>> import numpy as np
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> rules = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5, origin="y"),),
 ...                 (Output("y", "y"),))
 >>> X = np.array([[0, 0], [0, 1], [1, 0], [1, 1]] * 4, dtype=float)
@@ -48,7 +48,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import UsageError
-from ..network.model import Network
+from ..ir.network import Network
 from .anchor import ANCHOR_GRID, FOLDS, AnchorChoice, choose_anchor
 from .loop import OPTIMIZERS, Epoch, fit_params
 from .mlp import LOSSES, data_loss

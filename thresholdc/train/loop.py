@@ -10,7 +10,7 @@ validation part is measured; the parameters with the lowest one so far are kept 
 start, included), and training stops after ``patience`` epochs without improvement.
 
 >>> import numpy as np
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> from thresholdc.train.mlp import Layout
 >>> net = Network(("a",), (Neuron("y", 1, ("a",), (0.0,), 0.0, "sigmoid"),), (Output("y", "y"),))
 >>> lay = Layout.of(net); W, b = lay.params(net)

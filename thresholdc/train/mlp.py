@@ -1,6 +1,6 @@
 """A strict layered network as dense matrices: forward pass, loss and backpropagation.
 
-A :class:`Layout` remembers what a strict layered :class:`~thresholdc.network.model.Network`
+A :class:`Layout` remembers what a strict layered :class:`~thresholdc.ir.network.Network`
 looks like (unit names, roles, origins and activation of every layer) so that trained matrices
 become a network again with the same names.  Parameters are two lists, ``weights[l]`` of shape
 ``(n_out, n_in)`` and ``biases[l]`` of shape ``(n_out,)``, one entry per layer.
@@ -17,7 +17,7 @@ Backpropagation (the rule for each layer, written beside the forward step it inv
 where ``f′`` is the activation's derivative written in terms of its output.
 
 >>> import numpy as np
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a",), (Neuron("y", 1, ("a",), (4.0,), -2.0, "sigmoid"),),
 ...               (Output("y", "y"),))
 >>> lay = Layout.of(net)
@@ -36,8 +36,8 @@ from typing import Any
 
 import numpy as np
 
-from ..network import activations as act
-from ..network.model import Network, Neuron, Output
+from ..ir import activations as act
+from ..ir.network import Network, Neuron, Output
 
 __all__ = [
     "LOSSES",

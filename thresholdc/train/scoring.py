@@ -6,7 +6,7 @@ The result is the ``score --json`` layout::
     {"rows": N, "outputs": [{"name": …, "column": …, "accuracy": …, "errors": …}]}
 
 >>> import numpy as np
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> from thresholdc.train.data import Dataset
 >>> net = Network(("a",), (Neuron("y", 1, ("a",), (-1,), 0.5),), (Output("y", "y"),))
 >>> d = Dataset("d.csv", np.array([[0.0], [1.0], [1.0]]), np.array([[1.0], [0.0], [1.0]]),
@@ -22,7 +22,7 @@ from typing import Any
 
 import numpy as np
 
-from ..network.model import Network
+from ..ir.network import Network
 from .data import Dataset
 
 __all__ = ["score"]

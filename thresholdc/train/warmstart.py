@@ -19,7 +19,7 @@ The recipe (issue 5 §3):
    biases 0); the anchor then pulls toward 0 (weight decay).
 
 >>> import numpy as np
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> step = Network(("a", "b", "c"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5, origin="y"),),
 ...                (Output("y", "y"),))
 >>> s = prepare_start(step, rng=np.random.default_rng(0), widen=2)
@@ -36,7 +36,8 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..errors import UsageError
-from ..network.model import Network, Neuron, Output
+from ..ir.network import Network, Neuron, Output
+from ..network import apply_activation
 from .mlp import Layout
 
 __all__ = ["LINK_SCALE", "INITS", "Start", "soft_network", "prepare_start", "frozen_closure"]
@@ -112,7 +113,7 @@ def soft_network(net: Network, *, tolerance: float = 0.01, hidden: bool = False)
     a soft strict layered network is returned as it is.  With ``hidden=True`` the result has
     at least one hidden layer (relays after the outputs where needed).
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> step = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5, origin="n"),),
     ...                (Output("n", "n"),))
     >>> [n.activation for n in soft_network(step, hidden=True).neurons]
@@ -129,8 +130,6 @@ def soft_network(net: Network, *, tolerance: float = 0.01, hidden: bool = False)
             )
         while hidden and net.depth < 2:
             net = _add_output_relays(net, 1.0, -0.5, "step")
-        from ..network.soften import apply_activation
-
         return apply_activation(
             net, activation="sigmoid", tolerance=tolerance, layered=not net.is_strict()
         )
@@ -163,7 +162,7 @@ def frozen_closure(net: Network, names: Sequence[str]) -> tuple[str, ...]:
     """The named neurons (an output name stands for its source) and every neuron they read,
     transitively, in network order.
 
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> net = Network(("a",), (Neuron("p", 1, ("a",), (1,), -0.5),
     ...                        Neuron("q", 2, ("p",), (1,), -0.5)), (Output("out", "q"),))
     >>> frozen_closure(net, ["out"])
@@ -223,7 +222,7 @@ def prepare_start(
     Start
 
     >>> import numpy as np
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> step = Network(("a", "b"), (Neuron("y", 1, ("a",), (1,), -0.5, origin="y"),),
     ...                (Output("y", "y"),))
     >>> s = prepare_start(step, rng=np.random.default_rng(1))

@@ -1,1 +1,16 @@
-"""verify stage of thresholdc."""
+"""The verify stage: does a network compute its reference (rule file or netlist)?"""
+
+from .auto import METHODS, verify_network
+from .bounds import verify_bounds
+from .certificate import CertificateCheck, check_certificate
+from .exhaustive import DEFAULT_MAX_INPUTS, verify_exhaustive
+from .local import verify_local
+from .report import Counterexample, OutputReport, Report
+from .sat import verify_sat
+from .typed import verify_typed
+
+__all__ = [
+    "METHODS", "verify_network", "verify_bounds", "CertificateCheck", "check_certificate",
+    "DEFAULT_MAX_INPUTS", "verify_exhaustive", "verify_local", "Counterexample",
+    "OutputReport", "Report", "verify_sat", "verify_typed",
+]

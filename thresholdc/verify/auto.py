@@ -16,9 +16,9 @@ The input and output names of network and source are compared as sets first: a m
 UsageError naming the differing names.
 
 >>> from thresholdc.compiler import compile_rules
->>> from thresholdc.source import Source
+>>> from thresholdc.logic.source import source_from_text
 >>> text = "input a, b\\ny = a xor b\\n"
->>> verify_network(compile_rules(text), Source.from_text(text, "x.rules"), method="sat").result
+>>> verify_network(compile_rules(text), source_from_text(text, "x.rules"), method="sat").result
 'equal'
 """
 
@@ -28,12 +28,15 @@ import time
 from typing import Any
 
 from ..errors import UsageError
-from ..network.model import Network
-from .exhaustive import check_names, verify_exhaustive
+from ..ir.network import Network
+from .bounds import verify_bounds
+from .domain import check_names, is_typed_source
+from .exhaustive import verify_exhaustive
 from .local import verify_local
 from .report import Report
 from .sat import verify_sat
 from .sat_encode import check_step_network
+from .typed import verify_typed
 
 __all__ = ["verify_network", "METHODS"]
 
@@ -58,7 +61,7 @@ def verify_network(
     net
         The network to check.
     source
-        A :class:`~thresholdc.source.Source` (rule file or netlist).
+        A :class:`~thresholdc.ir.reference.Reference` (rule file or netlist).
     method
         ``auto`` (default), ``exhaustive``, ``local`` or ``sat``.
     max_inputs
@@ -81,9 +84,9 @@ def verify_network(
 
     Examples
     --------
-    >>> from thresholdc.network.model import Network, Neuron, Output
-    >>> from thresholdc.source import Source
-    >>> src = Source.from_text("input a, b\\ny = a and b\\n", "t.rules")
+    >>> from thresholdc.ir.network import Network, Neuron, Output
+    >>> from thresholdc.logic.source import source_from_text
+    >>> src = source_from_text("input a, b\\ny = a and b\\n", "t.rules")
     >>> net = Network(("a", "c"), (Neuron("y", 1, ("a", "c"), (1, 1), -1.5),),
     ...               (Output("y", "y"),))
     >>> verify_network(net, src)
@@ -105,9 +108,6 @@ def verify_network(
         return verify_local(net, source, max_inputs=max_inputs, time_limit=time_limit)
     if method == "sat":
         return verify_sat(net, source, time_limit=time_limit)
-    from .bounds import verify_bounds
-    from .typed import is_typed_source, verify_typed
-
     if method == "bounds":
         return verify_bounds(net, source, time_limit=time_limit)
     if is_typed_source(source):  # valid one-hot assignments, real cells or bands

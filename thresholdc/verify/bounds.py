@@ -26,9 +26,9 @@ Rules of the algorithm
       found gives ``different`` (counts then are lower bounds), else VerificationUndecided.
 
 >>> from thresholdc.compiler import compile_rules
->>> from thresholdc.source import Source
+>>> from thresholdc.logic.source import source_from_text
 >>> text = "input a, b, c\\ny = atleast(2, a, b, c)\\n"
->>> verify_bounds(compile_rules(text, activation="sigmoid"), Source.from_text(text)).result
+>>> verify_bounds(compile_rules(text, activation="sigmoid"), source_from_text(text)).result
 'equal'
 """
 
@@ -43,9 +43,9 @@ from typing import Any
 import numpy as np
 
 from ..errors import VerificationUndecided
-from ..network import activations as act
-from ..network.model import Network
-from .domain import Domain, network_rows
+from ..ir import activations as act
+from ..ir.network import Network
+from .domain import Domain, check_names, network_rows, typed_domain
 from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
 from .ternary import rules_ternary
 
@@ -207,10 +207,10 @@ def network_bounds(
     the continuous features).
 
     >>> from thresholdc.compiler import compile_rules
-    >>> from thresholdc.source import Source
+    >>> from thresholdc.logic.source import source_from_text
     >>> from thresholdc.verify.domain import boolean_or_typed_domain
     >>> text = "input a, b\\ny = a and b\\n"
-    >>> net, d = compile_rules(text), boolean_or_typed_domain(Source.from_text(text))
+    >>> net, d = compile_rules(text), boolean_or_typed_domain(source_from_text(text))
     >>> vlo, vhi = network_bounds(net, d, [np.array([[True, True]]), np.array([[False, True]])])
     >>> vlo.tolist(), vhi.tolist()
     ([[0.0]], [[1.0]])
@@ -529,7 +529,7 @@ def verify_bounds(
     Parameters
     ----------
     net : Network
-    source : Source
+    source : Reference
         Same input units and output names as ``net``.
     max_nodes : int
         Largest number of boxes examined.
@@ -554,15 +554,12 @@ def verify_bounds(
     Examples
     --------
     >>> from thresholdc.compiler import compile_rules
-    >>> from thresholdc.source import Source
+    >>> from thresholdc.logic.source import source_from_text
     >>> net = compile_rules("input a, b\\ny = a or b\\n", activation="sigmoid")
-    >>> r = verify_bounds(net, Source.from_text("input a, b\\ny = a and b\\n"))
+    >>> r = verify_bounds(net, source_from_text("input a, b\\ny = a and b\\n"))
     >>> r.result, r.outputs[0].disagreements
     ('different', 2)
     """
-    from .exhaustive import check_names
-    from .typed import typed_domain
-
     check_names(net, source)
     domain = typed_domain(net, source)
     return run_bounds(net, source, domain, max_nodes=max_nodes, time_limit=time_limit,

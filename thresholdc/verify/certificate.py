@@ -14,7 +14,7 @@ How the ``verify`` command uses it: for a network whose neurons are sigmoid or t
 ``bound`` is the recomputed largest deviation; ``survives`` says whether it stays below the
 misreading limit (0.5 binary, 1 bipolar).
 
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> from thresholdc.network.soften import apply_activation
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),), (Output("y", "y"),))
 >>> check_certificate(apply_activation(net, activation="sigmoid")).ok
@@ -29,9 +29,8 @@ from typing import Any
 
 import numpy as np
 
-from ..logic.typed import real_units
-from ..network.model import Network
-from ..network.soften import MAX_MARGIN_INPUTS, deviation, misread_limit, neuron_margins
+from ..ir.network import Network, real_units
+from ..network import MAX_MARGIN_INPUTS, deviation, misread_limit, neuron_margins
 
 __all__ = ["CertificateCheck", "check_certificate"]
 
@@ -97,7 +96,7 @@ def check_certificate(
 
     Examples
     --------
-    >>> from thresholdc.network.model import Network, Neuron, Output
+    >>> from thresholdc.ir.network import Network, Neuron, Output
     >>> from thresholdc.network.soften import apply_activation
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> soft = apply_activation(net, activation="sigmoid", tolerance=0.05)

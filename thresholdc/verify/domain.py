@@ -11,10 +11,10 @@ A :class:`Domain` lists the features in declaration order; each is either
 
 Rows for the network are in the network's unit order and encoding (bipolar maps a Boolean or
 one-hot unit ``x`` to ``2x − 1``; a real unit keeps its raw value); rows for the source are in
-the source's unit order, binary, as :meth:`thresholdc.source.Source.evaluate` takes them.
+the source's unit order, binary, as :meth:`thresholdc.ir.reference.Reference.evaluate` takes them.
 
->>> from thresholdc.source import Source
->>> src = Source.from_text("input c: {x, y}, a\\nq = c == y and a\\n")
+>>> from thresholdc.logic.source import source_from_text
+>>> src = source_from_text("input c: {x, y}, a\\nq = c == y and a\\n")
 >>> d = boolean_or_typed_domain(src)
 >>> [f.name for f in d.discrete], d.size
 (['c', 'a'], 4)
@@ -22,12 +22,22 @@ the source's unit order, binary, as :meth:`thresholdc.source.Source.evaluate` ta
 
 from __future__ import annotations
 
+import itertools
 from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
 
-__all__ = ["Discrete", "Continuous", "Domain", "boolean_or_typed_domain", "cell_points"]
+from ..errors import UsageError, VerificationUndecided
+from ..ir.network import Network
+from ..logic import feature_scale, real_thresholds
+
+__all__ = [
+    "Discrete", "Continuous", "Domain", "boolean_or_typed_domain", "cell_points",
+    "check_names", "typed_domain", "network_cuts", "is_typed_source",
+]
+
+_MAX_CUT_INPUTS = 12
 
 
 @dataclass
@@ -78,7 +88,7 @@ class Domain:
         return total
 
     def unit_rows(self, choice: np.ndarray, reals: np.ndarray | None = None) -> np.ndarray:
-        """Source unit rows ``(rows, len(units))`` for choice indices ``(rows, discrete)`` and
+        """Reference unit rows ``(rows, len(units))`` for choice indices ``(rows, discrete)`` and
         continuous values ``(rows, continuous)``."""
         col = {u: i for i, u in enumerate(self.units)}
         rows = choice.shape[0]
@@ -113,7 +123,7 @@ class Domain:
 
 
 def network_rows(net: Any, domain: Domain, X: np.ndarray) -> np.ndarray:
-    """Source unit rows as the network's input rows (its unit order and encoding)."""
+    """Reference unit rows as the network's input rows (its unit order and encoding)."""
     col = {u: i for i, u in enumerate(domain.units)}
     Xn = X[:, [col[u] for u in net.inputs]].astype(float)
     if net.encoding == "bipolar":
@@ -170,8 +180,6 @@ def boolean_or_typed_domain(
             d.discrete.append(Discrete(u, "bool", (u,), bool_table, (0, 1)))
             d.order.append(u)
         return d
-    from ..logic.typed import feature_scale
-
     d = Domain(units)
     for v in program.inputs:
         d.order.append(v.name)
@@ -191,4 +199,119 @@ def boolean_or_typed_domain(
             assert real_pieces is not None and v.name in real_pieces, v.name
             d.continuous.append(Continuous(v.name, v.name, list(real_pieces[v.name]),
                                            feature_scale(v)))
+    return d
+
+
+def check_names(net: Network, source: Any) -> None:
+    """Raise UsageError unless network and source have the same input and output names
+    (compared as sets)."""
+    for what, mine, theirs in (
+        ("input", set(net.inputs), set(source.inputs)),
+        ("output", set(net.output_names), set(source.outputs)),
+    ):
+        if mine != theirs:
+            parts = []
+            if mine - theirs:
+                parts.append(f"only in the network: {', '.join(sorted(mine - theirs))}")
+            if theirs - mine:
+                parts.append(f"only in the source: {', '.join(sorted(theirs - mine))}")
+            raise UsageError(
+                f"the network's and the source's {what} names differ ({'; '.join(parts)})",
+                file=getattr(source, "file", None),
+            )
+
+
+def is_typed_source(source: Any) -> bool:
+    """True for a rule source with a categorical or real input."""
+    program = getattr(source, "program", None)
+    return program is not None and program.is_typed()
+
+
+def network_cuts(net: Network, real: set[str]) -> dict[str, list[float]] | None:
+    """Where the network's step neurons reading a real unit change value, per real unit, or
+    None when some neuron reading a real unit is not of the cell-exact form (soft, reading a
+    neuron or two real units, or too many other units to enumerate).
+
+    >>> from thresholdc.ir.network import Network, Neuron, Output
+    >>> net = Network(("t", "a"), (Neuron("y", 1, ("t", "a"), (2.0, 1.0), -3.0),),
+    ...               (Output("y", "y"),))
+    >>> network_cuts(net, {"t"})
+    {'t': [1.0, 1.5]}
+    """
+    inputs = set(net.inputs)
+    cuts: dict[str, set[float]] = {u: set() for u in real}
+    low = -1.0 if net.encoding == "bipolar" else 0.0
+    for n in net.neurons:
+        reads = [i for i in n.inputs if i in real]
+        if not reads:
+            continue
+        others = [(i, float(w)) for i, w in zip(n.inputs, n.weights) if i not in real]
+        if (n.activation != "step" or len(set(reads)) != 1
+                or any(i not in inputs for i, _ in others) or len(others) > _MAX_CUT_INPUTS):
+            return None
+        w = sum(float(wt) for i, wt in zip(n.inputs, n.weights) if i in real)
+        if w == 0:
+            continue
+        for combo in itertools.product((low, 1.0), repeat=len(others)):
+            s = sum(v * wt for v, (_, wt) in zip(combo, others))
+            cuts[reads[0]].add(-(float(n.bias) + s) / w)
+    return {u: sorted(c) for u, c in cuts.items()}
+
+
+def typed_domain(net: Network, source: Any) -> Domain:
+    """The verification domain of ``source`` for ``net`` (see the module docstring).
+
+    Raises VerificationUndecided when a soft network meets a real input without a range.
+    """
+    if not is_typed_source(source):
+        return boolean_or_typed_domain(source)
+    program = source.program
+    reals = [v for v in program.inputs if v.kind == "real"]
+    if not reals:
+        return boolean_or_typed_domain(source)
+    thresholds = real_thresholds(program)
+    cuts = network_cuts(net, {v.name for v in reals})
+    if cuts is not None:
+        points = {v.name: cell_points(thresholds[v.name] + cuts[v.name], v.range)
+                  for v in reals}
+        d = boolean_or_typed_domain(source, real_points=points)
+        d.notes.append(
+            "real inputs checked at one point per cell cut by the thresholds and on each "
+            "threshold (exact for a step network)"
+        )
+        return d
+    missing = [v.name for v in reals if v.range is None]
+    if missing:
+        raise VerificationUndecided(
+            f"real input(s) {', '.join(missing)} have no declared range: a soft network is "
+            "checked over the declared range, so a range is needed (declare e.g. "
+            f"'input {missing[0]}: real in [LOW, HIGH] scale S')",
+            file=getattr(source, "file", None),
+        )
+    pieces: dict[str, list[tuple[float, float]]] = {}
+    bands = []
+    for v in reals:
+        s = feature_scale(v)
+        lo, hi = float(v.range[0]), float(v.range[1])
+        parts = [(lo, hi)]
+        for c in thresholds[v.name]:
+            parts = [q for a, b in parts for q in ((a, min(b, c - s)), (max(a, c + s), b))
+                     if q[0] <= q[1]]
+            bands.append(f"{v.name} in ({c - s:g}, {c + s:g})")
+        if not parts:
+            raise VerificationUndecided(
+                f"the bands of ± scale around the thresholds of '{v.name}' cover its whole "
+                "range: nothing is left to check (declare a smaller scale)",
+                file=getattr(source, "file", None),
+            )
+        pieces[v.name] = parts
+    d = boolean_or_typed_domain(source, real_pieces=pieces)
+    if bands:
+        d.notes.append(
+            "soft network: real inputs checked over their declared ranges except a band of "
+            "± scale around each rule threshold, where a soft neuron is uncertain by nature: "
+            + ", ".join(bands)
+        )
+    else:
+        d.notes.append("soft network: real inputs checked over their declared ranges")
     return d

@@ -11,9 +11,9 @@ It also checks the compiler's guarantee that every step neuron has |z| ≥ 0.5 a
 naming the neurons that break it (the verdict is still on what the network computes).
 
 >>> from thresholdc.compiler import compile_rules
->>> from thresholdc.source import Source
+>>> from thresholdc.logic.source import source_from_text
 >>> text = "input a, b\\ny = a or b\\n"
->>> verify_exhaustive(compile_rules(text), Source.from_text(text)).result
+>>> verify_exhaustive(compile_rules(text), source_from_text(text)).result
 'equal'
 """
 
@@ -25,33 +25,16 @@ from typing import Any
 import numpy as np
 
 from .. import progress
-from ..errors import UsageError, VerificationUndecided
-from ..network.model import Network
+from ..errors import VerificationUndecided
+from ..ir.network import Network
+from .domain import check_names
 from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
+from .typed import verify_typed
 
-__all__ = ["verify_exhaustive", "check_names", "assignments", "DEFAULT_MAX_INPUTS"]
+__all__ = ["verify_exhaustive", "assignments", "DEFAULT_MAX_INPUTS"]
 
 DEFAULT_MAX_INPUTS = 24
 _CHUNK = 1 << 16
-
-
-def check_names(net: Network, source: Any) -> None:
-    """Raise UsageError unless network and source have the same input and output names
-    (compared as sets)."""
-    for what, mine, theirs in (
-        ("input", set(net.inputs), set(source.inputs)),
-        ("output", set(net.output_names), set(source.outputs)),
-    ):
-        if mine != theirs:
-            parts = []
-            if mine - theirs:
-                parts.append(f"only in the network: {', '.join(sorted(mine - theirs))}")
-            if theirs - mine:
-                parts.append(f"only in the source: {', '.join(sorted(theirs - mine))}")
-            raise UsageError(
-                f"the network's and the source's {what} names differ ({'; '.join(parts)})",
-                file=getattr(source, "file", None),
-            )
 
 
 def assignments(n: int, start: int, stop: int) -> np.ndarray:
@@ -98,8 +81,6 @@ def verify_exhaustive(
     check_names(net, source)
     program = getattr(source, "program", None)
     if program is not None and program.is_typed():  # valid one-hot patterns, real cells
-        from .typed import verify_typed
-
         return verify_typed(net, source, max_inputs=max_inputs)
     n = len(source.inputs)
     if n > max_inputs:

@@ -26,9 +26,9 @@ miter between the rule AST and the gate graph (or exhaustively up to ``max_input
 python-sat).
 
 >>> from thresholdc.compiler import compile_rules
->>> from thresholdc.source import Source
+>>> from thresholdc.logic.source import source_from_text
 >>> text = "input a, b, c\\ny = a and (b or not c)\\n"
->>> report = verify_local(compile_rules(text, synthesis=False), Source.from_text(text, "t.rules"))
+>>> report = verify_local(compile_rules(text, synthesis=False), source_from_text(text, "t.rules"))
 >>> report.result, report.method
 ('equal', 'local')
 """
@@ -41,9 +41,10 @@ from typing import Any
 
 import numpy as np
 
-from ..network.model import Network, Neuron
-from ..synth.gates import Gate, GateGraph
-from .exhaustive import assignments, check_names
+from ..ir.gates import Gate, GateGraph
+from ..ir.network import Network, Neuron
+from .domain import check_names
+from .exhaustive import assignments
 from .report import OutputReport, Report
 from .sat import confirm_counterexample, gates_side, miter_summary, source_side
 from .sat_circuit import TRUE
@@ -790,7 +791,7 @@ def verify_local(
     net
         A step network with ``meta.cones`` (soft networks are a UsageError).
     source
-        A :class:`~thresholdc.source.Source`; its gate graph is rebuilt with the options in
+        A :class:`~thresholdc.ir.reference.Reference`; its gate graph is rebuilt with the options in
         ``net.meta``.
     max_leaves
         Cones with more leaves are proved by a small SAT miter instead of exhaustively.
@@ -806,9 +807,9 @@ def verify_local(
 
     Examples
     --------
-    >>> from thresholdc.network.model import Network, Neuron, Output
-    >>> from thresholdc.source import Source
-    >>> src = Source.from_text("INPUT(a)\\nINPUT(b)\\nOUTPUT(y)\\ny = NOR(a, b)\\n", "t.bench")
+    >>> from thresholdc.ir.network import Network, Neuron, Output
+    >>> from thresholdc.logic.source import source_from_text
+    >>> src = source_from_text("INPUT(a)\\nINPUT(b)\\nOUTPUT(y)\\ny = NOR(a, b)\\n", "t.bench")
     >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (-1, -1), 0.5),),
     ...               (Output("y", "y"),), {"cones": {"y": {"root": "y", "leaves": ["a", "b"]}}})
     >>> verify_local(net, src).proofs[0]

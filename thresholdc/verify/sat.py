@@ -5,11 +5,11 @@ network side neuron by neuron as y ↔ [Σ w·x + b > 0] (see :mod:`.sat_encode`
 are compared by :func:`~thresholdc.verify.sat_miter.prove_equivalent` — structural hashing,
 simulation-guided matching proved on small cuts, then python-sat in a child process ended at
 the time limit.  Every counterexample is re-simulated on both sides (``Network.decide`` and
-``Source.evaluate``) before it is reported.
+``Reference.evaluate``) before it is reported.
 
->>> from thresholdc.network.model import Network, Neuron, Output
->>> from thresholdc.source import Source
->>> src = Source.from_text("input a, b\\ny = a and b\\n", "t.rules")
+>>> from thresholdc.ir.network import Network, Neuron, Output
+>>> from thresholdc.logic.source import source_from_text
+>>> src = source_from_text("input a, b\\ny = a and b\\n", "t.rules")
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -0.5),), (Output("y", "y"),))
 >>> r = verify_sat(net, src, time_limit=10)
 >>> r.result, r.counterexamples[0].assignment in ({"a": 1, "b": 0}, {"a": 0, "b": 1})
@@ -25,8 +25,8 @@ from typing import Any
 import numpy as np
 
 from ..errors import VerificationUndecided
-from ..network.model import Network
-from .exhaustive import check_names
+from ..ir.network import Network
+from .domain import check_names
 from .report import Counterexample, OutputReport, Report
 from .sat_circuit import Circuit
 from .sat_encode import check_step_network, encode_gates, encode_network, encode_program
@@ -39,8 +39,8 @@ __all__ = ["verify_sat", "source_side", "network_side", "gates_side", "confirm_c
 def source_side(source: Any) -> Callable[[Circuit, dict[str, int]], dict[str, int]]:
     """A miter side for the source: its rule AST, or its netlist's gates.
 
-    >>> from thresholdc.source import Source
-    >>> side = source_side(Source.from_text("input a\\ny = not a\\n", "t.rules"))
+    >>> from thresholdc.logic.source import source_from_text
+    >>> side = source_side(source_from_text("input a\\ny = not a\\n", "t.rules"))
     >>> c = Circuit()
     >>> side(c, {"a": c.new_input()})
     {'y': -2}
@@ -57,7 +57,7 @@ def source_side(source: Any) -> Callable[[Circuit, dict[str, int]], dict[str, in
 def gates_side(graph: Any) -> Callable[[Circuit, dict[str, int]], dict[str, int]]:
     """A miter side for a gate graph.
 
-    >>> from thresholdc.synth.gates import Gate, GateGraph
+    >>> from thresholdc.ir.gates import Gate, GateGraph
     >>> g = GateGraph.build(["a"], [("y", "n")], [("n", Gate("not", ("a",)))])
     >>> c = Circuit()
     >>> gates_side(g)(c, {"a": c.new_input()})
@@ -72,7 +72,7 @@ def gates_side(graph: Any) -> Callable[[Circuit, dict[str, int]], dict[str, int]
 def network_side(net: Network) -> Callable[[Circuit, dict[str, int]], dict[str, int]]:
     """A miter side for a step network.
 
-    >>> from thresholdc.network.model import Neuron, Output
+    >>> from thresholdc.ir.network import Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("y", "n"),))
     >>> c = Circuit()
     >>> network_side(net)(c, {"a": c.new_input()})
@@ -90,9 +90,9 @@ def confirm_counterexample(
     """The outputs on which ``net`` and ``source`` really differ at ``assignment``, found by
     simulating both (an empty list when they agree there).
 
-    >>> from thresholdc.network.model import Neuron, Output
-    >>> from thresholdc.source import Source
-    >>> src = Source.from_text("input a\\ny = a\\n", "t.rules")
+    >>> from thresholdc.ir.network import Neuron, Output
+    >>> from thresholdc.logic.source import source_from_text
+    >>> src = source_from_text("input a\\ny = a\\n", "t.rules")
     >>> net = Network(("a",), (Neuron("y", 1, ("a",), (-1,), 0.5),), (Output("y", "y"),))
     >>> [(c.output, c.expected, c.actual) for c in confirm_counterexample(net, src, {"a": 1})]
     [('y', True, 0.0)]
@@ -150,7 +150,7 @@ def verify_sat(
     net
         A step network with the binary encoding (a soft network is a UsageError).
     source
-        A :class:`~thresholdc.source.Source` (rule file or netlist) with Boolean inputs.
+        A :class:`~thresholdc.ir.reference.Reference` (rule file or netlist) with Boolean inputs.
     time_limit
         Seconds for the whole check; the solver runs in a child process ended at the limit
         (the report is then ``undecided``).
@@ -165,9 +165,9 @@ def verify_sat(
 
     Examples
     --------
-    >>> from thresholdc.network.model import Network, Neuron, Output
-    >>> from thresholdc.source import Source
-    >>> src = Source.from_text("input a, b\\ny = a or b\\n", "t.rules")
+    >>> from thresholdc.ir.network import Network, Neuron, Output
+    >>> from thresholdc.logic.source import source_from_text
+    >>> src = source_from_text("input a, b\\ny = a or b\\n", "t.rules")
     >>> net = Network(("b", "a"), (Neuron("y", 1, ("a", "b"), (1, 1), -0.5),),
     ...               (Output("y", "y"),))
     >>> verify_sat(net, src, time_limit=10).result

@@ -17,7 +17,7 @@ Unsupported inputs raise :class:`~thresholdc.errors.UsageError` (soft or bipolar
 typed inputs).
 
 >>> from thresholdc.verify.sat_circuit import Circuit
->>> from thresholdc.network.model import Network, Neuron, Output
+>>> from thresholdc.ir.network import Network, Neuron, Output
 >>> c = Circuit()
 >>> ins = {"a": c.new_input(), "b": c.new_input()}
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),), (Output("y", "y"),))
@@ -32,9 +32,9 @@ from fractions import Fraction
 from typing import Any
 
 from ..errors import UsageError
-from ..network.model import Network
-from ..syntax import ast
-from ..synth.gates import GateGraph
+from ..ir import program as ast
+from ..ir.gates import GateGraph
+from ..ir.network import Network
 from .sat_circuit import FALSE, TRUE, Circuit
 
 __all__ = ["encode_gates", "gate_literal", "encode_network", "encode_program",
@@ -44,7 +44,7 @@ __all__ = ["encode_gates", "gate_literal", "encode_network", "encode_program",
 def gate_literal(c: Circuit, g: Any, args: list[int], name: str = "?") -> int:
     """The literal of one gate of a gate graph, from its arguments' literals.
 
-    >>> from thresholdc.synth.gates import Gate
+    >>> from thresholdc.ir.gates import Gate
     >>> c = Circuit()
     >>> a, b = c.new_input(), c.new_input()
     >>> gate_literal(c, Gate("nor", ("a", "b")), [a, b]) == -c.or_([a, b])
@@ -82,7 +82,7 @@ def gate_literal(c: Circuit, g: Any, args: list[int], name: str = "?") -> int:
 def encode_gates(c: Circuit, graph: GateGraph, inputs: dict[str, int]) -> dict[str, int]:
     """The literal of every signal of ``graph`` (one loop over the gates, in order).
 
-    >>> from thresholdc.synth.gates import Gate
+    >>> from thresholdc.ir.gates import Gate
     >>> g = GateGraph.build(["a"], [("n", "n")], [("n", Gate("not", ("a",)))])
     >>> c = Circuit()
     >>> encode_gates(c, g, {"a": c.new_input()})
@@ -100,7 +100,7 @@ def encode_gates(c: Circuit, graph: GateGraph, inputs: dict[str, int]) -> dict[s
 def check_step_network(net: Network) -> None:
     """Raise UsageError unless ``net`` is a binary step network with Boolean inputs.
 
-    >>> from thresholdc.network.model import Neuron, Output
+    >>> from thresholdc.ir.network import Neuron, Output
     >>> check_step_network(Network(("a",), (Neuron("y", 1, ("a",), (1,), 0, "relu"),),
     ...                            (Output("y", "y"),)))
     Traceback (most recent call last):
@@ -151,7 +151,7 @@ def integer_threshold(weights: Any, bias: float) -> tuple[list[int], int]:
 def encode_network(c: Circuit, net: Network, inputs: dict[str, int]) -> dict[str, int]:
     """The literal of every unit of a step network (inputs by name, then each neuron).
 
-    >>> from thresholdc.network.model import Neuron, Output
+    >>> from thresholdc.ir.network import Neuron, Output
     >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     >>> c = Circuit()
     >>> encode_network(c, net, {"a": c.new_input()})

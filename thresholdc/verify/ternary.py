@@ -21,9 +21,9 @@ Rules are evaluated on the AST (sharing nothing with the network path), netlists
 graph.
 
 >>> import numpy as np
->>> from thresholdc.source import Source
+>>> from thresholdc.logic.source import source_from_text
 >>> from thresholdc.verify.domain import boolean_or_typed_domain
->>> src = Source.from_text("input a, b\\ny = a and b\\n")
+>>> src = source_from_text("input a, b\\ny = a and b\\n")
 >>> d = boolean_or_typed_domain(src)
 >>> masks = [np.array([[True, True]]), np.array([[True, False]])]  # a free, b = 0
 >>> can0, can1 = rules_ternary(src, d, masks, None, None)
@@ -37,7 +37,7 @@ from typing import Any
 
 import numpy as np
 
-from ..syntax import ast
+from ..ir import program as ast
 from .domain import Domain
 
 __all__ = ["rules_ternary"]

@@ -22,128 +22,28 @@ Rules of the method
 Assignments in reports are ``{feature: value}``: a category string, a real number, 0/1.
 
 >>> from thresholdc.compiler import compile_rules
->>> from thresholdc.source import Source
+>>> from thresholdc.logic.source import source_from_text
 >>> text = "input c: {red, blue}, t: real\\ny = c == red and t >= 2\\n"
->>> r = verify_typed(compile_rules(text), Source.from_text(text))
+>>> r = verify_typed(compile_rules(text), source_from_text(text))
 >>> r.result, r.assignments
 ('equal', 6)
 """
 
 from __future__ import annotations
 
-import itertools
 import time
 from typing import Any
 
 import numpy as np
 
-from ..errors import VerificationUndecided
-from ..network.model import Network
-from .domain import Domain, boolean_or_typed_domain, cell_points, network_rows
+from ..ir.network import Network
+from .bounds import DEFAULT_MAX_NODES, run_bounds
+from .domain import Domain, check_names, network_rows, typed_domain
 from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
 
-__all__ = ["verify_typed", "typed_domain", "network_cuts", "is_typed_source"]
+__all__ = ["verify_typed"]
 
 _CHUNK = 1 << 16
-_MAX_CUT_INPUTS = 12
-
-
-def is_typed_source(source: Any) -> bool:
-    """True for a rule source with a categorical or real input."""
-    program = getattr(source, "program", None)
-    return program is not None and program.is_typed()
-
-
-def network_cuts(net: Network, real: set[str]) -> dict[str, list[float]] | None:
-    """Where the network's step neurons reading a real unit change value, per real unit, or
-    None when some neuron reading a real unit is not of the cell-exact form (soft, reading a
-    neuron or two real units, or too many other units to enumerate).
-
-    >>> from thresholdc.network.model import Network, Neuron, Output
-    >>> net = Network(("t", "a"), (Neuron("y", 1, ("t", "a"), (2.0, 1.0), -3.0),),
-    ...               (Output("y", "y"),))
-    >>> network_cuts(net, {"t"})
-    {'t': [1.0, 1.5]}
-    """
-    inputs = set(net.inputs)
-    cuts: dict[str, set[float]] = {u: set() for u in real}
-    low = -1.0 if net.encoding == "bipolar" else 0.0
-    for n in net.neurons:
-        reads = [i for i in n.inputs if i in real]
-        if not reads:
-            continue
-        others = [(i, float(w)) for i, w in zip(n.inputs, n.weights) if i not in real]
-        if (n.activation != "step" or len(set(reads)) != 1
-                or any(i not in inputs for i, _ in others) or len(others) > _MAX_CUT_INPUTS):
-            return None
-        w = sum(float(wt) for i, wt in zip(n.inputs, n.weights) if i in real)
-        if w == 0:
-            continue
-        for combo in itertools.product((low, 1.0), repeat=len(others)):
-            s = sum(v * wt for v, (_, wt) in zip(combo, others))
-            cuts[reads[0]].add(-(float(n.bias) + s) / w)
-    return {u: sorted(c) for u, c in cuts.items()}
-
-
-def typed_domain(net: Network, source: Any) -> Domain:
-    """The verification domain of ``source`` for ``net`` (see the module docstring).
-
-    Raises VerificationUndecided when a soft network meets a real input without a range.
-    """
-    if not is_typed_source(source):
-        return boolean_or_typed_domain(source)
-    from ..logic.typed import feature_scale, real_thresholds
-
-    program = source.program
-    reals = [v for v in program.inputs if v.kind == "real"]
-    if not reals:
-        return boolean_or_typed_domain(source)
-    thresholds = real_thresholds(program)
-    cuts = network_cuts(net, {v.name for v in reals})
-    if cuts is not None:
-        points = {v.name: cell_points(thresholds[v.name] + cuts[v.name], v.range)
-                  for v in reals}
-        d = boolean_or_typed_domain(source, real_points=points)
-        d.notes.append(
-            "real inputs checked at one point per cell cut by the thresholds and on each "
-            "threshold (exact for a step network)"
-        )
-        return d
-    missing = [v.name for v in reals if v.range is None]
-    if missing:
-        raise VerificationUndecided(
-            f"real input(s) {', '.join(missing)} have no declared range: a soft network is "
-            "checked over the declared range, so a range is needed (declare e.g. "
-            f"'input {missing[0]}: real in [LOW, HIGH] scale S')",
-            file=getattr(source, "file", None),
-        )
-    pieces: dict[str, list[tuple[float, float]]] = {}
-    bands = []
-    for v in reals:
-        s = feature_scale(v)
-        lo, hi = float(v.range[0]), float(v.range[1])
-        parts = [(lo, hi)]
-        for c in thresholds[v.name]:
-            parts = [q for a, b in parts for q in ((a, min(b, c - s)), (max(a, c + s), b))
-                     if q[0] <= q[1]]
-            bands.append(f"{v.name} in ({c - s:g}, {c + s:g})")
-        if not parts:
-            raise VerificationUndecided(
-                f"the bands of ± scale around the thresholds of '{v.name}' cover its whole "
-                "range: nothing is left to check (declare a smaller scale)",
-                file=getattr(source, "file", None),
-            )
-        pieces[v.name] = parts
-    d = boolean_or_typed_domain(source, real_pieces=pieces)
-    if bands:
-        d.notes.append(
-            "soft network: real inputs checked over their declared ranges except a band of "
-            "± scale around each rule threshold, where a soft neuron is uncertain by nature: "
-            + ", ".join(bands)
-        )
-    else:
-        d.notes.append("soft network: real inputs checked over their declared ranges")
-    return d
 
 
 def _margins(net: Network, Xn: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -230,7 +130,7 @@ def verify_typed(
     Parameters
     ----------
     net : Network
-    source : Source
+    source : Reference
     max_inputs : int
         Enumerate up to ``2**max_inputs`` points; beyond, branch-and-bound.
     max_nodes, time_limit, progress
@@ -252,15 +152,12 @@ def verify_typed(
     Examples
     --------
     >>> from thresholdc.compiler import compile_rules
-    >>> from thresholdc.source import Source
+    >>> from thresholdc.logic.source import source_from_text
     >>> net = compile_rules("input t: real\\ny = t > 1\\n")
-    >>> r = verify_typed(net, Source.from_text("input t: real\\ny = t >= 1\\n"))
+    >>> r = verify_typed(net, source_from_text("input t: real\\ny = t >= 1\\n"))
     >>> r.result, r.counterexamples[0].assignment
     ('different', {'t': 1.0})
     """
-    from .bounds import DEFAULT_MAX_NODES, run_bounds
-    from .exhaustive import check_names
-
     check_names(net, source)
     domain = typed_domain(net, source)
     if not domain.continuous and domain.size <= (1 << max_inputs):

@@ -2,7 +2,7 @@
 
 Both importers fill a :class:`NetlistBuilder` with inputs, outputs and gates (in file order,
 each with its source position) and call :meth:`NetlistBuilder.finish`, which checks the
-netlist and returns a :class:`~thresholdc.synth.gates.GateGraph` in topological order.
+netlist and returns a :class:`~thresholdc.ir.gates.GateGraph` in topological order.
 
 The checks, in the order they are reported (each error names the line and column):
 
@@ -18,7 +18,7 @@ second driver.
 from __future__ import annotations
 
 from ...errors import RuleError, Span
-from ...synth.gates import Gate, GateGraph
+from ...ir.gates import Gate, GateGraph
 
 __all__ = ["NetlistBuilder", "split_lines", "gate"]
 

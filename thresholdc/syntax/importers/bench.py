@@ -24,7 +24,7 @@ from __future__ import annotations
 
 import re
 
-from ...synth.gates import GateGraph
+from ...ir.gates import GateGraph
 from ._netlist import NetlistBuilder, gate, split_lines
 
 __all__ = ["parse_bench", "BENCH_OPS"]

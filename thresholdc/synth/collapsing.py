@@ -2,12 +2,12 @@
 
 Passes, in order (each returns new objects; the gate graph is not changed):
 
-1. structural hashing (:mod:`~thresholdc.synth.strash`): duplicate gates merge, inverters and
+1. structural hashing (:mod:`~thresholdc.synth.hashing`): duplicate gates merge, inverters and
    buffers become complemented edges, constants fold, and/or/xor chains are flattened;
 2. cut enumeration (:mod:`~thresholdc.synth.cuts`): up to ``cut_size`` leaves per cut, each
    with its truth table, plus the whole input support of nodes with a small one; parity
    chains found by function (:mod:`~thresholdc.synth.parity`: XOR written as NAND gates);
-3. options (:mod:`~thresholdc.synth.options`): a cut whose function is a threshold function is
+3. options (:mod:`~thresholdc.synth.candidates`): a cut whose function is a threshold function is
    one neuron; symmetric functions get counting constructions (parity of ``n`` in
    ⌈log2(n+1)⌉ neurons); ``[w·x + u·g ≥ T]`` with another node's neuron ``g`` as a helper;
    every gate also has its own small construction;
@@ -27,7 +27,7 @@ Structural hashing merges only signals of one structural class of the local chec
 its class, and a unit may be named after a signal of the other polarity of its class (an
 output that reads the node only complemented then needs no inverter).
 
->>> from thresholdc.synth.gates import Gate, GateGraph
+>>> from thresholdc.ir.gates import Gate, GateGraph
 >>> g = GateGraph.build(["a", "b", "c"], [("s", "s"), ("co", "co")], [
 ...     ("t", Gate("xor", ("a", "b"))), ("s", Gate("xor", ("t", "c"))),
 ...     ("u", Gate("and", ("a", "b"))), ("v", Gate("and", ("t", "c"))),
@@ -42,15 +42,14 @@ from __future__ import annotations
 import heapq
 
 from ..errors import UsageError
-from ..network.layering import assign_layers, fresh_name
-from ..network.model import Network, Neuron, Output
-from . import cuts as C
-from . import options as O
+from ..ir.gates import GateGraph
+from ..ir.network import Network, Neuron, Output
+from ..network import assign_layers, fresh_name
+from . import candidates, cuts
 from .cover import Cover
-from .gates import GateGraph
-from .helpers import add_helper_options
+from .hashing import Hashed, hash_gates
+from .helper_neurons import add_helper_options
 from .parity import parity_chains, parity_options
-from .strash import Hashed, hash_gates
 
 __all__ = ["collapse", "SUPPORT_LIMIT"]
 
@@ -118,7 +117,7 @@ def collapse(
 
     Examples
     --------
-    >>> from thresholdc.synth.gates import Gate, GateGraph
+    >>> from thresholdc.ir.gates import Gate, GateGraph
     >>> g = GateGraph.build(["a", "b", "c"], [("y", "y")], [
     ...     ("t", Gate("or", ("b", "c"))), ("y", Gate("and", ("a", "t")))])
     >>> net = collapse(g)
@@ -128,16 +127,16 @@ def collapse(
     {'y': {'root': 'y', 'leaves': ['a', 'b', 'c']}}
     """
     _check_options(cut_size, max_fan_in, max_weight)
-    limits = O.Limits(max_fan_in, max_weight)
+    limits = candidates.Limits(max_fan_in, max_weight)
     h = hash_gates(gates)
-    found = C.enumerate_cuts(h, cut_size)
-    support = C.support_cuts(h, cut_size, max(cut_size, SUPPORT_LIMIT))
+    found = cuts.enumerate_cuts(h, cut_size)
+    support = cuts.support_cuts(h, cut_size, max(cut_size, SUPPORT_LIMIT))
     N = len(h.op)
     chains = parity_chains(h, found)
-    options: list[list[O.Option]] = [[] for _ in range(N)]
+    options: list[list[candidates.Option]] = [[] for _ in range(N)]
     for v in range(1, N):
         if h.op[v] != "input":
-            options[v] = O.node_options(h, v, found[v], support.get(v), limits, options)
+            options[v] = candidates.node_options(h, v, found[v], support.get(v), limits, options)
             if v in chains:
                 o = parity_options(chains[v], limits)
                 if o is not None:
@@ -360,8 +359,9 @@ def _topological(deps: list[list[int]]) -> list[int]:
     return out
 
 
-def _outputs(gates: GateGraph, h: Hashed, chosen: dict[int, O.Option], uname: dict[int, str],
-             upol: dict[int, int], neurons: list[Neuron], cones: dict[str, dict[str, object]]
+def _outputs(gates: GateGraph, h: Hashed, chosen: dict[int, candidates.Option],
+             uname: dict[int, str], upol: dict[int, int], neurons: list[Neuron],
+             cones: dict[str, dict[str, object]]
              ) -> tuple[list[Output], list[Neuron]]:
     """The outputs, and the neurons an output needs of its own (a constant, or a signal that
     is the complement of a unit)."""

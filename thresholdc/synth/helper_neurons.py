@@ -14,7 +14,7 @@ Rules
       permutation of the leaves (cached).
 
 >>> from thresholdc.synth.cuts import Cut
->>> from thresholdc.synth.options import Limits
+>>> from thresholdc.synth.candidates import Limits
 >>> xor3 = 0b10010110                       # a xor b xor c
 >>> maj = Cut(0b111, (0, 1, 2), 0b11101000)  # majority, a threshold function
 >>> o = helper_options(Cut(0b111, (0, 1, 2), xor3), maj, (1, 1, 1), 2, Limits(None, None))
@@ -27,14 +27,13 @@ from __future__ import annotations
 from functools import lru_cache
 
 import numpy as np
+from scipy.optimize import Bounds, LinearConstraint, linprog, milp
 
-from . import gadgets as G
-from . import options as O
-from . import ttable
+from . import candidates, gadgets, ttable
+from .candidates import Limits, Option
 from .cuts import Cut
 from .gadgets import Gadget
-from .options import Limits, Option
-from .strash import Hashed
+from .hashing import Hashed
 
 __all__ = ["helper_options", "add_helper_options", "HELPER_CUTS", "HELPER_CANDIDATES"]
 
@@ -52,7 +51,7 @@ def add_helper_options(h: Hashed, found: list[list[Cut]], options: list[list[Opt
         for c in found[v]:
             if len(c.leaves) < 2:
                 continue
-            sup, cls = O.classify_cut(c)
+            sup, cls = candidates.classify_cut(c)
             if cls is not None and cls[0] == "thr":
                 ws = [0] * len(c.leaves)
                 for i, w in zip(sup, cls[1]):
@@ -64,7 +63,7 @@ def add_helper_options(h: Hashed, found: list[list[Cut]], options: list[list[Opt
             n = len(c.leaves)
             if n < 2:
                 continue
-            if O.classify_cut(c)[1] is not None:
+            if candidates.classify_cut(c)[1] is not None:
                 continue  # threshold or symmetric: it has its own gadgets
             tried += 1
             if tried > HELPER_CUTS:
@@ -152,7 +151,6 @@ def _with_helper(tt: int, g_tt: int, n: int) -> tuple[tuple[int, ...], int, int]
 def _solve_helper(tt: int, g_tt: int, n: int) -> tuple[tuple[int, ...], int, int] | None:
     """The LP of least ``Σ|w| + |u| + |T|`` with margin 1 (HiGHS); its rounded solution when
     that realises ``f``, else the same problem as an ILP."""
-    from scipy.optimize import Bounds, LinearConstraint, linprog, milp
     rows = 1 << n
     r = np.arange(rows)
     X = ((r[:, None] >> np.arange(n)) & 1).astype(float)
@@ -220,5 +218,5 @@ def _helper_template(tt: int, n: int, g_small: int, gpos: tuple[int, ...],
     gw = [0] * n
     for p, wx in zip(gpos, g_weights):
         gw[p] = wx
-    gadget = G.helper(tuple(gw), g_T, w, u, T)
+    gadget = gadgets.helper(tuple(gw), g_T, w, u, T)
     return gadget if limits.fits(gadget) else None

@@ -24,7 +24,7 @@ Rules
       an ``and`` node lists the arguments of plain ``and`` arguments, an ``xor`` node those of
       its ``xor`` arguments, up to :data:`FLAT_LIMIT` arguments.
 
->>> from thresholdc.synth.gates import Gate, GateGraph
+>>> from thresholdc.ir.gates import Gate, GateGraph
 >>> g = GateGraph.build(["a", "b"], [("y", "y"), ("z", "z")],
 ...     [("y", Gate("nand", ("a", "b"))), ("z", Gate("and", ("b", "a")))])
 >>> h = hash_gates(g)
@@ -34,7 +34,9 @@ Rules
 
 from __future__ import annotations
 
-from .gates import GateGraph
+from math import gcd
+
+from ..ir.gates import GateGraph
 
 __all__ = ["Hashed", "hash_gates", "FLAT_LIMIT"]
 
@@ -170,8 +172,6 @@ def _thr(h: Hashed, terms: list[tuple[int, int]], T: int) -> int:
         if T == 1:
             return _and(h, [lit ^ 1 for _, lit in out]) ^ 1
     # put the weights in lowest terms (a common factor of the weights divides the sum)
-    from math import gcd
-
     g = 0
     for w, _ in out:
         g = gcd(g, w)
@@ -324,7 +324,7 @@ def hash_gates(gates: GateGraph) -> Hashed:
     """The structurally hashed form of ``gates`` (see the module docstring); the input graph is
     not changed.
 
-    >>> from thresholdc.synth.gates import Gate, GateGraph
+    >>> from thresholdc.ir.gates import Gate, GateGraph
     >>> g = GateGraph.build(["a", "b"], [("y", "y")], [("n", Gate("not", ("a",))),
     ...     ("y", Gate("or", ("n", "b")))])
     >>> h = hash_gates(g)

@@ -5,7 +5,7 @@ Rules
       :func:`thresholdc.synth.identify.identify`, the smallest realisation).
     * A cut whose function is symmetric (a function of how many literals are true) gets every
       counting construction of :mod:`thresholdc.synth.gadgets` that keeps within the limits.
-    * (:mod:`thresholdc.synth.helpers` adds two-neuron options ``[Σ w·x + u·g ≥ T]`` with
+    * (:mod:`thresholdc.synth.helper_neurons` adds two-neuron options ``[Σ w·x + u·g ≥ T]`` with
       another node's threshold function ``g`` as the helper; the cover counts a helper once
       when that node's own neuron computes it.)
     * Every node also has the gadget of its own gate over its arguments, and a flattened
@@ -13,8 +13,8 @@ Rules
       are met by trees.  An option breaking a limit is dropped.
     * A function is classified once per truth table (cached).
 
->>> from thresholdc.synth.gates import Gate, GateGraph
->>> from thresholdc.synth.strash import hash_gates
+>>> from thresholdc.ir.gates import Gate, GateGraph
+>>> from thresholdc.synth.hashing import hash_gates
 >>> from thresholdc.synth.cuts import enumerate_cuts
 >>> g = GateGraph.build(["a", "b", "c"], [("y", "y")], [("t", Gate("or", ("b", "c"))),
 ...     ("y", Gate("and", ("a", "t")))])
@@ -33,11 +33,11 @@ from functools import lru_cache
 import numpy as np
 
 from ..errors import UsageError
-from . import gadgets as G
-from . import ttable
+from . import gadgets, ttable
 from .cuts import Cut
 from .gadgets import Gadget, Spec
-from .strash import Hashed
+from .hashing import Hashed
+from .identify import identify
 
 __all__ = ["Option", "Limits", "classify", "classify_cut", "node_options", "KEY_LIMIT"]
 
@@ -56,7 +56,7 @@ class Limits:
     weight: int | None
 
     def fits(self, g: Gadget) -> bool:
-        return G.fits(g, self.fan_in, self.weight)
+        return gadgets.fits(g, self.fan_in, self.weight)
 
 
 class Option:
@@ -72,7 +72,7 @@ class Option:
         self.gadget = gadget
         self.tt = tt
         self.cost = len(gadget)
-        self.depth = G.depth(gadget)
+        self.depth = gadgets.depth(gadget)
         self._keys: tuple | None = None
 
     def keys(self) -> tuple:
@@ -100,7 +100,7 @@ class Option:
 def _template_keys(g: Gadget, n: int) -> tuple[int, tuple[tuple[tuple[int, ...], int, int], ...]]:
     """The root's table over all ``n`` leaves, and per spec the leaf positions it reads
     (directly or through earlier specs) with its table over them in canonical polarity."""
-    tabs = G.spec_tables(g, n)
+    tabs = gadgets.spec_tables(g, n)
     out = []
     reach: list[tuple[int, ...]] = []
     for s, t in zip(g, tabs):
@@ -117,17 +117,9 @@ def _template_keys(g: Gadget, n: int) -> tuple[int, tuple[tuple[tuple[int, ...],
 
 # ------------------------------------------------------------------------------ classification
 
-_IDENTIFY = None
-
-
 def _identify(tt: int, n: int):
-    """``identify`` on a table held as an integer (imported on first use)."""
-    global _IDENTIFY
-    if _IDENTIFY is None:
-        from .identify import identify
-
-        _IDENTIFY = identify
-    return _IDENTIFY(np.array(ttable.to_list(tt, n), dtype=np.uint8))
+    """``identify`` on a table held as an integer."""
+    return identify(np.array(ttable.to_list(tt, n), dtype=np.uint8))
 
 
 @lru_cache(maxsize=1 << 16)
@@ -169,13 +161,13 @@ def _templates(tt: int, n: int, limits: Limits) -> tuple[Gadget, ...]:
     if cls[0] == "const":
         gs: list[Gadget] = [(Spec((), (), 1 - cls[1]),)]
     elif cls[0] == "thr":
-        gs = [G.threshold(cls[1], cls[2])]
+        gs = [gadgets.threshold(cls[1], cls[2])]
     else:
         gs = []
         for pol in _polarities(cls, len(sup)):
             small = tt if len(sup) == n else ttable.shrink(tt, n, sup)
             values = _values(small, len(sup), pol)
-            gs.extend(G.symmetric(tuple(-1 if p else 1 for p in pol), values))
+            gs.extend(gadgets.symmetric(tuple(-1 if p else 1 for p in pol), values))
     return tuple(_remap(g, list(sup)) for g in gs if limits.fits(g))
 
 
@@ -231,20 +223,21 @@ def _gate_gadget(h: Hashed, v: int, lits: tuple[int, ...], limits: Limits) -> Ga
     neg = tuple(lit & 1 for lit in lits)
     F, W = limits.fan_in, limits.weight
     if op in ("and", "buf"):
-        return G.and_tree(tuple(-1 if x else 1 for x in neg), F if F is not None else n)
+        return gadgets.and_tree(tuple(-1 if x else 1 for x in neg), F if F is not None else n)
     if op == "const":
         return (Spec((), (), 1 - h.value[v]),)
     if op == "xor":
-        g = G.parity_tree(n, F, W)
+        g = gadgets.parity_tree(n, F, W)
         return None if g is None else _polarise(g, neg)
     if op in ("thr", "eq"):
         ws = h.weights[v] or ()
-        g = (G.threshold(ws, h.threshold[v]) if op == "thr" else G.equal(ws, h.threshold[v]))
+        g = (gadgets.threshold(ws, h.threshold[v]) if op == "thr"
+             else gadgets.equal(ws, h.threshold[v]))
         g = _polarise(g, neg)
         if limits.fits(g):
             return g
         if n <= KEY_LIMIT:  # a smaller realisation of the same function may fit
-            tt = G.evaluate(g, n)
+            tt = gadgets.evaluate(g, n)
             for o in _cut_options(Cut(0, tuple(range(n)), tt), limits):
                 return o.gadget
         # a tree of smaller neurons always fits (fan-in ≥ 2, weight ≥ 1)
@@ -253,9 +246,9 @@ def _gate_gadget(h: Hashed, v: int, lits: tuple[int, ...], limits: Limits) -> Ga
         for w, x in zip(ws, neg):
             signed.append(-w if x else w)
             T -= w if x else 0
-        return G.limited_threshold(tuple(signed), T, F, W, equal=op == "eq")
+        return gadgets.limited_threshold(tuple(signed), T, F, W, equal=op == "eq")
     if op == "ite":
-        for g in (G.ite(None), G.ite(2)):
+        for g in (gadgets.ite(None), gadgets.ite(2)):
             g = _polarise(g, neg)
             if limits.fits(g):
                 return g
@@ -287,7 +280,7 @@ def _gate_option(h: Hashed, v: int, lits: tuple[int, ...], limits: Limits) -> Op
     srt, where = _sorted_lits(h, v, tuple(lits) + tuple(2 * x for x in ghost))
     leaves = tuple(lit >> 1 for lit in srt)
     g = _remap(g, where)
-    tt = G.evaluate(g, len(leaves)) if len(leaves) <= KEY_LIMIT else None
+    tt = gadgets.evaluate(g, len(leaves)) if len(leaves) <= KEY_LIMIT else None
     cone = 1 << v
     for x in h.inner.get(v, ()) if lits is h.flat.get(v) else ():
         cone |= 1 << x
@@ -397,7 +390,7 @@ def _composed_options(h: Hashed, v: int, prior: list[list[Option]], limits: Limi
                         T2 -= B
                     else:
                         terms[pos[y >> 1]] = terms.get(pos[y >> 1], 0) + B
-                gadget: Gadget = (G._spec(terms, T2),)
+                gadget: Gadget = (gadgets._spec(terms, T2),)
             else:
                 y = others[0]
                 B = max(smax - T + 1, T - smin)
@@ -405,12 +398,12 @@ def _composed_options(h: Hashed, v: int, prior: list[list[Option]], limits: Limi
                 terms = dict(base)
                 ty, off = (B, 0) if not y & 1 else (-B, B)  # B·y, y possibly 1 − x
                 terms[pos[y >> 1]] = ty
-                hspec = G._spec(terms, T + B - off)
+                hspec = gadgets._spec(terms, T + B - off)
                 root = dict(terms)
                 root[-1] = -Cw
-                gadget = (hspec, G._spec(root, T - off))
-            if not limits.fits(gadget) or G.max_weight(gadget) > COMPOSE_WEIGHT_LIMIT:
+                gadget = (hspec, gadgets._spec(root, T - off))
+            if not limits.fits(gadget) or gadgets.max_weight(gadget) > COMPOSE_WEIGHT_LIMIT:
                 continue
-            tt = G.evaluate(gadget, len(leaves)) if len(leaves) <= KEY_LIMIT else None
+            tt = gadgets.evaluate(gadget, len(leaves)) if len(leaves) <= KEY_LIMIT else None
             out.append(Option(leaves, gadget, tt, o.cone | (1 << v)))
     return out

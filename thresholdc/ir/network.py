@@ -21,18 +21,27 @@ with ``W`` of shape ``(n_out, n_in)``.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field, replace
 from functools import cached_property
 from typing import Any
 
 import numpy as np
+from scipy import sparse
 
+from ..errors import NetworkFileError
 from . import activations as act
 
-__all__ = ["Neuron", "Output", "Network", "ROLES", "ENCODINGS"]
+__all__ = [
+    "Neuron", "Output", "Network", "ROLES", "ENCODINGS", "DEFAULT_SCALE",
+    "check_network", "real_units", "real_margins",
+]
 
 ROLES = ("gate", "relay", "extra")
 ENCODINGS = ("binary", "bipolar")
+
+#: The scale of a real input unit that declares none.
+DEFAULT_SCALE = 1.0
 
 
 @dataclass(frozen=True, slots=True)
@@ -238,8 +247,6 @@ class Network:
     @cached_property
     def _layer_plan(self) -> list[tuple[np.ndarray, Any, np.ndarray, list]]:
         """Per layer: neuron positions, sparse weights over all units, biases, activations."""
-        from scipy import sparse
-
         index = {name: i for i, name in enumerate(self.inputs)}
         base = len(self.inputs)
         for j, n in enumerate(self.neurons):
@@ -301,38 +308,98 @@ class Network:
             prev = [n.name for n in units]
         return layers
 
-    # ------------------------------------------------------------------ files
-    def save(self, path: str) -> None:
-        """Write the network to ``path`` in the format its suffix names (``.json`` network
-        file, ``.npz``, ``.onnx``), atomically: a temporary file, then a rename.
-
-        >>> import tempfile, os
-        >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
-        >>> from thresholdc.network.fileformat import load
-        >>> p = os.path.join(tempfile.mkdtemp(), "n.json"); net.save(p)
-        >>> load(p).neurons[0].bias
-        0.5
-        """
-        import os
-
-        if os.path.splitext(str(path))[1].lower() == ".json":
-            from .fileformat import save
-
-            save(self, str(path))
-        else:
-            from ..export import save_any
-
-            save_any(self, str(path))
-
-    def to_json(self) -> str:
-        """The network file text (DESIGN.md §4)."""
-        from .fileformat import dumps
-
-        return dumps(self)
-
     def __repr__(self) -> str:
         return (
             f"Network(inputs={len(self.inputs)}, neurons={len(self.neurons)}, "
             f"outputs={len(self.outputs)}, depth={self.depth})"
         )
 
+
+# ---------------------------------------------------------------- structural checks
+def _expect(cond: bool, file: str, message: str) -> None:
+    if not cond:
+        raise NetworkFileError(message, file=file)
+
+
+def check_network(net: Network, file: str = "<network>") -> None:
+    """Check the structural invariants of a network; raise NetworkFileError on the first break.
+
+    Names unique, every neuron reads known earlier units, weights match inputs, layers are
+    1 + the largest input layer, outputs read known units.
+    """
+    layer: dict[str, int] = {}
+    for name in net.inputs:
+        _expect(name not in layer, file, f"input unit {name!r} is listed twice")
+        layer[name] = 0
+    for n in net.neurons:
+        _expect(n.name not in layer, file, f"unit name {n.name!r} is used twice")
+        _expect(
+            len(n.inputs) == len(n.weights),
+            file,
+            f"neuron {n.name!r} has {len(n.inputs)} inputs but {len(n.weights)} weights",
+        )
+        for i in n.inputs:
+            _expect(
+                i in layer,
+                file,
+                f"neuron {n.name!r} reads unknown unit {i!r} "
+                "(units must come before their readers)",
+            )
+        want = 1 + max((layer[i] for i in n.inputs), default=0)
+        _expect(
+            n.layer == want,
+            file,
+            f"neuron {n.name!r} has layer {n.layer}, but its inputs put it in layer {want}",
+        )
+        _expect(
+            all(math.isfinite(w) for w in n.weights) and math.isfinite(n.bias),
+            file,
+            f"neuron {n.name!r} has a weight or bias that is not finite",
+        )
+        layer[n.name] = n.layer
+    seen = set()
+    for o in net.outputs:
+        _expect(o.source in layer, file, f"output {o.name!r} reads unknown unit {o.source!r}")
+        _expect(o.name not in seen, file, f"output {o.name!r} is listed twice")
+        seen.add(o.name)
+
+
+# ------------------------------------------------------ facts about real units
+def real_units(net: Any) -> dict[str, float]:
+    """``{unit: scale}`` for every real unit of a network (from its ``features``).
+
+    >>> from thresholdc.ir.network import Network
+    >>> real_units(Network(("t",), (), (), features=({"name": "t", "kind": "real",
+    ...     "units": ["t"], "range": None, "scale": 0.5},)))
+    {'t': 0.5}
+    """
+    out: dict[str, float] = {}
+    for f in getattr(net, "features", None) or ():
+        if f.get("kind") == "real":
+            scale = f.get("scale")
+            for u in f.get("units", ()):
+                out[u] = float(scale) if scale is not None else DEFAULT_SCALE
+    return out
+
+
+def real_margins(net: Any, margins: np.ndarray) -> np.ndarray:
+    """``margins`` with each neuron that reads a real unit given ``min |w|·scale`` over its real
+    inputs: the distance in ``z`` at which it is ``scale`` away from its threshold.
+
+    The soft-activation pass uses it: a soft gain ``x(ε)/margin`` then is ``ln(1/ε − 1)/scale``
+    for the compiled ``z = ±(x − c)``.
+
+    >>> from thresholdc.ir.network import Network, Neuron, Output
+    >>> net = Network(("t",), (Neuron("y", 1, ("t",), (1.0,), -3.0),), (Output("y", "y"),),
+    ...               features=({"name": "t", "kind": "real", "units": ["t"], "range": None,
+    ...                          "scale": 0.25},))
+    >>> real_margins(net, np.array([0.5])).tolist()
+    [0.25]
+    """
+    scales = real_units(net)
+    out = np.array(margins, dtype=float, copy=True)
+    for j, n in enumerate(net.neurons):
+        found = [abs(float(w)) * scales[i] for i, w in zip(n.inputs, n.weights) if i in scales]
+        if found:
+            out[j] = min(found)
+    return out
