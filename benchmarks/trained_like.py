@@ -17,7 +17,8 @@ import numpy as np
 
 from thresholdc.compiler import compile_rules
 from thresholdc.export.dense import dense_form, network_from_layers
-from thresholdc.source import Source
+from thresholdc.logic.source import source_from_text
+from thresholdc.network import to_relu
 from thresholdc.verify.domain import boolean_or_typed_domain
 
 
@@ -35,8 +36,6 @@ def trained_like(text: str, *, seed: int = 0, link: float = 0.02, rel: float = 0
 def step_like(text: str, *, seed: int = 0, link: float = 0.02, rel: float = 0.05,
               relu: bool = False):
     """A perturbed dense step (or, with ``relu``, exact-ReLU-form) network of ``text``."""
-    from thresholdc.network.relu import to_relu
-
     net = compile_rules(text, layered=True, verify="none")
     if relu:
         net = to_relu(net, layered=True)
@@ -59,7 +58,7 @@ def _perturbed(net, seed: int, link: float, rel: float):
 
 def sample_rows(text: str, rows: int, *, seed: int = 0, p_first: float = 0.8):
     """``(X units, y labels)`` of ``rows`` valid assignments of the rules ``text``."""
-    src = Source.from_text(text)
+    src = source_from_text(text)
     d = boolean_or_typed_domain(src, real_points={v.name: [0.0] for v in
                                                   (src.program.inputs if src.program else ())
                                                   if v.kind == "real"})

@@ -16,7 +16,7 @@ import pathlib
 
 import numpy as np
 
-from thresholdc.source import Source
+from thresholdc.logic.source import source_from_text
 from thresholdc.verify.domain import boolean_or_typed_domain, network_rows
 
 
@@ -74,7 +74,7 @@ def random_rules(rng: np.random.Generator) -> str:
 
 def truth(net, text: str) -> dict[str, int]:
     """Per output, the number of valid assignments on which ``net`` and the rules disagree."""
-    src = Source.from_text(text)
+    src = source_from_text(text)
     d = boolean_or_typed_domain(src)
     choice = d.enumerate(0, d.size)
     X = d.unit_rows(choice)
@@ -87,7 +87,7 @@ def truth(net, text: str) -> dict[str, int]:
 
 def is_counterexample(net, text: str, output: str, assignment: dict) -> bool:
     """True when the network and the rules disagree on ``output`` at ``assignment``."""
-    src = Source.from_text(text)
+    src = source_from_text(text)
     d = boolean_or_typed_domain(src)
     choice = np.array([[f.labels.index(assignment[f.name]) for f in d.discrete]])
     X = d.unit_rows(choice)

@@ -9,12 +9,14 @@ levels from none to large, so some networks still compute their rules and some d
 
 from __future__ import annotations
 
+import pathlib
+
 import numpy as np
 import pytest
 
 from tests.verify.retention_cases import cases, is_counterexample, load_trained_like, truth
 from thresholdc.compiler import compile_rules
-from thresholdc.source import Source
+from thresholdc.logic.source import source_from_text
 from thresholdc.verify.domain import boolean_or_typed_domain
 from thresholdc.verify.milp import verify_milp
 from thresholdc.verify.milp_model import Model, encode_rules
@@ -50,7 +52,7 @@ def test_milp_matches_enumeration(kind):
             net = tl.trained_like(text, seed=seed, link=link, rel=rel)
         else:
             net = tl.step_like(text, seed=seed, link=link, rel=rel, relu=kind == "relu")
-        report = verify_milp(net, Source.from_text(text), time_limit=30)
+        report = verify_milp(net, source_from_text(text), time_limit=30)
         check(net, text, report)
         for o in report.outputs:
             seen[o.verdict] += 1
@@ -62,7 +64,7 @@ def test_rule_encoding_is_exact():
     values (reference: thresholdc.logic.reference, which shares no code with the encoding)."""
     rng = np.random.default_rng(5)
     for text, _ in cases(31, 25):
-        src = Source.from_text(text)
+        src = source_from_text(text)
         d = boolean_or_typed_domain(src)
         choice = d.enumerate(0, d.size)[rng.permutation(d.size)[:6]]
         expected = src.evaluate(d.unit_rows(choice))
@@ -86,11 +88,11 @@ def test_real_threshold_strictness():
     differs exactly at t = 30, `u < 5` read as `u <= 5` exactly at u = 5."""
     text = "input t: real in [0, 50], u: real in [0, 10], a\ny = t > 30 and a and u < 5\n"
     net = tl.step_like(text, link=0.0, rel=0.0)
-    same = verify_milp(net, Source.from_text(text))
+    same = verify_milp(net, source_from_text(text))
     assert "whole declared ranges" in " ".join(same.notes)
     assert same.outputs[0].verdict == "equal"
     for old, new, var, at in (("t > 30", "t >= 30", "t", 30.0), ("u < 5", "u <= 5", "u", 5.0)):
-        other = verify_milp(net, Source.from_text(text.replace(old, new)))
+        other = verify_milp(net, source_from_text(text.replace(old, new)))
         assert other.outputs[0].verdict == "different"
         for c in other.counterexamples:
             assert c.assignment[var] == at and c.assignment["a"] == 1
@@ -101,16 +103,14 @@ def test_fifty_categorical_inputs():
     """The seed-bank rules (60 categorical inputs): the compiled network is proven equal per
     output, and a planted one-value change (one more value accepted in one test) is found
     with a counterexample in the user's column names and values."""
-    import pathlib
-
     path = pathlib.Path(__file__).resolve().parents[2] / "circuits" / "seed_bank.rules"
     text = path.read_text()
     net = compile_rules(text, verify="none")
-    report = verify_milp(net, Source.from_text(text, str(path)))
+    report = verify_milp(net, source_from_text(text, str(path)))
     assert [o.verdict for o in report.outputs] == ["equal", "equal"]
     planted = text.replace("label_1 == match and", "label_1 in {match, unclear} and")
     assert planted != text
-    report = verify_milp(net, Source.from_text(planted, str(path)))
+    report = verify_milp(net, source_from_text(planted, str(path)))
     verdicts = {o.name: o.verdict for o in report.outputs}
     assert verdicts["accept_lot"] == "different"
     for c in report.counterexamples:

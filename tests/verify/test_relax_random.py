@@ -13,7 +13,7 @@ import numpy as np
 import pytest
 
 from tests.verify.retention_cases import cases, is_counterexample, load_trained_like, truth
-from thresholdc.source import Source
+from thresholdc.logic.source import source_from_text
 from thresholdc.verify.domain import boolean_or_typed_domain
 from thresholdc.verify.linear_bounds import LinearBounder
 from thresholdc.verify.relax import verify_relax
@@ -42,7 +42,7 @@ def test_relax_matches_enumeration(activation):
         link, rel = [(0.0, 0.0), (0.05, 0.1), (0.3, 0.4), (1.0, 1.0)][seed % 4]
         net = tl.trained_like(text, seed=seed, link=link, rel=rel, activation=activation,
                               tolerance=float(rng.choice([0.1, 0.25, 0.4])))
-        report = verify_relax(net, Source.from_text(text), time_limit=30)
+        report = verify_relax(net, source_from_text(text), time_limit=30)
         check_report(net, text, report)
         for o in report.outputs:
             seen[o.verdict] += 1
@@ -56,7 +56,7 @@ def test_bounds_contain_every_point():
     rng = np.random.default_rng(3)
     for text, seed in cases(11, 40):
         net = tl.trained_like(text, seed=seed, link=0.5, rel=0.5)
-        d = boolean_or_typed_domain(Source.from_text(text))
+        d = boolean_or_typed_domain(source_from_text(text))
         lb = LinearBounder(net, d)
         choice = d.enumerate(0, d.size)
         values = net.evaluate(d.unit_rows(choice))

@@ -34,11 +34,11 @@ How the bounds are built
 
 >>> import numpy as np
 >>> from thresholdc.compiler import compile_rules
->>> from thresholdc.source import Source
+>>> from thresholdc.logic.source import source_from_text
 >>> from thresholdc.verify.domain import boolean_or_typed_domain
 >>> text = "input c: {red, blue, green}\\ny = c == red\\n"
 >>> net = compile_rules(text, activation="sigmoid")
->>> lb = LinearBounder(net, boolean_or_typed_domain(Source.from_text(text)))
+>>> lb = LinearBounder(net, boolean_or_typed_domain(source_from_text(text)))
 >>> out = lb.run(np.array([[True, True, False]]))   # c in {red, blue}
 >>> bool(out.vlo[0, 0] < 0.5 < out.vhi[0, 0])
 True
@@ -51,7 +51,8 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.special import expit
 
-from ..network.model import Network
+from ..ir import activations as act
+from ..ir.network import Network
 from .domain import Domain
 
 __all__ = ["LinearBounder", "Bounds", "activation_lines"]
@@ -310,8 +311,6 @@ class LinearBounder:
         vlo, vhi, mlo, mhi = (np.zeros((B, K)) for _ in range(4))
         flo = np.zeros((B, K, self.P))
         fhi = np.zeros((B, K, self.P))
-        from ..network import activations as act
-
         for k in range(K):
             j = self.out_neuron[k]
             if j >= 0:

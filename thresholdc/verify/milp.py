@@ -35,9 +35,9 @@ at the point found), a soft one over the range less the bands of
 :func:`thresholdc.verify.typed.typed_domain`.
 
 >>> from thresholdc.compiler import compile_rules
->>> from thresholdc.source import Source
+>>> from thresholdc.logic.source import source_from_text
 >>> text = "input c: {red, green, blue}, a\\ny = c == red and a\\n"
->>> r = verify_milp(compile_rules(text), Source.from_text(text))
+>>> r = verify_milp(compile_rules(text), source_from_text(text))
 >>> r.result, r.outputs[0].verdict
 ('equal', 'equal')
 """
@@ -51,8 +51,16 @@ import numpy as np
 
 from .. import progress as progress_bars
 from ..errors import VerificationUndecided
-from ..network.model import Network
-from .domain import Domain, boolean_or_typed_domain, network_rows
+from ..ir import activations as act
+from ..ir.network import Network
+from .domain import (
+    Domain,
+    boolean_or_typed_domain,
+    check_names,
+    is_typed_source,
+    network_rows,
+    typed_domain,
+)
 from .linear_bounds import LinearBounder, activation_lines
 from .milp_model import Affine, Model, encode_rules
 from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
@@ -74,8 +82,6 @@ def milp_domain(net: Network, source: Any) -> Domain:
     """The MILP's domain: :func:`~thresholdc.verify.typed.typed_domain`, except that a step
     network whose real tests are not cell-exact ranges over each real input's whole declared
     range (no bands: a step network is exact up to the threshold)."""
-    from .typed import is_typed_source, typed_domain
-
     domain = typed_domain(net, source)
     if not domain.continuous or not all(n.activation == "step" for n in net.neurons):
         return domain
@@ -199,8 +205,6 @@ class _Builder:
             return {a: 1.0}, 0.0
         assert name in _SMOOTH, name
         pts = self.breaks[j]
-        from ..network import activations as act
-
         f = act.get(name).forward
         a = m.var(float(f(np.array(L))) - 1e-9, float(f(np.array(U))) + 1e-9)
         if len(pts) <= 2:
@@ -235,8 +239,6 @@ class _Builder:
     def refine(self, x: np.ndarray, info: dict[str, Any]) -> bool:
         """Add a breakpoint at the solution's ``z`` of every smooth neuron whose envelope
         value there is far from the activation; True when anything was added."""
-        from ..network import activations as act
-
         added = False
         for j, n in enumerate(self.net.neurons):
             if n.activation not in _SMOOTH:
@@ -431,14 +433,12 @@ def verify_milp(net: Network, source: Any, *, time_limit: float = DEFAULT_TIME_L
     Examples
     --------
     >>> from thresholdc.compiler import compile_rules
-    >>> from thresholdc.source import Source
+    >>> from thresholdc.logic.source import source_from_text
     >>> net = compile_rules("input t: real in [0, 50]\\ny = t > 30\\n")
-    >>> r = verify_milp(net, Source.from_text("input t: real in [0, 50]\\ny = t >= 30\\n"))
+    >>> r = verify_milp(net, source_from_text("input t: real in [0, 50]\\ny = t >= 30\\n"))
     >>> r.outputs[0].verdict, r.outputs[0].counterexamples[0].assignment
     ('different', {'t': 30.0})
     """
-    from .exhaustive import check_names
-
     check_names(net, source)
     return run_milp(net, source, milp_domain(net, source), time_limit=time_limit,
                     progress=progress)

@@ -21,9 +21,9 @@ sharing code with the lowering to gates:
   with a margin variable ``s`` (``strict``) the side the rule excludes needs ``s`` more
   (``x > c`` needs ``x ≥ c + s``, ``x >= c`` false needs ``x ≤ c − s``).
 
->>> from thresholdc.source import Source
+>>> from thresholdc.logic.source import source_from_text
 >>> from thresholdc.verify.domain import boolean_or_typed_domain
->>> src = Source.from_text("input c: {r, g, b}, a\\ny = atleast(2, c == r, a, c != b)\\n")
+>>> src = source_from_text("input c: {r, g, b}, a\\ny = atleast(2, c == r, a, c != b)\\n")
 >>> m = Model()
 >>> d = boolean_or_typed_domain(src)
 >>> choices = m.choice_vars(d)
@@ -40,8 +40,10 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
+from scipy.optimize import Bounds, LinearConstraint, milp
+from scipy.sparse import csr_matrix
 
-from ..syntax import ast
+from ..ir import program as ast
 from .domain import Domain
 
 __all__ = ["Model", "Solution", "encode_rules", "Affine"]
@@ -103,9 +105,6 @@ class Model:
     def solve(self, *, time_limit: float, node_limit: int | None = None,
               objective: dict[int, float] | None = None) -> Solution:
         """Find any feasible point (objective 0), or minimise ``objective``, with HiGHS."""
-        from scipy.optimize import Bounds, LinearConstraint, milp
-        from scipy.sparse import csr_matrix
-
         n = len(self.lb)
         data, ri, ci = [], [], []
         lo = np.empty(len(self.rows))

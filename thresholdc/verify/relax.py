@@ -32,9 +32,9 @@ Rules of the search
       the network's bound and the threshold.
 
 >>> from thresholdc.compiler import compile_rules
->>> from thresholdc.source import Source
+>>> from thresholdc.logic.source import source_from_text
 >>> text = "input c: {red, green, blue}, d: {on, off}\\ny = c == red or d == on\\n"
->>> r = verify_relax(compile_rules(text, activation="sigmoid"), Source.from_text(text))
+>>> r = verify_relax(compile_rules(text, activation="sigmoid"), source_from_text(text))
 >>> r.result, [o.verdict for o in r.outputs]
 ('equal', ['equal'])
 """
@@ -49,9 +49,9 @@ from typing import Any
 import numpy as np
 
 from .. import progress as progress_bars
-from ..network.model import Network
-from ..syntax import ast
-from .domain import Domain, network_rows
+from ..ir import program as ast
+from ..ir.network import Network
+from .domain import Domain, check_names, network_rows, typed_domain
 from .linear_bounds import LinearBounder
 from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
 from .ternary import rules_ternary
@@ -67,9 +67,9 @@ def rule_support(source: Any, domain: Domain) -> np.ndarray:
     """``(outputs, discrete features)`` bool: the discrete inputs each output's rules read
     (every input for a netlist), in source output order.
 
-    >>> from thresholdc.source import Source
+    >>> from thresholdc.logic.source import source_from_text
     >>> from thresholdc.verify.domain import boolean_or_typed_domain
-    >>> src = Source.from_text("input a, b, c\\nx = a and b\\ny = not c\\n")
+    >>> src = source_from_text("input a, b, c\\nx = a and b\\ny = not c\\n")
     >>> rule_support(src, boolean_or_typed_domain(src)).astype(int).tolist()
     [[1, 1, 0], [0, 0, 1]]
     """
@@ -448,16 +448,13 @@ def verify_relax(
     Examples
     --------
     >>> from thresholdc.compiler import compile_rules
-    >>> from thresholdc.source import Source
+    >>> from thresholdc.logic.source import source_from_text
     >>> net = compile_rules("input c: {a, b, c}\\ny = c in {a, b}\\n", activation="tanh",
     ...                     encoding="bipolar")
-    >>> r = verify_relax(net, Source.from_text("input c: {a, b, c}\\ny = c == a\\n"))
+    >>> r = verify_relax(net, source_from_text("input c: {a, b, c}\\ny = c == a\\n"))
     >>> r.outputs[0].verdict, r.outputs[0].counterexamples[0].assignment
     ('different', {'c': 'b'})
     """
-    from .exhaustive import check_names
-    from .typed import typed_domain
-
     check_names(net, source)
     domain = typed_domain(net, source)
     return run_relax(net, source, domain, max_nodes=max_nodes, time_limit=time_limit,
