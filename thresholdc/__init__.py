@@ -33,10 +33,12 @@ from .verify import (
     CertificateCheck,
     Report,
     check_certificate,
+    retained_definitions,
     verify_bounds,
     verify_local,
     verify_network,
     verify_sat,
+    verify_trained,
     verify_typed,
 )
 from .version import __version__  # noqa: E402
@@ -58,6 +60,8 @@ __all__ = [
     "parse_bench",
     "parse_blif",
     "verify_typed",
+    "verify_trained",
+    "retained_definitions",
     "load_source",
     "source_from_text",
     "identify",

@@ -6,6 +6,7 @@ from .certificate import CertificateCheck, check_certificate
 from .exhaustive import DEFAULT_MAX_INPUTS, verify_exhaustive
 from .local import verify_local
 from .report import Counterexample, OutputReport, Report
+from .retention import retained_definitions, verify_trained
 from .sat import verify_sat
 from .typed import verify_typed
 
@@ -13,4 +14,5 @@ __all__ = [
     "METHODS", "verify_network", "verify_bounds", "CertificateCheck", "check_certificate",
     "DEFAULT_MAX_INPUTS", "verify_exhaustive", "verify_local", "Counterexample",
     "OutputReport", "Report", "verify_sat", "verify_typed",
+    "verify_trained", "retained_definitions",
 ]

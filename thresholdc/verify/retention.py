@@ -1,0 +1,196 @@
+"""Retention: which outputs and which definitions of a rule file a trained network still
+computes, decided output by output.
+
+:func:`verify_trained` picks the method by the network's activations:
+
+* step, ReLU and linear neurons only: the MILP (:mod:`thresholdc.verify.milp`), exact up to
+  HiGHS's floating-point verdicts;
+* sigmoid or tanh: first the relaxation branch-and-bound (:mod:`thresholdc.verify.relax`)
+  with a third of the time, then the MILP with sound piecewise-linear envelopes for the
+  outputs still open, in the rest.
+
+:func:`retained_definitions` asks the same question of every definition that has one unit
+of its own in the network (the neuron named after it, else the one gate neuron whose origin
+it is): that unit read against the decision threshold is compared with the definition's
+rules, over the same domain.
+
+>>> from thresholdc.compiler import compile_rules
+>>> from thresholdc.logic.source import source_from_text
+>>> text = "input c: {red, green, blue}, a\\nhot = c == red\\ny = hot and a\\n"
+>>> net = compile_rules(text, activation="sigmoid", layered=True)
+>>> report = verify_trained(net, source_from_text(text))
+>>> report.result, [o.verdict for o in report.outputs]
+('equal', ['equal'])
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import replace
+from typing import Any
+
+from ..ir.network import Network, Output
+from ..logic import RuleSource
+from .domain import check_names, typed_domain
+from .milp import milp_domain, run_milp
+from .relax import DEFAULT_MAX_NODES, run_relax
+from .report import OutputReport, Report
+
+__all__ = ["verify_trained", "retained_definitions", "definition_units"]
+
+_EXACT = {"step", "relu", "linear"}
+_RELAX_SHARE = 1 / 3
+
+
+def _restrict(network: Network, source: Any, names: list[str]) -> tuple[Network, Any]:
+    """The network and the rules with only the outputs ``names``."""
+    outs = tuple(o for o in network.outputs if o.name in names)
+    program = replace(source.program, outputs=tuple(o.name for o in outs))
+    return replace(network, outputs=outs), RuleSource(source.file, source.text, program)
+
+
+def verify_trained(
+    network: Network,
+    source: Any,
+    *,
+    max_nodes: int = DEFAULT_MAX_NODES,
+    time_limit: float = 60.0,
+    progress: bool | None = None,
+) -> Report:
+    """Decide per output whether a trained (or soft) ``network`` computes ``source``'s rules.
+
+    Parameters
+    ----------
+    network : Network
+        Any activations among step, relu, linear, sigmoid, tanh; typed or Boolean inputs.
+    source : RuleSource
+        The rule file (same input units and output names).
+    max_nodes : int
+        Boxes of the relaxation branch-and-bound (soft networks).
+    time_limit : float
+        Seconds for the whole check.
+    progress : bool or None
+        Progress bars on a terminal (None: as the command line set them).
+
+    Returns
+    -------
+    Report
+        Method ``milp``, ``relax`` or ``relax+milp``; per output ``equal`` (proven),
+        ``different`` (re-checked counterexamples in the user's column names and values) or
+        ``undecided`` with the bound reached.
+
+    Examples
+    --------
+    >>> from thresholdc.compiler import compile_rules
+    >>> from thresholdc.logic.source import source_from_text
+    >>> net = compile_rules("input k: {a, b, c}\\ny = k == a\\n")
+    >>> r = verify_trained(net, source_from_text("input k: {a, b, c}\\ny = k == b\\n"))
+    >>> r.outputs[0].verdict, sorted(c.assignment["k"] for c in r.outputs[0].counterexamples)
+    ('different', ['a', 'b'])
+    """
+    t0 = time.perf_counter()
+    check_names(network, source)
+    kinds = {n.activation for n in network.neurons}
+    if kinds <= _EXACT:
+        report = run_milp(network, source, milp_domain(network, source),
+                          time_limit=time_limit, progress=progress)
+        report.seconds = time.perf_counter() - t0
+        return report
+    first = run_relax(network, source, typed_domain(network, source), max_nodes=max_nodes,
+                      time_limit=time_limit * _RELAX_SHARE, progress=progress)
+    open_names = [o.name for o in first.outputs if o.verdict == "undecided"]
+    left = time_limit - (time.perf_counter() - t0)
+    if not open_names or left <= 0 or getattr(source, "program", None) is None:
+        first.seconds = time.perf_counter() - t0
+        return first
+    net2, src2 = _restrict(network, source, open_names)
+    second = run_milp(net2, src2, milp_domain(net2, src2), time_limit=left, progress=progress)
+    by_name = {o.name: o for o in second.outputs}
+    outputs = []
+    for o in first.outputs:
+        o2 = by_name.get(o.name)
+        if o2 is not None and o2.verdict == "undecided" and o.bound:
+            o2 = replace(o2, bound=f"relax: {o.bound}; milp: {o2.bound}")
+        outputs.append(o2 if o2 is not None else o)
+    kinds_v = {o.verdict for o in outputs}
+    result = ("different" if "different" in kinds_v else
+              "undecided" if "undecided" in kinds_v else "equal")
+    notes = list(dict.fromkeys(first.notes + second.notes))
+    return Report(result, "relax+milp", first.assignments, outputs,
+                  proofs=first.proofs + second.proofs, notes=notes,
+                  seconds=time.perf_counter() - t0)
+
+
+def definition_units(network: Network, source: Any) -> dict[str, str | None]:
+    """For each definition the outputs need (source order), the unit that computes it: the
+    neuron named after it, else the one gate neuron whose origin it is, else None.
+
+    >>> from thresholdc.compiler import compile_rules
+    >>> from thresholdc.logic.source import source_from_text
+    >>> text = "input a, b, c\\nboth = a and b\\ny = both or c\\n"
+    >>> definition_units(compile_rules(text, synthesis=False), source_from_text(text))
+    {'both': 'both', 'y': 'y'}
+    """
+    names = {n.name for n in network.neurons}
+    out: dict[str, str | None] = {}
+    for d in source.program.order:
+        if d in names:
+            out[d] = d
+            continue
+        owners = [n.name for n in network.neurons if n.role == "gate" and n.origin == d]
+        out[d] = owners[0] if len(owners) == 1 else None
+    return out
+
+
+def retained_definitions(
+    network: Network, source: Any, names: list[str] | None = None, **limits: Any,
+) -> dict[str, OutputReport]:
+    """Which definitions of ``source`` the network's units still compute.
+
+    Parameters
+    ----------
+    network : Network
+        A network that keeps one unit per definition (a compiled or trained one).
+    source : RuleSource
+    names : list of str, optional
+        The definitions to check (default: every definition the outputs need).
+    **limits
+        ``max_nodes``, ``time_limit``, ``progress`` as for :func:`verify_trained` (the time
+        limit is for all definitions together).
+
+    Returns
+    -------
+    dict
+        ``{definition: OutputReport}`` in source order; a definition without a unit of its
+        own is ``undecided`` with that as its bound.
+
+    Examples
+    --------
+    >>> from thresholdc.compiler import compile_rules
+    >>> from thresholdc.logic.source import source_from_text
+    >>> text = "input c: {r, g, b}, a, e\\nhot = atleast(2, c == r, a, e)\\ny = hot xor a\\n"
+    >>> net = compile_rules(text, synthesis=False)
+    >>> other = source_from_text(text.replace("c == r", "c in {r, g}"))
+    >>> {d: o.verdict for d, o in retained_definitions(net, other).items()}
+    {'hot': 'different', 'y': 'different'}
+    """
+    units = definition_units(network, source)
+    wanted = list(units) if names is None else [n for n in units if n in set(names)]
+    unknown = sorted(set(names or ()) - set(units))
+    out: dict[str, OutputReport] = {}
+    have = [d for d in wanted if units[d] is not None]
+    if have:
+        net = replace(network, outputs=tuple(Output(d, units[d]) for d in have))
+        program = replace(source.program, outputs=tuple(have))
+        report = verify_trained(net, RuleSource(source.file, source.text, program), **limits)
+        found = {o.name: o for o in report.outputs}
+    for d in wanted:
+        if units[d] is None:
+            out[d] = OutputReport(d, "undecided", None, [], None, 0,
+                                  "no single unit of the network computes this definition")
+        else:
+            out[d] = found[d]
+    for d in unknown:
+        out[d] = OutputReport(d, "undecided", None, [], None, 0,
+                              "not a definition the outputs need")
+    return out
