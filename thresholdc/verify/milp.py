@@ -76,6 +76,7 @@ DEFAULT_TIME_LIMIT = 60.0
 _SMOOTH = ("sigmoid", "tanh")
 _MAX_ROUNDS = 200
 _START_BREAKS: tuple[float, ...] = (-3.0, 0.0, 3.0)
+_BRIDGE_SECONDS = 10.0
 
 
 def milp_domain(net: Network, source: Any) -> Domain:
@@ -108,6 +109,7 @@ class _Builder:
                            np.array([[max(p[1] for p in f.pieces) for f in domain.continuous]]))
         self.zlo, self.zhi = root.zlo[0], root.zhi[0]
         self.strict = False
+        self.bridges: list[tuple[dict[int, float], float, float, float]] | None = None
         self.breaks: dict[int, list[float]] = {}
         for j, n in enumerate(net.neurons):
             if n.activation in _SMOOTH:
@@ -170,8 +172,56 @@ class _Builder:
             m.row(coefs, const, 0.0, 0.0)
             zvars.append(z)
             acts.append(self._activation(m, n.activation, z, L, U, j, bipolar))
-        return m, {"choices": choices, "cont": cont_vars, "rules": rules, "acts": acts,
-                   "zvars": zvars, "units": units, "pos": pos, "col": col}
+        info = {"choices": choices, "cont": cont_vars, "rules": rules, "acts": acts,
+                "zvars": zvars, "units": units, "pos": pos, "col": col}
+        if self.bridges is None and all(n.activation == "step" for n in self.net.neurons):
+            self.bridges = []  # exact binaries already: the rows would cost more than save
+        if self.bridges is None:
+            self.bridges = self._bridges(m, info)  # adds its rows to m as it goes
+        else:
+            for coefs, const, lo, hi in self.bridges:
+                m.row(coefs, const, lo, hi)
+        return m, info
+
+    def _bridges(self, m: Model, info: dict[str, Any]) -> list:
+        """Rows tying each unit that carries a definition (its origin) to the definition's
+        rule value: ``r = 1 ⇒ z ≥ l₁`` and ``r = 0 ⇒ z ≤ u₀``, with ``l₁``/``u₀`` the optimum
+        of the linear relaxation of the whole model with ``r`` fixed (a sound bound, as the
+        relaxation contains every point).  Computed once, in topological order, each row
+        helping the next; they shorten the MILP's search without changing its answer."""
+        rows: list = []
+        rules = info["rules"]
+        budget = time.perf_counter() + _BRIDGE_SECONDS
+        for j, n in enumerate(self.net.neurons):
+            r = rules.get(n.origin) if n.origin is not None else None
+            if r is None or not r[0] or time.perf_counter() > budget:
+                continue
+            z = info["zvars"][j]
+            L, U = float(self.zlo[j]), float(self.zhi[j])
+            found = []
+            for value, sign in ((1, 1.0), (0, -1.0)):
+                mark = m.mark()
+                m.row(r[0], r[1], value, value)
+                sol = m.solve(time_limit=2.0, objective={z: sign}, relaxed=True)
+                m.undo(mark)
+                if sol.status == "infeasible" or sol.dual_bound is None:
+                    found.append(None)
+                    continue
+                best = sign * sol.dual_bound
+                found.append(best - 1e-7 * (1 + abs(best)) if value else
+                             best + 1e-7 * (1 + abs(best)))
+            l1, u0 = found
+            if l1 is not None and l1 > L:  # z ≥ L + (l1 − L)·r
+                row = ({z: 1.0, **{v: -(l1 - L) * c for v, c in r[0].items()}},
+                       -(l1 - L) * r[1], L, np.inf)
+                rows.append(row)
+                m.row(*row)
+            if u0 is not None and u0 < U:  # z ≤ u0 + (U − u0)·r
+                row = ({z: 1.0, **{v: -(U - u0) * c for v, c in r[0].items()}},
+                       -(U - u0) * r[1], -np.inf, u0)
+                rows.append(row)
+                m.row(*row)
+        return rows
 
     def _activation(self, m: Model, name: str, z: int, L: float, U: float, j: int,
                     bipolar: bool) -> Affine:

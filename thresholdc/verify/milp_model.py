@@ -103,8 +103,9 @@ class Model:
         return out
 
     def solve(self, *, time_limit: float, node_limit: int | None = None,
-              objective: dict[int, float] | None = None) -> Solution:
-        """Find any feasible point (objective 0), or minimise ``objective``, with HiGHS."""
+              objective: dict[int, float] | None = None, relaxed: bool = False) -> Solution:
+        """Find any feasible point (objective 0), or minimise ``objective``, with HiGHS;
+        ``relaxed`` drops integrality (a linear programme: ``dual_bound`` is its optimum)."""
         n = len(self.lb)
         data, ri, ci = [], [], []
         lo = np.empty(len(self.rows))
@@ -124,10 +125,13 @@ class Model:
         c = np.zeros(n)
         for v, w in (objective or {}).items():
             c[v] = w
-        res = milp(c, integrality=np.array(self.integer), bounds=Bounds(
+        integrality = np.zeros(n) if relaxed else np.array(self.integer)
+        res = milp(c, integrality=integrality, bounds=Bounds(
             np.array(self.lb), np.array(self.ub)), constraints=cons, options=options)
         nodes = getattr(res, "mip_node_count", None)
         dual = getattr(res, "mip_dual_bound", None)
+        if relaxed and res.status == 0:
+            dual = float(res.fun)
         if res.status == 2:
             return Solution("infeasible", None, nodes, res.message)
         if res.x is not None and res.status in (0, 1):

@@ -5,9 +5,9 @@ computes, decided output by output.
 
 * step, ReLU and linear neurons only: the MILP (:mod:`thresholdc.verify.milp`), exact up to
   HiGHS's floating-point verdicts;
-* sigmoid or tanh: first the relaxation branch-and-bound (:mod:`thresholdc.verify.relax`)
-  with a third of the time, then the MILP with sound piecewise-linear envelopes for the
-  outputs still open, in the rest.
+* sigmoid or tanh: first the MILP with sound piecewise-linear envelopes of the activations
+  (three quarters of the time), then, for the outputs still open, the relaxation
+  branch-and-bound (:mod:`thresholdc.verify.relax`) in the rest.
 
 :func:`retained_definitions` asks the same question of every definition that has one unit
 of its own in the network (the neuron named after it, else the one gate neuron whose origin
@@ -39,7 +39,7 @@ from .report import OutputReport, Report
 __all__ = ["verify_trained", "retained_definitions", "definition_units"]
 
 _EXACT = {"step", "relu", "linear"}
-_RELAX_SHARE = 1 / 3
+_MILP_SHARE = 0.75
 
 
 def _restrict(network: Network, source: Any, names: list[str]) -> tuple[Network, Any]:
@@ -75,7 +75,7 @@ def verify_trained(
     Returns
     -------
     Report
-        Method ``milp``, ``relax`` or ``relax+milp``; per output ``equal`` (proven),
+        Method ``milp`` or ``milp+relax``; per output ``equal`` (proven),
         ``different`` (re-checked counterexamples in the user's column names and values) or
         ``undecided`` with the bound reached.
 
@@ -96,27 +96,28 @@ def verify_trained(
                           time_limit=time_limit, progress=progress)
         report.seconds = time.perf_counter() - t0
         return report
-    first = run_relax(network, source, typed_domain(network, source), max_nodes=max_nodes,
-                      time_limit=time_limit * _RELAX_SHARE, progress=progress)
+    first = run_milp(network, source, milp_domain(network, source),
+                     time_limit=time_limit * _MILP_SHARE, progress=progress)
     open_names = [o.name for o in first.outputs if o.verdict == "undecided"]
     left = time_limit - (time.perf_counter() - t0)
-    if not open_names or left <= 0 or getattr(source, "program", None) is None:
+    if not open_names or left <= 0:
         first.seconds = time.perf_counter() - t0
         return first
     net2, src2 = _restrict(network, source, open_names)
-    second = run_milp(net2, src2, milp_domain(net2, src2), time_limit=left, progress=progress)
+    second = run_relax(net2, src2, typed_domain(net2, src2), max_nodes=max_nodes,
+                       time_limit=left, progress=progress)
     by_name = {o.name: o for o in second.outputs}
     outputs = []
     for o in first.outputs:
         o2 = by_name.get(o.name)
         if o2 is not None and o2.verdict == "undecided" and o.bound:
-            o2 = replace(o2, bound=f"relax: {o.bound}; milp: {o2.bound}")
+            o2 = replace(o2, bound=f"milp: {o.bound}; relax: {o2.bound}")
         outputs.append(o2 if o2 is not None else o)
     kinds_v = {o.verdict for o in outputs}
     result = ("different" if "different" in kinds_v else
               "undecided" if "undecided" in kinds_v else "equal")
     notes = list(dict.fromkeys(first.notes + second.notes))
-    return Report(result, "relax+milp", first.assignments, outputs,
+    return Report(result, "milp+relax", first.assignments, outputs,
                   proofs=first.proofs + second.proofs, notes=notes,
                   seconds=time.perf_counter() - t0)
 
