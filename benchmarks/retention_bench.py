@@ -10,8 +10,8 @@ benchmarks/trained_like.py, deterministic):
 * ``tool shed``: a 10-input categorical rule set small enough for the old method.
 
 From one run it prints, per network, the per-output verdicts and time of
-:func:`thresholdc.verify.retention.verify_trained` (MILP / relaxation branch-and-bound), the
-result and time of :func:`thresholdc.verify.bounds.verify_bounds` (interval branch-and-bound,
+:func:`thresholdc.verification.retention.verify_trained` (MILP / relaxation branch-and-bound), the
+result and time of :func:`thresholdc.verification.bounds.verify_bounds` (interval branch-and-bound,
 stopped at ``--limit`` seconds and then printed as "> limit"), and the ratio old / new.
 Timings are wall-clock on a shared machine; not a test.
 
@@ -33,8 +33,8 @@ from thresholdc.compiler import compile_rules  # noqa: E402
 from thresholdc.errors import VerificationUndecided  # noqa: E402
 from thresholdc.logic.source import source_from_text  # noqa: E402
 from thresholdc.network import to_relu  # noqa: E402
-from thresholdc.verify.bounds import verify_bounds  # noqa: E402
-from thresholdc.verify.retention import verify_trained  # noqa: E402
+from thresholdc.verification.bounds import verify_bounds  # noqa: E402
+from thresholdc.verification.retention import verify_trained  # noqa: E402
 
 ROOT = pathlib.Path(__file__).resolve().parents[1]
 

@@ -19,7 +19,7 @@ from thresholdc.compiler import compile_rules
 from thresholdc.export.dense import dense_form, network_from_layers
 from thresholdc.logic.source import source_from_text
 from thresholdc.network import to_relu
-from thresholdc.verify.domain import boolean_or_typed_domain
+from thresholdc.verification.domain import boolean_or_typed_domain
 
 
 def trained_like(text: str, *, seed: int = 0, link: float = 0.02, rel: float = 0.05,

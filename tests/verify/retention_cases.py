@@ -17,7 +17,7 @@ import pathlib
 import numpy as np
 
 from thresholdc.logic.source import source_from_text
-from thresholdc.verify.domain import boolean_or_typed_domain, network_rows
+from thresholdc.verification.domain import boolean_or_typed_domain, network_rows
 
 
 def load_trained_like():

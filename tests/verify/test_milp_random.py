@@ -17,9 +17,9 @@ import pytest
 from tests.verify.retention_cases import cases, is_counterexample, load_trained_like, truth
 from thresholdc.compiler import compile_rules
 from thresholdc.logic.source import source_from_text
-from thresholdc.verify.domain import boolean_or_typed_domain
-from thresholdc.verify.milp import verify_milp
-from thresholdc.verify.milp_model import Model, encode_rules
+from thresholdc.verification.domain import boolean_or_typed_domain
+from thresholdc.verification.milp import verify_milp
+from thresholdc.verification.milp_model import Model, encode_rules
 
 tl = load_trained_like()
 NOISE = [(0.0, 0.0), (0.05, 0.1), (0.3, 0.4), (1.0, 1.0)]

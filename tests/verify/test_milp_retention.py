@@ -10,15 +10,18 @@ from __future__ import annotations
 from dataclasses import replace
 
 import numpy as np
+import pytest
 
 from tests.verify.retention_cases import cases, load_trained_like
 from tests.verify.test_milp_random import check  # noqa: E402
 from thresholdc.compiler import compile_rules
+from thresholdc.errors import UsageError
 from thresholdc.ir.network import Neuron
 from thresholdc.logic import RuleSource
 from thresholdc.logic.source import source_from_text
-from thresholdc.verify.domain import boolean_or_typed_domain, network_rows
-from thresholdc.verify.retention import definition_units, retained_definitions, verify_trained
+from thresholdc.verification.definitions import definition_units
+from thresholdc.verification.domain import boolean_or_typed_domain, network_rows
+from thresholdc.verification.retention import retained_definitions, verify_trained
 
 tl = load_trained_like()
 
@@ -56,10 +59,10 @@ def test_definitions_match_enumeration():
         src = source_from_text(text)
         units = definition_units(net, src)
         reports = retained_definitions(net, src, time_limit=30)
-        assert list(reports) == list(units)
+        assert list(reports) == list(src.program.order)
         for d, rep in reports.items():
-            if units[d] is None:
-                assert rep.verdict == "undecided" and "no single unit" in rep.bound
+            if d not in units:
+                assert rep.verdict == "undecided" and "no unit" in rep.bound
                 continue
             assert rep.verdict in ("equal", "different"), (text, d, rep)
             wrong = unit_truth(net, text, d, units[d])
@@ -91,9 +94,10 @@ def test_verify_trained_step_uses_milp():
 def test_named_subset_and_unknown_name():
     text = "input c: {r, g, b}, a, e\nhot = atleast(2, c == r, a, e)\ny = hot xor a\n"
     net = compile_rules(text, synthesis=False, verify="none")
-    reports = retained_definitions(net, source_from_text(text), names=["hot", "nope"])
-    assert reports["hot"].verdict == "equal"
-    assert reports["nope"].verdict == "undecided" and "y" not in reports
+    reports = retained_definitions(net, source_from_text(text), names=["hot"])
+    assert reports["hot"].verdict == "equal" and "y" not in reports
+    with pytest.raises(UsageError, match="nope"):
+        retained_definitions(net, source_from_text(text), names=["nope"])
     # a broken definition unit is found, while the output reading it can still be right
     broken = replace(net, neurons=tuple(
         Neuron("hot", n.layer, n.inputs, n.weights, n.bias + 1.0, n.activation, n.role,

@@ -14,9 +14,9 @@ import pytest
 
 from tests.verify.retention_cases import cases, is_counterexample, load_trained_like, truth
 from thresholdc.logic.source import source_from_text
-from thresholdc.verify.domain import boolean_or_typed_domain
-from thresholdc.verify.linear_bounds import LinearBounder
-from thresholdc.verify.relax import verify_relax
+from thresholdc.verification.domain import boolean_or_typed_domain
+from thresholdc.verification.linear_bounds import LinearBounder
+from thresholdc.verification.relax import verify_relax
 
 tl = load_trained_like()
 

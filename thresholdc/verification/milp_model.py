@@ -22,7 +22,7 @@ sharing code with the lowering to gates:
   (``x > c`` needs ``x ≥ c + s``, ``x >= c`` false needs ``x ≤ c − s``).
 
 >>> from thresholdc.logic.source import source_from_text
->>> from thresholdc.verify.domain import boolean_or_typed_domain
+>>> from thresholdc.verification.domain import boolean_or_typed_domain
 >>> src = source_from_text("input c: {r, g, b}, a\\ny = atleast(2, c == r, a, c != b)\\n")
 >>> m = Model()
 >>> d = boolean_or_typed_domain(src)

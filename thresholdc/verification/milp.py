@@ -6,9 +6,9 @@ the reverse) one MILP asks for a valid input where that happens.  The model hold
 * the domain: one binary per choice of every discrete input with exactly one per input
   (a Boolean input, a categorical input's one-hot group, a real input's cell points), and a
   continuous variable per continuous real input over its pieces;
-* the rules, exactly (:func:`thresholdc.verify.milp_model.encode_rules`);
+* the rules, exactly (:func:`thresholdc.verification.milp_model.encode_rules`);
 * the network, neuron by neuron, with ``z`` bounded by
-  :class:`~thresholdc.verify.linear_bounds.LinearBounder` over the whole domain
+  :class:`~thresholdc.verification.linear_bounds.LinearBounder` over the whole domain
   (those bounds are the big-M constants):
 
   - *step*: a binary ``y`` with ``y = 0 ⇒ z ≤ τ`` and ``y = 1 ⇒ z ≥ −τ``, ``τ = 1e-6``.  A
@@ -19,7 +19,7 @@ the reverse) one MILP asks for a valid input where that happens.  The model hold
     linear units are their ``z``;
   - *sigmoid/tanh*: a sound piecewise-linear envelope: ``z``'s range is cut at breakpoints,
     one binary picks the piece, and on it ``a`` lies between the two lines of
-    :func:`~thresholdc.verify.linear_bounds.activation_lines` (so the model is again a
+    :func:`~thresholdc.verification.linear_bounds.activation_lines` (so the model is again a
     relaxation); pieces are refined where a solution turns out spurious.
 
 Every solution is re-checked on the real network (:meth:`Network.decide`) and the rules'
@@ -32,7 +32,7 @@ leaves the output undecided.  So ``equal`` always rests on an infeasible relaxat
 Real inputs: a rule test ``x > c`` keeps its strictness at re-checking; a step network is
 checked over the declared range (exact on every float: both rules and network are re-evaluated
 at the point found), a soft one over the range less the bands of
-:func:`thresholdc.verify.typed.typed_domain`.
+:func:`thresholdc.verification.typed.typed_domain`.
 
 >>> from thresholdc.compiler import compile_rules
 >>> from thresholdc.logic.source import source_from_text
@@ -80,7 +80,7 @@ _BRIDGE_SECONDS = 10.0
 
 
 def milp_domain(net: Network, source: Any) -> Domain:
-    """The MILP's domain: :func:`~thresholdc.verify.typed.typed_domain`, except that a step
+    """The MILP's domain: :func:`~thresholdc.verification.typed.typed_domain`, except that a step
     network whose real tests are not cell-exact ranges over each real input's whole declared
     range (no bands: a step network is exact up to the threshold)."""
     domain = typed_domain(net, source)
@@ -438,15 +438,13 @@ def run_milp(
                 verdict[k] = "equal"
     finally:
         bar.close()
-    outputs = [OutputReport(o.name, verdict[k], None if verdict[k] != "equal" else 0,
-                            examples[k], None, len(examples[k]), bound[k])
+    outputs = [OutputReport.proven(o.name) if verdict[k] == "equal" else
+               OutputReport.differs(o.name, examples[k]) if verdict[k] == "different" else
+               OutputReport.undecided(o.name, bound[k] or "not decided")
                for k, o in enumerate(net.outputs)]
-    kinds = set(verdict)
-    result = ("different" if "different" in kinds else
-              "undecided" if "undecided" in kinds else "equal")
     proven_names = [o.name for o in outputs if o.verdict == "equal"]
-    report = Report(
-        result, "milp", domain.size, outputs,
+    report = Report.of(
+        "milp", domain.size, outputs,
         proofs=[f"milp: no valid input where the network and the rules differ on "
                 f"{', '.join(proven_names)} (HiGHS: infeasible, {solves} solves)"]
         if proven_names else [],

@@ -1,17 +1,17 @@
 """Branch-and-bound with linear relaxation bounds, per output, for soft (e.g. trained) networks.
 
 The question, per output: is there a valid input on which the network's decision differs from
-the rules'?  The domain is :func:`thresholdc.verify.typed.typed_domain`'s: valid one-hot
+the rules'?  The domain is :func:`thresholdc.verification.typed.typed_domain`'s: valid one-hot
 assignments of categorical inputs, Boolean inputs, and for a soft network the declared range
 of each real input less a band of ± scale around each rule threshold.
 
 Rules of the search
     * A *box* allows a subset of the choices of each discrete input and an interval of each
       continuous one.  The network is bounded over a box by
-      :class:`~thresholdc.verify.linear_bounds.LinearBounder` (linear forms through sound
+      :class:`~thresholdc.verification.linear_bounds.LinearBounder` (linear forms through sound
       activation lines, minimised exactly over the relaxed one-hot simplex of every
       categorical input), the rules by their three-valued evaluation
-      (:mod:`thresholdc.verify.ternary`).
+      (:mod:`thresholdc.verification.ternary`).
     * An output is settled on a box when the rules are constant there and the network's value
       lies wholly above or at-or-below the decision threshold: either they agree on the whole
       box, or every point of it is a counterexample.
@@ -68,7 +68,7 @@ def rule_support(source: Any, domain: Domain) -> np.ndarray:
     (every input for a netlist), in source output order.
 
     >>> from thresholdc.logic.source import source_from_text
-    >>> from thresholdc.verify.domain import boolean_or_typed_domain
+    >>> from thresholdc.verification.domain import boolean_or_typed_domain
     >>> src = source_from_text("input a, b, c\\nx = a and b\\ny = not c\\n")
     >>> rule_support(src, boolean_or_typed_domain(src)).astype(int).tolist()
     [[1, 1, 0], [0, 0, 1]]
@@ -384,7 +384,7 @@ def run_relax(
     for k, o in enumerate(net.outputs):
         margin = None if not np.isfinite(search.min_margin[k]) else float(search.min_margin[k])
         if search.examples[k]:
-            outputs.append(OutputReport(o.name, "different", None, search.examples[k], margin))
+            outputs.append(OutputReport.differs(o.name, search.examples[k], min_margin=margin))
         elif open_volume[k] > 0 or search.unknown[k]:
             why = []
             if open_volume[k] > 0:
@@ -395,17 +395,13 @@ def run_relax(
                            f"{time_limit:g} s)")
             if search.unknown[k]:
                 why.append("boxes too thin to split where the network sits on its threshold")
-            outputs.append(OutputReport(o.name, "undecided", None, [], margin,
-                                        bound="; ".join(why)))
+            outputs.append(OutputReport.undecided(o.name, "; ".join(why)))
         else:
-            outputs.append(OutputReport(o.name, "equal", 0, [], margin))
-    verdicts = {o.verdict for o in outputs}
-    result = ("different" if "different" in verdicts else
-              "undecided" if "undecided" in verdicts else "equal")
+            outputs.append(OutputReport.proven(o.name, margin))
     what = (f"all {domain.size} valid discrete assignments" if not domain.continuous
             else "every box of the domain")
     proven = [o.name for o in outputs if o.verdict == "equal"]
-    report = Report(result, "relax", domain.size, outputs,
+    report = Report.of("relax", domain.size, outputs,
                     proofs=[f"relax: {what} decided in {search.nodes} boxes for "
                             f"{', '.join(proven)}"] if proven else [],
                     notes=list(domain.notes), seconds=seconds)

@@ -3,16 +3,18 @@ computes, decided output by output.
 
 :func:`verify_trained` picks the method by the network's activations:
 
-* step, ReLU and linear neurons only: the MILP (:mod:`thresholdc.verify.milp`), exact up to
+* step, ReLU and linear neurons only: the MILP (:mod:`thresholdc.verification.milp`), exact up to
   HiGHS's floating-point verdicts;
 * sigmoid or tanh: first the MILP with sound piecewise-linear envelopes of the activations
   (three quarters of the time), then, for the outputs still open, the relaxation
-  branch-and-bound (:mod:`thresholdc.verify.relax`) in the rest.
+  branch-and-bound (:mod:`thresholdc.verification.relax`) in the rest.
 
-:func:`retained_definitions` asks the same question of every definition that has one unit
-of its own in the network (the neuron named after it, else the one gate neuron whose origin
-it is): that unit read against the decision threshold is compared with the definition's
-rules, over the same domain.
+:func:`retained_definitions` asks the same question of every definition that has a unit of
+its own in the network (:func:`thresholdc.verification.definitions.definition_units`: the
+neuron named after it): that unit read against the decision threshold is compared with the
+definition's rules, over the same domain, through
+:func:`~thresholdc.verification.definitions.verify_definitions` with this module's methods
+as its backend.
 
 >>> from thresholdc.compiler import compile_rules
 >>> from thresholdc.logic.source import source_from_text
@@ -29,14 +31,15 @@ import time
 from dataclasses import replace
 from typing import Any
 
-from ..ir.network import Network, Output
+from ..ir.network import Network
 from ..logic import RuleSource
+from .definitions import as_definitions, verify_definitions
 from .domain import check_names, typed_domain
 from .milp import milp_domain, run_milp
 from .relax import DEFAULT_MAX_NODES, run_relax
 from .report import OutputReport, Report
 
-__all__ = ["verify_trained", "retained_definitions", "definition_units"]
+__all__ = ["verify_trained", "retained_definitions"]
 
 _EXACT = {"step", "relu", "linear"}
 _MILP_SHARE = 0.75
@@ -113,34 +116,24 @@ def verify_trained(
         if o2 is not None and o2.verdict == "undecided" and o.bound:
             o2 = replace(o2, bound=f"milp: {o.bound}; relax: {o2.bound}")
         outputs.append(o2 if o2 is not None else o)
-    kinds_v = {o.verdict for o in outputs}
-    result = ("different" if "different" in kinds_v else
-              "undecided" if "undecided" in kinds_v else "equal")
     notes = list(dict.fromkeys(first.notes + second.notes))
-    return Report(result, "milp+relax", first.assignments, outputs,
+    return Report.of("milp+relax", first.assignments, outputs,
                   proofs=first.proofs + second.proofs, notes=notes,
                   seconds=time.perf_counter() - t0)
 
 
-def definition_units(network: Network, source: Any) -> dict[str, str | None]:
-    """For each definition the outputs need (source order), the unit that computes it: the
-    neuron named after it, else the one gate neuron whose origin it is, else None.
+def _trained_backend(**limits: Any) -> Any:
+    """A per-definition backend for :func:`verify_definitions`: :func:`verify_trained` on
+    the network with its outputs moved to the definition units."""
 
-    >>> from thresholdc.compiler import compile_rules
-    >>> from thresholdc.logic.source import source_from_text
-    >>> text = "input a, b, c\\nboth = a and b\\ny = both or c\\n"
-    >>> definition_units(compile_rules(text, synthesis=False), source_from_text(text))
-    {'both': 'both', 'y': 'y'}
-    """
-    names = {n.name for n in network.neurons}
-    out: dict[str, str | None] = {}
-    for d in source.program.order:
-        if d in names:
-            out[d] = d
-            continue
-        owners = [n.name for n in network.neurons if n.role == "gate" and n.origin == d]
-        out[d] = owners[0] if len(owners) == 1 else None
-    return out
+    def trained(net: Network, source: Any, names: list[str]) -> dict[str, OutputReport]:
+        if not names:
+            return {}
+        n2, s2 = as_definitions(net, source, names)
+        report = verify_trained(n2, s2, **limits)
+        return {o.name: o for o in report.outputs}
+
+    return trained
 
 
 def retained_definitions(
@@ -151,10 +144,10 @@ def retained_definitions(
     Parameters
     ----------
     network : Network
-        A network that keeps one unit per definition (a compiled or trained one).
+        A network that keeps one unit per definition (named after it), compiled or trained.
     source : RuleSource
     names : list of str, optional
-        The definitions to check (default: every definition the outputs need).
+        The definitions to check (default: every definition, in dependency order).
     **limits
         ``max_nodes``, ``time_limit``, ``progress`` as for :func:`verify_trained` (the time
         limit is for all definitions together).
@@ -162,8 +155,13 @@ def retained_definitions(
     Returns
     -------
     dict
-        ``{definition: OutputReport}`` in source order; a definition without a unit of its
-        own is ``undecided`` with that as its bound.
+        ``{definition: OutputReport}``; a definition without a unit of its own is
+        ``undecided`` with that as its bound.
+
+    Raises
+    ------
+    UsageError
+        A name that is not a definition of the rule file.
 
     Examples
     --------
@@ -175,23 +173,6 @@ def retained_definitions(
     >>> {d: o.verdict for d, o in retained_definitions(net, other).items()}
     {'hot': 'different', 'y': 'different'}
     """
-    units = definition_units(network, source)
-    wanted = list(units) if names is None else [n for n in units if n in set(names)]
-    unknown = sorted(set(names or ()) - set(units))
-    out: dict[str, OutputReport] = {}
-    have = [d for d in wanted if units[d] is not None]
-    if have:
-        net = replace(network, outputs=tuple(Output(d, units[d]) for d in have))
-        program = replace(source.program, outputs=tuple(have))
-        report = verify_trained(net, RuleSource(source.file, source.text, program), **limits)
-        found = {o.name: o for o in report.outputs}
-    for d in wanted:
-        if units[d] is None:
-            out[d] = OutputReport(d, "undecided", None, [], None, 0,
-                                  "no single unit of the network computes this definition")
-        else:
-            out[d] = found[d]
-    for d in unknown:
-        out[d] = OutputReport(d, "undecided", None, [], None, 0,
-                              "not a definition the outputs need")
-    return out
+    report = verify_definitions(network, source, names=names,
+                                backend=_trained_backend(**limits))
+    return {o.name: o for o in report.outputs}

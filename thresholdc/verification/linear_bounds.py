@@ -1,10 +1,10 @@
 """Sound linear bounds of every neuron of a network over boxes of a verification domain.
 
-Used by the relaxation branch-and-bound (:mod:`thresholdc.verify.relax`) and for the big-M
-constants of the MILP (:mod:`thresholdc.verify.milp`).
+Used by the relaxation branch-and-bound (:mod:`thresholdc.verification.relax`) and for the big-M
+constants of the MILP (:mod:`thresholdc.verification.milp`).
 
 How the bounds are built
-    * *Choice space.*  A box of a :class:`~thresholdc.verify.domain.Domain` allows a subset of
+    * *Choice space.*  A box of a :class:`~thresholdc.verification.domain.Domain` allows a subset of
       the choices of each discrete feature (a Boolean input's 0/1, a categorical input's
       values, a real input's cell points) and an interval of each continuous real input.  Every
       input unit is a linear function of the chosen choices: the unit ``colour=red`` is 1 on
@@ -35,7 +35,7 @@ How the bounds are built
 >>> import numpy as np
 >>> from thresholdc.compiler import compile_rules
 >>> from thresholdc.logic.source import source_from_text
->>> from thresholdc.verify.domain import boolean_or_typed_domain
+>>> from thresholdc.verification.domain import boolean_or_typed_domain
 >>> text = "input c: {red, blue, green}\\ny = c == red\\n"
 >>> net = compile_rules(text, activation="sigmoid")
 >>> lb = LinearBounder(net, boolean_or_typed_domain(source_from_text(text)))
