@@ -194,8 +194,8 @@ class LinearBounder:
             off = int(self.offsets[k])
             for c, u in enumerate(f.units):
                 units[col[u], off:off + f.size] = table[:, c]
-        for k, f in enumerate(domain.continuous):
-            units[col[f.unit], self.n_choices + k] = 1.0
+        for k, cf in enumerate(domain.continuous):
+            units[col[cf.unit], self.n_choices + k] = 1.0
         self.unit_forms = units
         pos = {n.name: j for j, n in enumerate(net.neurons)}
         N = len(net.neurons)

@@ -140,7 +140,7 @@ class _Builder:
             raise VerificationUndecided("the MILP method needs a rule file, not a netlist",
                                         file=getattr(self.source, "file", None))
         # choice space -> variables
-        colvar: list[int | None] = [None] * self.lb.P
+        colvar: list[int] = [-1] * self.lb.P
         for k, vs in enumerate(choices):
             off = int(self.lb.offsets[k])
             for c, v in enumerate(vs):
@@ -160,16 +160,16 @@ class _Builder:
         bipolar = self.net.encoding == "bipolar"
         for j, n in enumerate(self.net.neurons):
             coefs: dict[int, float] = {}
-            const = float(n.bias)
+            bias = float(n.bias)
             for i, w in zip(n.inputs, n.weights):
-                a = units[col[i]] if i in col else acts[pos[i]]
-                const += float(w) * a[1]
-                for v, c in a[0].items():
-                    coefs[v] = coefs.get(v, 0.0) + float(w) * c
+                ua = units[col[i]] if i in col else acts[pos[i]]
+                bias += float(w) * ua[1]
+                for v, cf in ua[0].items():
+                    coefs[v] = coefs.get(v, 0.0) + float(w) * cf
             L, U = float(self.zlo[j]), float(self.zhi[j])
             z = m.var(L, U)
             coefs[z] = coefs.get(z, 0.0) - 1.0
-            m.row(coefs, const, 0.0, 0.0)
+            m.row(coefs, bias, 0.0, 0.0)
             zvars.append(z)
             acts.append(self._activation(m, n.activation, z, L, U, j, bipolar))
         info = {"choices": choices, "cont": cont_vars, "rules": rules, "acts": acts,
@@ -198,7 +198,7 @@ class _Builder:
                 continue
             z = info["zvars"][j]
             L, U = float(self.zlo[j]), float(self.zhi[j])
-            found = []
+            found: list[float | None] = []
             for value, sign in ((1, 1.0), (0, -1.0)):
                 mark = m.mark()
                 m.row(r[0], r[1], value, value)
@@ -263,27 +263,28 @@ class _Builder:
             m.row({a: 1.0, z: -kl}, 0.0, bl, np.inf)
             m.row({a: 1.0, z: -ku}, 0.0, -np.inf, bu)
             return {a: 1.0}, 0.0
-        lo, hi = np.array(pts[:-1]), np.array(pts[1:])
-        kl, bl, ku, bu = activation_lines(name, lo, hi)
-        sel, parts = [], []
-        for s in range(len(lo)):
+        los, his = np.array(pts[:-1]), np.array(pts[1:])
+        kls, bls, kus, bus = activation_lines(name, los, his)
+        sel: list[int] = []
+        parts: list[int] = []
+        for s in range(len(los)):
             d_s = m.binary()
-            z_s = m.var(min(float(lo[s]), 0.0), max(float(hi[s]), 0.0))
-            m.row({z_s: 1.0, d_s: -float(lo[s])}, 0.0, 0.0, np.inf)
-            m.row({z_s: 1.0, d_s: -float(hi[s])}, 0.0, -np.inf, 0.0)
+            z_s = m.var(min(float(los[s]), 0.0), max(float(his[s]), 0.0))
+            m.row({z_s: 1.0, d_s: -float(los[s])}, 0.0, 0.0, np.inf)
+            m.row({z_s: 1.0, d_s: -float(his[s])}, 0.0, -np.inf, 0.0)
             sel.append(d_s)
             parts.append(z_s)
         m.row({d: 1.0 for d in sel}, 0.0, 1.0, 1.0)
         m.row({z: 1.0, **{p: -1.0 for p in parts}}, 0.0, 0.0, 0.0)
-        low = {a: 1.0}
-        up = {a: 1.0}
-        for s in range(len(lo)):
-            low[parts[s]] = -float(kl[s])
-            low[sel[s]] = -float(bl[s])
-            up[parts[s]] = -float(ku[s])
-            up[sel[s]] = -float(bu[s])
-        m.row(low, 0.0, 0.0, np.inf)
-        m.row(up, 0.0, -np.inf, 0.0)
+        lower = {a: 1.0}
+        upper = {a: 1.0}
+        for s in range(len(los)):
+            lower[parts[s]] = -float(kls[s])
+            lower[sel[s]] = -float(bls[s])
+            upper[parts[s]] = -float(kus[s])
+            upper[sel[s]] = -float(bus[s])
+        m.row(lower, 0.0, 0.0, np.inf)
+        m.row(upper, 0.0, -np.inf, 0.0)
         return {a: 1.0}, 0.0
 
     def refine(self, x: np.ndarray, info: dict[str, Any]) -> bool:
@@ -392,6 +393,7 @@ def run_milp(
                         limits = f"HiGHS stopped without an answer ({sol.message})"
                         break
                     x = sol.x
+                    assert x is not None
                     choice = np.array([[int(np.argmax([x[v] for v in vs]))
                                         for vs in info["choices"]]], dtype=np.int64)
                     reals = np.array([[_into(float(x[v]), f.pieces) for v, f in

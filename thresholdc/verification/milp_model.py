@@ -122,11 +122,11 @@ class Model:
         if node_limit is not None:
             options["node_limit"] = int(node_limit)
         cons = [LinearConstraint(A, lo, hi)] if len(self.rows) else []
-        c = np.zeros(n)
+        cost = np.zeros(n)
         for v, w in (objective or {}).items():
-            c[v] = w
+            cost[v] = w
         integrality = np.zeros(n) if relaxed else np.array(self.integer)
-        res = milp(c, integrality=integrality, bounds=Bounds(
+        res = milp(cost, integrality=integrality, bounds=Bounds(
             np.array(self.lb), np.array(self.ub)), constraints=cons, options=options)
         nodes = getattr(res, "mip_node_count", None)
         dual = getattr(res, "mip_dual_bound", None)
@@ -329,12 +329,13 @@ class _Encoder:
         if isinstance(node, ast.Call):
             n = len(args)
             ones = [(1, a) for a in args]
+            k = int(node.k or 0)
             if node.func == "atleast":
-                return self.relation(ones, ">=", int(node.k))
+                return self.relation(ones, ">=", k)
             if node.func == "atmost":
-                return self.relation(ones, "<=", int(node.k))
+                return self.relation(ones, "<=", k)
             if node.func == "exactly":
-                return self.relation(ones, "==", int(node.k))
+                return self.relation(ones, "==", k)
             if node.func == "majority":
                 return self.relation(ones, ">=", n // 2 + 1)
             if node.func == "nand":
