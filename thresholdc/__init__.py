@@ -36,10 +36,12 @@ from .verification import (
     CertificateCheck,
     Report,
     check_certificate,
+    retained_definitions,
     verify_bounds,
     verify_local,
     verify_network,
     verify_sat,
+    verify_trained,
     verify_typed,
 )
 from .version import __version__  # noqa: E402
@@ -68,6 +70,8 @@ __all__ = [
     "diff",
     "Diff",
     "read_units",
+    "verify_trained",
+    "retained_definitions",
     "load_source",
     "source_from_text",
     "identify",

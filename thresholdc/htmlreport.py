@@ -100,7 +100,7 @@ def network_card(net: Network) -> str:
 
 
 def report_card(report: Any) -> str:
-    """A notebook card of a verification :class:`~thresholdc.verify.report.Report`.
+    """A notebook card of a verification :class:`~thresholdc.verification.report.Report`.
 
     >>> from thresholdc import compile_rules, verify
     >>> card = verify(compile_rules("input a\\ny = a\\n"), "input a\\ny = not a\\n")._repr_html_()

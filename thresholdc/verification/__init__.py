@@ -8,6 +8,7 @@ from .domain import boolean_or_typed_domain, check_names, network_rows
 from .exhaustive import DEFAULT_MAX_INPUTS, verify_exhaustive
 from .local import verify_local
 from .report import Counterexample, OutputReport, Report, combined_result, undecided_outputs
+from .retention import retained_definitions, verify_trained
 from .sat import verify_sat
 from .sat.typed import verify_typed_sat
 from .typed import verify_typed
@@ -19,4 +20,5 @@ __all__ = [
     "merge_reports", "combined_result", "undecided_outputs", "verify_definitions",
     "definition_units", "by_method", "DefinitionBackend",
     "boolean_or_typed_domain", "check_names", "network_rows",
+    "verify_trained", "retained_definitions",
 ]
