@@ -10,7 +10,7 @@ from __future__ import annotations
 
 FLOORS: tuple[tuple[str, tuple[str, ...]], ...] = (
     ("base", ("thresholdc.errors", "thresholdc.files", "thresholdc.progress",
-              "thresholdc.version")),
+              "thresholdc.lazy", "thresholdc.version")),
     ("ir", ("thresholdc.ir",)),
     ("syntax", ("thresholdc.syntax",)),
     ("logic", ("thresholdc.logic",)),

@@ -39,10 +39,12 @@ from collections.abc import Iterable
 from dataclasses import dataclass, field
 from typing import Any
 
-import networkx as nx
 import numpy as np
 
 from ..errors import Span
+from ..lazy import lazy_module
+
+nx = lazy_module("networkx")
 
 __all__ = ["Gate", "GateGraph", "GATE_OPS"]
 

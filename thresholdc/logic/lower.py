@@ -28,12 +28,12 @@ from __future__ import annotations
 
 from dataclasses import replace
 
-import sympy
-from sympy.logic import boolalg
-
 from ..ir import program as ast
 from ..ir.gates import Gate, GateGraph
+from ..lazy import lazy_module
 from .typed import strict_real_test
+
+sympy = lazy_module("sympy")
 
 __all__ = ["lower_to_gates", "input_units", "DEFAULT_SIMPLIFY_SUPPORT"]
 
@@ -199,7 +199,7 @@ class _Lowerer:
             return expr
         syms = {name: sympy.Symbol(name) for name in sorted(support)}
         before = _to_sympy(expr, syms)
-        after = boolalg.simplify_logic(before, force=False)
+        after = sympy.simplify_logic(before, force=False)
         if _literals(after) < _literals(before):
             self.simplified += 1
             return _from_sympy(after)
@@ -258,30 +258,30 @@ def _plain_support(expr: ast.Expr) -> tuple[set[str] | None, int]:
     return names, size
 
 
-def _to_sympy(e: ast.Expr, syms: dict[str, sympy.Symbol]) -> boolalg.Boolean:
+def _to_sympy(e: ast.Expr, syms: dict[str, sympy.Symbol]) -> sympy.logic.boolalg.Boolean:
     if isinstance(e, ast.Name):
         return syms[e.id]
     if isinstance(e, ast.Const):
         return sympy.true if e.value else sympy.false
     if isinstance(e, ast.Not):
-        return boolalg.Not(_to_sympy(e.operand, syms))
+        return sympy.Not(_to_sympy(e.operand, syms))
     if isinstance(e, ast.BinOp):
         a, b = _to_sympy(e.left, syms), _to_sympy(e.right, syms)
         return {
-            "and": boolalg.And,
-            "or": boolalg.Or,
-            "xor": boolalg.Xor,
-            "implies": boolalg.Implies,
-            "iff": boolalg.Equivalent,
+            "and": sympy.And,
+            "or": sympy.Or,
+            "xor": sympy.Xor,
+            "implies": sympy.Implies,
+            "iff": sympy.Equivalent,
         }[e.op](a, b)
     if isinstance(e, ast.Ite):
-        return boolalg.ITE(*(_to_sympy(x, syms) for x in (e.cond, e.then, e.other)))
+        return sympy.ITE(*(_to_sympy(x, syms) for x in (e.cond, e.then, e.other)))
     assert isinstance(e, ast.Call)
     args = [_to_sympy(a, syms) for a in e.args]
-    return boolalg.Nand(*args) if e.func == "nand" else boolalg.Nor(*args)
+    return sympy.Nand(*args) if e.func == "nand" else sympy.Nor(*args)
 
 
-def _literals(e: boolalg.Boolean) -> int:
+def _literals(e: sympy.logic.boolalg.Boolean) -> int:
     """Literal occurrences of a sympy Boolean expression (its size for our purpose)."""
     if isinstance(e, sympy.Symbol):
         return 1
@@ -290,7 +290,7 @@ def _literals(e: boolalg.Boolean) -> int:
     return sum(_literals(a) for a in e.args)
 
 
-def _from_sympy(e: boolalg.Boolean) -> ast.Expr:
+def _from_sympy(e: sympy.logic.boolalg.Boolean) -> ast.Expr:
     if isinstance(e, sympy.Symbol):
         return ast.Name(e.name)
     if e is sympy.true:
@@ -298,26 +298,26 @@ def _from_sympy(e: boolalg.Boolean) -> ast.Expr:
     if e is sympy.false:
         return ast.Const(False)
     args = [_from_sympy(a) for a in _sorted_args(e)]
-    if isinstance(e, boolalg.Not):
+    if isinstance(e, sympy.Not):
         return ast.Not(args[0])
-    op = {boolalg.And: "and", boolalg.Or: "or", boolalg.Xor: "xor"}.get(type(e))
+    op = {sympy.And: "and", sympy.Or: "or", sympy.Xor: "xor"}.get(type(e))
     if op is not None:
         out = args[0]
         for a in args[1:]:
             out = ast.BinOp(op, out, a)
         return out
-    if isinstance(e, boolalg.Equivalent):
+    if isinstance(e, sympy.Equivalent):
         return ast.BinOp("iff", args[0], args[1])
-    if isinstance(e, boolalg.ITE):
+    if isinstance(e, sympy.ITE):
         return ast.Ite(*args)
-    if isinstance(e, boolalg.Implies):
+    if isinstance(e, sympy.Implies):
         return ast.BinOp("implies", args[0], args[1])
     raise AssertionError(f"unexpected sympy node {type(e).__name__}")
 
 
-def _sorted_args(e: boolalg.Boolean) -> list[boolalg.Boolean]:
+def _sorted_args(e: sympy.logic.boolalg.Boolean) -> list[sympy.logic.boolalg.Boolean]:
     """Arguments of a commutative node in a deterministic order (sympy's own is hash-based)."""
-    if isinstance(e, (boolalg.And, boolalg.Or, boolalg.Xor)):
+    if isinstance(e, (sympy.And, sympy.Or, sympy.Xor)):
         return sorted(e.args, key=sympy.default_sort_key)
     return list(e.args)
 
