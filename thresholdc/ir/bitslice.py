@@ -173,15 +173,16 @@ class BitPlan:
     def _decide_chunk(self, X: np.ndarray) -> np.ndarray:
         rows = X.shape[0]
         words = -(-rows // 64)
-        bits = np.zeros((self.n_inputs, words * 64), dtype=np.uint8)
-        bits[:, :rows] = X.T != 0
+        packed = np.zeros((self.n_inputs, words * 8), dtype=np.uint8)
+        packed[:, : -(-rows // 8)] = np.packbits(np.ascontiguousarray(X.T != 0), axis=1,
+                                                 bitorder="little")
         values = np.empty((self.n_units, words), dtype=np.uint64)
-        values[: self.n_inputs] = np.packbits(bits, axis=1, bitorder="little").view(np.uint64)
+        values[: self.n_inputs] = packed.view(np.uint64)
         for groups in self.layers:
             for g in groups:
                 values[g.targets] = _threshold(values, g)
-        packed = values[self.outputs].view(np.uint8)
-        return np.unpackbits(packed, axis=1, count=rows, bitorder="little").T.astype(bool)
+        out = np.ascontiguousarray(values[self.outputs].view(np.uint8).T)
+        return np.unpackbits(out, axis=0, count=rows, bitorder="little").view(bool)
 
 
 _ONES = np.uint64(0xFFFFFFFFFFFFFFFF)

@@ -264,7 +264,9 @@ class Network:
         plan = self._bit_plan
         if plan is None:
             return None
-        if not np.all((X == 0) | (X == 1)):
+        if not np.array_equal(X.astype(np.uint8), X):  # 0/1 rows only (fast checks first)
+            return None
+        if X.size and X.max() > 1:
             return None
         return plan
 

@@ -39,6 +39,10 @@ __all__ = ["lower_to_gates", "input_units", "DEFAULT_SIMPLIFY_SUPPORT"]
 
 DEFAULT_SIMPLIFY_SUPPORT = 6
 _SIMPLIFY_MAX_NODES = 60
+#: sympy simplifies functions of more than 8 variables only when forced, and forced it takes
+#: about 50 s of CPU for one 10-variable definition on this kind of machine (measured), so a
+#: larger ``simplify_support`` is capped here with a note instead of silently doing nothing.
+MAX_SIMPLIFY_SUPPORT = 8
 _PLAIN_OPS = ("and", "or", "xor", "implies", "iff")
 
 
@@ -334,12 +338,16 @@ def lower_to_gates(
     >>> g.gates["y"], g.gates["y~1"]
     (or(y~1, b), not(a))
     """
+    asked, simplify_support = simplify_support, min(simplify_support, MAX_SIMPLIFY_SUPPORT)
     low = _Lowerer(program, simplify_support)
     for name in program.order:
         low.define(program.definitions[name])
     outputs = tuple((name, name) for name in program.outputs)
     graph = GateGraph(low.gates, tuple(input_units(program)), outputs)
     notes = []
+    if asked > simplify_support:
+        notes.append(f"simplify support capped at {MAX_SIMPLIFY_SUPPORT} (asked {asked}): "
+                     "exact simplification above that is too slow")
     if low.simplified:
         notes.append(f"simplified {low.simplified} definition(s) with sympy")
     if low.kept:
