@@ -115,3 +115,23 @@ def test_non_binary_rows_use_the_float_path():
     X = np.full((100, 1), 0.7)
     assert net._bits_for(X) is None
     assert net.decide(X).all()
+
+
+@pytest.mark.parametrize("weight", [1, 0.3])  # 0.3 is off the half grid: the float path
+def test_memory_stays_bounded_whatever_the_row_count(weight):
+    import tracemalloc
+
+    names = [f"x{i}" for i in range(8)]
+    neurons = [Neuron(f"n{j}", 1, (names[j % 8], names[(j + 3) % 8]), (weight, -1), 0.5)
+               for j in range(300)]
+    net = Network(tuple(names), tuple(neurons), (Output("o", "n0"),))
+    X = np.random.default_rng(5).integers(0, 2, size=(200_000, 8)).astype(float)
+    net.decide(X[:10])  # plans built outside the measurement
+    tracemalloc.start()
+    got = net.decide(X)
+    peak = tracemalloc.get_traced_memory()[1]
+    tracemalloc.stop()
+    # All units at once would hold 308 x 200,000 floats (246 MB in float32, 493 MB in float64).
+    assert peak < 100 * 2**20
+    expected = weight * X[:, 0] - X[:, 3] + 0.5 > 0
+    assert np.array_equal(got[:, 0], expected)

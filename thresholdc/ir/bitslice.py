@@ -164,8 +164,10 @@ class BitPlan:
         X = np.asarray(X)
         rows = X.shape[0]
         out = np.empty((rows, len(self.outputs)), dtype=bool)
-        # Bit planes plus the adders' temporaries: count the units twice.
-        step = chunk_rows(2 * self.n_units, 1 / 8, budget)
+        # Per row: bit planes plus the adders' temporaries (the units twice, a bit each) and the
+        # unpacked input and output bytes of the chunk (two copies each).
+        per_row = 2 * self.n_units / 8 + 2 * (self.n_inputs + len(self.outputs))
+        step = chunk_rows(1, per_row, budget)
         for start in range(0, rows, step):
             out[start:start + step] = self._decide_chunk(X[start:start + step])
         return out

@@ -264,10 +264,10 @@ class Network:
         plan = self._bit_plan
         if plan is None:
             return None
-        if not np.array_equal(X.astype(np.uint8), X):  # 0/1 rows only (fast checks first)
-            return None
-        if X.size and X.max() > 1:
-            return None
+        for start, stop in self._chunks(X.shape[0]):  # 0/1 rows only, checked a chunk at a time
+            part = X[start:stop]
+            if not np.array_equal(part.astype(np.uint8), part) or (part.size and part.max() > 1):
+                return None
         return plan
 
     @cached_property
