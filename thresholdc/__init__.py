@@ -22,6 +22,7 @@ from .errors import (  # noqa: E402
 )
 from .export import load_any, save_any  # noqa: E402
 from .ir.network import Network, Neuron, Output  # noqa: E402
+from .ir.options import CompileOptions  # noqa: E402
 from .ir.reference import Reference
 from .logic import load_source, source_from_text
 from .network import apply_activation, to_relu
@@ -29,7 +30,7 @@ from .syntax import parse_bench, parse_blif
 from .synth import MAX_VARIABLES, Realisation, is_threshold  # noqa: E402
 from .synth.identify import identify  # noqa: E402
 from .train import TrainResult, load_data, score, train  # noqa: E402
-from .verify import (
+from .verification import (
     CertificateCheck,
     Report,
     check_certificate,
@@ -47,6 +48,7 @@ __all__ = [
     "compile_source",
     "compile_file",
     "CompileResult",
+    "CompileOptions",
     "load",
     "save_any",
     "load_any",

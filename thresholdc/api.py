@@ -14,7 +14,7 @@ from .export import load_any
 from .ir.network import Network
 from .ir.reference import Reference
 from .logic import load_source, source_from_text
-from .verify import Report, verify_network
+from .verification import Report, verify_network
 
 __all__ = ["load", "verify", "as_source"]
 

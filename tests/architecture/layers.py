@@ -16,7 +16,7 @@ FLOORS: tuple[tuple[str, tuple[str, ...]], ...] = (
     ("logic", ("thresholdc.logic",)),
     ("network", ("thresholdc.network",)),
     ("synth", ("thresholdc.synth",)),
-    ("verify", ("thresholdc.verify",)),
+    ("verify", ("thresholdc.verification",)),
     ("export", ("thresholdc.export",)),
     ("train", ("thresholdc.train", "thresholdc.training")),
     ("compiler", ("thresholdc.compiler",)),
@@ -27,7 +27,7 @@ FLOORS: tuple[tuple[str, tuple[str, ...]], ...] = (
 )
 
 #: Stage packages: code outside a stage reaches it through its ``__init__`` (its public names).
-STAGES = ("syntax", "logic", "network", "synth", "verify", "export", "train")
+STAGES = ("syntax", "logic", "network", "synth", "verification", "export", "train")
 
 
 def floor_of(module: str) -> int:

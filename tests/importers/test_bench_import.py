@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import random
-import time
 
 import numpy as np
 import pytest
@@ -163,18 +162,16 @@ def test_random_netlists_exhaustive(seed):
     assert np.array_equal(g.simulate(X), oracle(gates, outs, X))
 
 
-def test_large_netlist_reversed_is_fast():
-    # A chain of 30,000 inverters written in reverse order: no recursion limit, linear time.
+def test_large_netlist_reversed():
+    # A chain of 30,000 inverters written in reverse order: no recursion limit (the speed of
+    # the pass is measured in benchmarks/, not asserted here).
     n = 30_000
     lines = ["INPUT(x)", f"OUTPUT(s{n})"]
     lines += [f"s{k} = NOT(s{k - 1})" for k in range(n, 1, -1)] + ["s1 = NOT(x)"]
-    t0 = time.perf_counter()
     g = parse_bench("\n".join(lines), "chain.bench")
-    elapsed = time.perf_counter() - t0
     assert len(g) == n + 1
     out = g.simulate(table(1))[:, 0]
     assert np.array_equal(out, [False, True])  # an even number of inversions
-    assert elapsed < 5.0  # common practice: a linear pass over 30k lines takes well under 1 s
 
 
 def error_of(text: str) -> RuleError:

@@ -307,7 +307,7 @@ def render(net: Network, fmt: str, *, max_neurons: int = MAX_NEURONS,
     """The diagram as ``png`` or ``svg`` bytes (deterministic)."""
     fig = figure(net, max_neurons=max_neurons, max_labels=max_labels)
     buffer = io.BytesIO()
-    with matplotlib.rc_context(_STYLE):
+    with matplotlib.rc_context(_STYLE):  # type: ignore[arg-type]
         if fmt == "png":
             fig.savefig(buffer, format="png", dpi=110, metadata={"Software": None})
         elif fmt == "svg":

@@ -200,12 +200,13 @@ def _threshold(values: np.ndarray, g: _Group) -> np.ndarray:
         return np.zeros(shape, dtype=np.uint64)
     if all(w == 1 for w in g.weights) and g.k in (1, len(g.weights)):
         # OR (k = 1) and AND (k = all) of the literals: no adder needed.
-        acc = None
+        acc: np.ndarray | None = None
         for col, neg in enumerate(g.negated):
             y = values[g.sources[:, col]]
             if neg:
                 y = ~y
             acc = y if acc is None else ((acc | y) if g.k == 1 else (acc & y))
+        assert acc is not None  # k >= 1 > 0 = total is excluded above
         return acc
     nbits = total.bit_length()
     planes: list[np.ndarray | None] = [None] * nbits

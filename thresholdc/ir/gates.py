@@ -148,7 +148,7 @@ class GateGraph:
         """The number of gates that are neither inputs, constants, buffers nor inverters."""
         return sum(g.op not in ("input", "const", "buf", "not") for g in self.gates.values())
 
-    def to_networkx(self) -> nx.DiGraph:
+    def to_networkx(self) -> Any:  # a networkx.DiGraph
         """A DiGraph with an edge from each argument to its gate; node attribute ``gate``."""
         G = nx.DiGraph()
         for name, g in self.gates.items():
@@ -215,4 +215,4 @@ def _gate_value(g: Gate, args: list[np.ndarray], rows: int) -> np.ndarray:
     s = np.zeros(rows, dtype=np.int64)
     for w, a in zip(g.weights or (), args):
         s += w * a
-    return s >= g.threshold if op == "threshold" else s == g.threshold
+    return s >= g.threshold if op == "threshold" else s == g.threshold  # type: ignore[operator]

@@ -307,7 +307,7 @@ class Network:
         plan = []
         for L in sorted(by_layer):
             idx = np.array(by_layer[L], dtype=np.int64)
-            rows_, cols_, vals_ = [], [], []
+            rows_, cols_, vals_ = [], [], []  # type: ignore[var-annotated]
             for r, j in enumerate(idx):
                 n = self.neurons[j]
                 rows_.extend([r] * len(n.inputs))

@@ -27,6 +27,7 @@ and(a, y~1)
 from __future__ import annotations
 
 from dataclasses import replace
+from typing import Any
 
 from ..ir import program as ast
 from ..ir.gates import Gate, GateGraph
@@ -154,7 +155,7 @@ class _Lowerer:
             return self.emit(Gate("xor", args, span=e.span))
         if e.func in ("nand", "nor"):
             return self.emit(Gate(e.func, args, span=e.span))
-        raise AssertionError(f"unknown call {e.func}")
+        raise ast.unknown_function(e.func)
 
     def _compare(self, e: ast.Compare, sigs: list[str]) -> str:
         coef: dict[str, int] = {}
@@ -262,7 +263,7 @@ def _plain_support(expr: ast.Expr) -> tuple[set[str] | None, int]:
     return names, size
 
 
-def _to_sympy(e: ast.Expr, syms: dict[str, sympy.Symbol]) -> sympy.logic.boolalg.Boolean:
+def _to_sympy(e: ast.Expr, syms: dict[str, Any]) -> Any:
     if isinstance(e, ast.Name):
         return syms[e.id]
     if isinstance(e, ast.Const):
@@ -285,7 +286,7 @@ def _to_sympy(e: ast.Expr, syms: dict[str, sympy.Symbol]) -> sympy.logic.boolalg
     return sympy.Nand(*args) if e.func == "nand" else sympy.Nor(*args)
 
 
-def _literals(e: sympy.logic.boolalg.Boolean) -> int:
+def _literals(e: Any) -> int:
     """Literal occurrences of a sympy Boolean expression (its size for our purpose)."""
     if isinstance(e, sympy.Symbol):
         return 1
@@ -294,7 +295,7 @@ def _literals(e: sympy.logic.boolalg.Boolean) -> int:
     return sum(_literals(a) for a in e.args)
 
 
-def _from_sympy(e: sympy.logic.boolalg.Boolean) -> ast.Expr:
+def _from_sympy(e: Any) -> ast.Expr:
     if isinstance(e, sympy.Symbol):
         return ast.Name(e.name)
     if e is sympy.true:
@@ -313,13 +314,13 @@ def _from_sympy(e: sympy.logic.boolalg.Boolean) -> ast.Expr:
     if isinstance(e, sympy.Equivalent):
         return ast.BinOp("iff", args[0], args[1])
     if isinstance(e, sympy.ITE):
-        return ast.Ite(*args)
+        return ast.Ite(*args)  # type: ignore[arg-type]
     if isinstance(e, sympy.Implies):
         return ast.BinOp("implies", args[0], args[1])
     raise AssertionError(f"unexpected sympy node {type(e).__name__}")
 
 
-def _sorted_args(e: sympy.logic.boolalg.Boolean) -> list[sympy.logic.boolalg.Boolean]:
+def _sorted_args(e: Any) -> list[Any]:
     """Arguments of a commutative node in a deterministic order (sympy's own is hash-based)."""
     if isinstance(e, (sympy.And, sympy.Or, sympy.Xor)):
         return sorted(e.args, key=sympy.default_sort_key)

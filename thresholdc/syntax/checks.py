@@ -144,12 +144,11 @@ def _collect_outputs(
 # ---- names and types inside expressions ----------------------------------------------------
 
 
-_children = sub_expressions
 
 
 def _rebuild(node: Expr, kids: list) -> Expr:
     """``node`` with new children (the node itself when none changed)."""
-    old = _children(node)
+    old = sub_expressions(node)
     if all(a is b for a, b in zip(old, kids, strict=True)):
         return node
     if isinstance(node, BinOp):
@@ -179,7 +178,7 @@ def _resolve(
     while stack:
         node, expanded = stack.pop()
         if expanded:
-            n = len(_children(node))
+            n = len(sub_expressions(node))
             kids = results[len(results) - n :]
             del results[len(results) - n :]
             results.append(_rebuild(node, kids))
@@ -192,7 +191,7 @@ def _resolve(
         elif isinstance(node, PendingIn):
             results.append(_resolve_in(node, kinds, defs))
         else:
-            kids = _children(node)
+            kids = sub_expressions(node)  # type: ignore[assignment]
             if not kids:
                 results.append(node)
                 continue
@@ -211,7 +210,7 @@ def _check_boolean_name(
         if var.kind == "categorical":
             raise error_at(
                 f"categorical input '{name.id}' can only be tested, as in "
-                f"'{name.id} == {var.values[0]}' or '{name.id} in {{…}}'",
+                f"'{name.id} == {var.values[0]}' or '{name.id} in {{…}}'",  # type: ignore[index]
                 name.span,
             )
         if var.kind == "real":

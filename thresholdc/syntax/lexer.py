@@ -148,7 +148,7 @@ class RuleLexer(Lexer):
             elif kind == "BAD":
                 shown = value if value.isprintable() else repr(value)[1:-1]
                 raise RuleError(f"unexpected character '{shown}'", line=line, column=column)
-            tok = Token(kind, value, start, tok_line, column, tok_line, column + len(value), end)
+            tok = Token(kind, value, start, tok_line, column, tok_line, column + len(value), end)  # type: ignore[arg-type]
             if kind in _OPEN:
                 opened.append(tok)
             elif kind in _CLOSE and opened:
@@ -156,5 +156,5 @@ class RuleLexer(Lexer):
             history.append(tok)
             if len(history) > 8:
                 del history[0]
-            prev_type = kind
+            prev_type = kind  # type: ignore[assignment]
             yield tok

@@ -88,7 +88,7 @@ def parse(text: str, file: str = "<input>") -> Program:
     gc.disable()
     try:
         statements = _parser().parse(text + "\n")
-        return check_program(statements, text, file)
+        return check_program(statements, text, file)  # type: ignore[arg-type]
     except RuleError as err:
         raise _located(err, file, text) from None
     except UnexpectedInput as err:
@@ -175,7 +175,7 @@ def _at(message: str, tok: Token, fallback: Token | None = None) -> RuleError:
     where = tok if getattr(tok, "line", None) is not None else fallback
     if where is None or getattr(where, "line", None) is None:
         return RuleError(message)
-    span = Span(where.line, where.column)
+    span = Span(where.line, where.column)  # type: ignore[arg-type]
     return RuleError(message, line=span.line, column=span.column)
 
 
