@@ -9,10 +9,10 @@ import pytest
 
 from thresholdc.ir.program import Call
 from thresholdc.logic import evaluate, lower_to_gates, source_from_text
-from thresholdc.verify.domain import boolean_or_typed_domain
-from thresholdc.verify.sat_circuit import Circuit
-from thresholdc.verify.sat_encode import encode_program
-from thresholdc.verify.ternary import rules_ternary
+from thresholdc.verification.domain import boolean_or_typed_domain
+from thresholdc.verification.sat.circuit import Circuit
+from thresholdc.verification.sat.encode import encode_program
+from thresholdc.verification.ternary import rules_ternary
 
 MESSAGE = "unknown function 'median'; the rule language has atleast"
 

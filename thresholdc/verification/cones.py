@@ -615,7 +615,8 @@ class ConeCheck:
             if region != [root] or g.op not in ("and", "or", "nand", "nor", "threshold",
                                                  "equal"):
                 return False
-            weights = g.weights if g.op in ("threshold", "equal") else (1,) * len(g.args)
+            weights = (g.weights if g.op in ("threshold", "equal") and g.weights is not None
+                       else (1,) * len(g.args))
             terms = {(self.cls[a][1], w) for a, w in zip(g.args, weights)}
             ids = [self.cls[a][0] for a in g.args]
             if len(terms) != 1 or len(set(ids)) != len(ids) or len(ids) != len(index):

@@ -197,9 +197,9 @@ def verify_local(
         )
         for assignment in differing:
             _add(found, confirm_counterexample(net, source, assignment))
-        for o in names:
-            if bounds[o] is None and status[o] != "equal":
-                bounds[o] = f"local: {shown}" if status[o] == "undecided" else (
+        for name in names:
+            if bounds[name] is None and status[name] != "equal":
+                bounds[name] = f"local: {shown}" if status[name] == "undecided" else (
                     "local: the gate graph differs from the rules, but the network does not "
                     "reproduce it (internal error)")
         if all(v == "equal" for v in status.values()):

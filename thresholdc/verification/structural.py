@@ -126,19 +126,20 @@ def structural_classes(graph: GateGraph) -> dict[str, Cls]:
             else:
                 cls[name] = (cid((op, terms, t)), False)
         elif op == "ite":
-            c, t, e = args
-            if c[1]:
-                t, e = e, t
-            c = (c[0], False)
-            if c[0] == one or t == e:
-                cls[name] = t  # after the swap a constant condition is 1
-            elif t[0] == one:  # c ? 1 : e is c or e;  c ? 0 : e is not c and e
-                cls[name] = neg(and_class([neg(c), neg(e)])) if not t[1] else \
-                    and_class([neg(c), e])
-            elif e[0] == one:  # c ? t : 1 is not c or t;  c ? t : 0 is c and t
-                cls[name] = neg(and_class([c, neg(t)])) if not e[1] else and_class([c, t])
+            cond, then, other = args
+            if cond[1]:
+                then, other = other, then
+            cond = (cond[0], False)
+            if cond[0] == one or then == other:
+                cls[name] = then  # after the swap a constant condition is 1
+            elif then[0] == one:  # c ? 1 : e is c or e;  c ? 0 : e is not c and e
+                cls[name] = neg(and_class([neg(cond), neg(other)])) if not then[1] else \
+                    and_class([neg(cond), other])
+            elif other[0] == one:  # c ? t : 1 is not c or t;  c ? t : 0 is c and t
+                cls[name] = (neg(and_class([cond, neg(then)])) if not other[1]
+                             else and_class([cond, then]))
             else:
-                cls[name] = (cid(("ite", c[0], t, e)), False)
+                cls[name] = (cid(("ite", cond[0], then, other)), False)
         else:
             cls[name] = (cid(("opaque", name)), False)
     return cls

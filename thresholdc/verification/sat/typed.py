@@ -117,7 +117,7 @@ class _Problem:
         return self.rows_of(choice)
 
     def rows_of(self, choice: np.ndarray) -> np.ndarray:
-        cols = []
+        cols: list[np.ndarray] = []
         for k, f in enumerate(self.domain.discrete):
             ch = choice[:, k]
             if f.kind == "real":
