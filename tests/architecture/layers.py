@@ -10,7 +10,7 @@ from __future__ import annotations
 
 FLOORS: tuple[tuple[str, tuple[str, ...]], ...] = (
     ("base", ("thresholdc.errors", "thresholdc.files", "thresholdc.progress",
-              "thresholdc.version", "thresholdc.present", "thresholdc.extras",
+              "thresholdc.lazy", "thresholdc.version", "thresholdc.present", "thresholdc.extras",
               "thresholdc.examples")),
     ("ir", ("thresholdc.ir",)),
     ("syntax", ("thresholdc.syntax",)),

@@ -17,14 +17,17 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.special import expit
+
+from ..lazy import lazy_module
+
+special = lazy_module("scipy.special")
 
 __all__ = ["Activation", "STEP", "SIGMOID", "TANH", "RELU", "LINEAR", "ACTIVATIONS", "get"]
 
 
 def _sigmoid(z: np.ndarray) -> np.ndarray:
     """1 / (1 + e^-z), numerically stable on both tails (scipy's expit)."""
-    return expit(np.asarray(z, dtype=float))
+    return special.expit(np.asarray(z, dtype=float))
 
 
 @dataclass(frozen=True, slots=True)

@@ -39,10 +39,12 @@ from collections.abc import Iterable
 from dataclasses import dataclass, field
 from typing import Any
 
-import networkx as nx
 import numpy as np
 
 from ..errors import Span
+from ..lazy import lazy_module
+
+nx = lazy_module("networkx")
 
 __all__ = ["Gate", "GateGraph", "GATE_OPS"]
 
@@ -146,7 +148,7 @@ class GateGraph:
         """The number of gates that are neither inputs, constants, buffers nor inverters."""
         return sum(g.op not in ("input", "const", "buf", "not") for g in self.gates.values())
 
-    def to_networkx(self) -> nx.DiGraph:
+    def to_networkx(self) -> Any:  # a networkx.DiGraph
         """A DiGraph with an edge from each argument to its gate; node attribute ``gate``."""
         G = nx.DiGraph()
         for name, g in self.gates.items():

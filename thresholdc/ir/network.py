@@ -28,10 +28,13 @@ from functools import cached_property
 from typing import Any
 
 import numpy as np
-from scipy import sparse
 
 from ..errors import NetworkFileError, UsageError
+from ..lazy import lazy_module
 from . import activations as act
+from .bitslice import BitPlan, chunk_rows
+
+sparse = lazy_module("scipy.sparse")
 
 __all__ = [
     "Neuron", "Output", "Network", "ROLES", "ENCODINGS", "DEFAULT_SCALE",
@@ -237,8 +240,15 @@ class Network:
         >>> net.evaluate([[0], [1]]).tolist()
         [[1.0], [0.0]]
         """
-        _, V = self.run_units(X)
-        return V[self._output_rows].T.astype(float)
+        X = self._rows(X)
+        plan = self._bits_for(X)
+        if plan is not None:
+            return plan.decide(X).astype(float)
+        out = np.empty((X.shape[0], len(self.outputs)))
+        for start, stop in self._chunks(X.shape[0]):
+            _, V = self.run_units(X[start:stop])
+            out[start:stop] = V[self._output_rows].T
+        return out
 
     @cached_property
     def _output_rows(self) -> list[int]:
@@ -257,8 +267,47 @@ class Network:
         >>> net.decide([[0], [1]]).tolist()
         [[True], [False]]
         """
-        _, V = self.run_units(X)
-        return (V[self._output_rows] > self.decision_threshold).T
+        X = self._rows(X)
+        plan = self._bits_for(X)
+        if plan is not None:
+            return plan.decide(X)
+        out = np.empty((X.shape[0], len(self.outputs)), dtype=bool)
+        for start, stop in self._chunks(X.shape[0]):
+            _, V = self.run_units(X[start:stop])
+            out[start:stop] = (V[self._output_rows] > self.decision_threshold).T
+        return out
+
+    def _rows(self, X: Any) -> np.ndarray:
+        X = np.asarray(X, dtype=float)
+        if X.ndim != 2 or X.shape[1] != len(self.inputs):
+            raise ValueError(
+                f"expected an array of shape (rows, {len(self.inputs)}), got {X.shape}"
+            )
+        return X
+
+    def _chunks(self, rows: int) -> list[tuple[int, int]]:
+        """Row ranges whose unit values (and pre-activations) stay within the memory budget."""
+        itemsize = 4 if self._exact_in_float32 else 8
+        step = chunk_rows(len(self.inputs) + 2 * len(self.neurons), itemsize)
+        return [(a, min(rows, a + step)) for a in range(0, max(rows, 1), step)]
+
+    def _bits_for(self, X: np.ndarray) -> BitPlan | None:
+        """The bit-sliced plan when it gives the same answer: step, 0/1 inputs and values."""
+        plan = self._bit_plan
+        if plan is None:
+            return None
+        for start, stop in self._chunks(X.shape[0]):  # 0/1 rows only, checked a chunk at a time
+            part = X[start:stop]
+            if not np.array_equal(part.astype(np.uint8), part) or (part.size and part.max() > 1):
+                return None
+        return plan
+
+    @cached_property
+    def _bit_plan(self) -> BitPlan | None:
+        if self.encoding != "binary" or not self._exact_in_float32:
+            return None
+        neurons = [(n.name, n.layer, n.inputs, n.weights, n.bias) for n in self.neurons]
+        return BitPlan.build(self.inputs, neurons, [o.source for o in self.outputs])
 
     @cached_property
     def _exact_in_float32(self) -> bool:

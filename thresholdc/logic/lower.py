@@ -27,18 +27,23 @@ and(a, y~1)
 from __future__ import annotations
 
 from dataclasses import replace
-
-import sympy
-from sympy.logic import boolalg
+from typing import Any
 
 from ..ir import program as ast
 from ..ir.gates import Gate, GateGraph
+from ..lazy import lazy_module
 from .typed import strict_real_test
+
+sympy = lazy_module("sympy")
 
 __all__ = ["lower_to_gates", "input_units", "DEFAULT_SIMPLIFY_SUPPORT"]
 
 DEFAULT_SIMPLIFY_SUPPORT = 6
 _SIMPLIFY_MAX_NODES = 60
+#: sympy simplifies functions of more than 8 variables only when forced, and forced it takes
+#: about 50 s of CPU for one 10-variable definition on this kind of machine (measured), so a
+#: larger ``simplify_support`` is capped here with a note instead of silently doing nothing.
+MAX_SIMPLIFY_SUPPORT = 8
 _PLAIN_OPS = ("and", "or", "xor", "implies", "iff")
 
 
@@ -199,7 +204,7 @@ class _Lowerer:
             return expr
         syms = {name: sympy.Symbol(name) for name in sorted(support)}
         before = _to_sympy(expr, syms)
-        after = boolalg.simplify_logic(before, force=False)
+        after = sympy.simplify_logic(before, force=False)
         if _literals(after) < _literals(before):
             self.simplified += 1
             return _from_sympy(after)
@@ -258,30 +263,30 @@ def _plain_support(expr: ast.Expr) -> tuple[set[str] | None, int]:
     return names, size
 
 
-def _to_sympy(e: ast.Expr, syms: dict[str, sympy.Symbol]) -> boolalg.Boolean:
+def _to_sympy(e: ast.Expr, syms: dict[str, Any]) -> Any:
     if isinstance(e, ast.Name):
         return syms[e.id]
     if isinstance(e, ast.Const):
         return sympy.true if e.value else sympy.false
     if isinstance(e, ast.Not):
-        return boolalg.Not(_to_sympy(e.operand, syms))
+        return sympy.Not(_to_sympy(e.operand, syms))
     if isinstance(e, ast.BinOp):
         a, b = _to_sympy(e.left, syms), _to_sympy(e.right, syms)
         return {
-            "and": boolalg.And,
-            "or": boolalg.Or,
-            "xor": boolalg.Xor,
-            "implies": boolalg.Implies,
-            "iff": boolalg.Equivalent,
+            "and": sympy.And,
+            "or": sympy.Or,
+            "xor": sympy.Xor,
+            "implies": sympy.Implies,
+            "iff": sympy.Equivalent,
         }[e.op](a, b)
     if isinstance(e, ast.Ite):
-        return boolalg.ITE(*(_to_sympy(x, syms) for x in (e.cond, e.then, e.other)))
+        return sympy.ITE(*(_to_sympy(x, syms) for x in (e.cond, e.then, e.other)))
     assert isinstance(e, ast.Call)
     args = [_to_sympy(a, syms) for a in e.args]
-    return boolalg.Nand(*args) if e.func == "nand" else boolalg.Nor(*args)
+    return sympy.Nand(*args) if e.func == "nand" else sympy.Nor(*args)
 
 
-def _literals(e: boolalg.Boolean) -> int:
+def _literals(e: Any) -> int:
     """Literal occurrences of a sympy Boolean expression (its size for our purpose)."""
     if isinstance(e, sympy.Symbol):
         return 1
@@ -290,7 +295,7 @@ def _literals(e: boolalg.Boolean) -> int:
     return sum(_literals(a) for a in e.args)
 
 
-def _from_sympy(e: boolalg.Boolean) -> ast.Expr:
+def _from_sympy(e: Any) -> ast.Expr:
     if isinstance(e, sympy.Symbol):
         return ast.Name(e.name)
     if e is sympy.true:
@@ -298,26 +303,26 @@ def _from_sympy(e: boolalg.Boolean) -> ast.Expr:
     if e is sympy.false:
         return ast.Const(False)
     args = [_from_sympy(a) for a in _sorted_args(e)]
-    if isinstance(e, boolalg.Not):
+    if isinstance(e, sympy.Not):
         return ast.Not(args[0])
-    op = {boolalg.And: "and", boolalg.Or: "or", boolalg.Xor: "xor"}.get(type(e))
+    op = {sympy.And: "and", sympy.Or: "or", sympy.Xor: "xor"}.get(type(e))
     if op is not None:
         out = args[0]
         for a in args[1:]:
             out = ast.BinOp(op, out, a)
         return out
-    if isinstance(e, boolalg.Equivalent):
+    if isinstance(e, sympy.Equivalent):
         return ast.BinOp("iff", args[0], args[1])
-    if isinstance(e, boolalg.ITE):
+    if isinstance(e, sympy.ITE):
         return ast.Ite(args[0], args[1], args[2])
-    if isinstance(e, boolalg.Implies):
+    if isinstance(e, sympy.Implies):
         return ast.BinOp("implies", args[0], args[1])
     raise AssertionError(f"unexpected sympy node {type(e).__name__}")
 
 
-def _sorted_args(e: boolalg.Boolean) -> list[boolalg.Boolean]:
+def _sorted_args(e: Any) -> list[Any]:
     """Arguments of a commutative node in a deterministic order (sympy's own is hash-based)."""
-    if isinstance(e, (boolalg.And, boolalg.Or, boolalg.Xor)):
+    if isinstance(e, (sympy.And, sympy.Or, sympy.Xor)):
         return sorted(e.args, key=sympy.default_sort_key)
     return list(e.args)
 
@@ -334,12 +339,16 @@ def lower_to_gates(
     >>> g.gates["y"], g.gates["y~1"]
     (or(y~1, b), not(a))
     """
+    asked, simplify_support = simplify_support, min(simplify_support, MAX_SIMPLIFY_SUPPORT)
     low = _Lowerer(program, simplify_support)
     for name in program.order:
         low.define(program.definitions[name])
     outputs = tuple((name, name) for name in program.outputs)
     graph = GateGraph(low.gates, tuple(input_units(program)), outputs)
     notes = []
+    if asked > simplify_support:
+        notes.append(f"simplify support capped at {MAX_SIMPLIFY_SUPPORT} (asked {asked}): "
+                     "exact simplification above that is too slow")
     if low.simplified:
         notes.append(f"simplified {low.simplified} definition(s) with sympy")
     if low.kept:

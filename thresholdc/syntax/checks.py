@@ -12,8 +12,6 @@ from __future__ import annotations
 from collections import deque
 from collections.abc import Iterable
 
-import networkx as nx
-
 from ..errors import RuleError
 from ..ir.program import (
     BinOp,
@@ -33,8 +31,11 @@ from ..ir.program import (
     Term,
     sub_expressions,
 )
+from ..lazy import lazy_module
 from .lexer import KEYWORDS
 from .transform import Number, PendingCompare, PendingIn, Value, error_at
+
+nx = lazy_module("networkx")
 
 __all__ = ["check_program"]
 

@@ -27,13 +27,15 @@ from __future__ import annotations
 from functools import lru_cache
 
 import numpy as np
-from scipy.optimize import Bounds, LinearConstraint, linprog, milp
 
+from ..lazy import lazy_module
 from . import candidates, gadgets, ttable
 from .candidates import Limits, Option
 from .cuts import Cut
 from .gadgets import Gadget
 from .hashing import Hashed
+
+optimize = lazy_module("scipy.optimize")
 
 __all__ = ["helper_options", "add_helper_options", "HELPER_CUTS", "HELPER_CANDIDATES"]
 
@@ -163,11 +165,11 @@ def _solve_helper(tt: int, g_tt: int, n: int) -> tuple[tuple[int, ...], int, int
     A[:, n + 1] = -1.0
     lo = np.where(f, 0.0, -np.inf)
     hi = np.where(f, np.inf, -1.0)
-    cons = [LinearConstraint(A, lo, hi)]
+    cons = [optimize.LinearConstraint(A, lo, hi)]
     eye = np.eye(m)
     P = np.hstack([eye, -eye])   # v - t <= 0
     Q = np.hstack([-eye, -eye])  # -v - t <= 0
-    cons.append(LinearConstraint(np.vstack([P, Q]), -np.inf, 0.0))
+    cons.append(optimize.LinearConstraint(np.vstack([P, Q]), -np.inf, 0.0))
     big = 4 * (1 << n)
     c = np.concatenate([np.zeros(m), np.ones(m)])
     lo_b = np.concatenate([-big * np.ones(m), np.zeros(m)])
@@ -183,14 +185,15 @@ def _solve_helper(tt: int, g_tt: int, n: int) -> tuple[tuple[int, ...], int, int
     A_ub = np.vstack([-A[f], A[~f], np.vstack([P, Q])])
     b_ub = np.concatenate([np.zeros(int(f.sum())), -np.ones(int((~f).sum())),
                            np.zeros(2 * m)])
-    res = linprog(c, A_ub=A_ub, b_ub=b_ub, bounds=list(zip(lo_b, hi_b)), method="highs")
+    res = optimize.linprog(c, A_ub=A_ub, b_ub=b_ub, bounds=list(zip(lo_b, hi_b)), method="highs")
     if res.status != 0 or res.x is None:
         return None  # not even the relaxation is feasible
     got = exact(res.x)
     if got is not None:
         return got
-    res = milp(c, constraints=cons, integrality=np.ones(2 * m), bounds=Bounds(lo_b, hi_b),
-               options={"node_limit": 2000})  # a work bound, not a clock: deterministic
+    res = optimize.milp(c, constraints=cons, integrality=np.ones(2 * m),
+                        bounds=optimize.Bounds(lo_b, hi_b),
+                        options={"node_limit": 2000})  # a work bound, not a clock: deterministic
     if res.x is None or res.status != 0:
         return None
     return exact(res.x)

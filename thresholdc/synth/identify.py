@@ -56,7 +56,10 @@ from functools import cache, lru_cache
 from typing import Any
 
 import numpy as np
-from scipy.optimize import LinearConstraint, linprog, milp
+
+from ..lazy import lazy_module
+
+optimize = lazy_module("scipy.optimize")
 
 __all__ = ["MAX_VARIABLES", "Realisation", "identify", "is_threshold"]
 
@@ -422,7 +425,7 @@ def _lp_feasible(m: int, g_bits: int, parts: tuple) -> bool:
                   + [-coef[None, :] for coef, _ in order])
     b = np.concatenate([np.zeros(len(ymin)), -np.ones(len(ymax))]
                        + [[-bound] for _, bound in order])
-    res = linprog(np.r_[np.ones(m), 0.0], A_ub=A, b_ub=b,
+    res = optimize.linprog(np.r_[np.ones(m), 0.0], A_ub=A, b_ub=b,
                   bounds=[(1, None)] * m + [(None, None)], method="highs")
     assert res.status in (0, 2), f"LP ended with status {res.status}: {res.message}"
     return res.status == 0
@@ -611,9 +614,9 @@ def _solve_ilp(an: _Analysis, parts: tuple) -> Realisation | None:
 
     def solve(objective: np.ndarray) -> tuple[int, np.ndarray] | None:
         """The optimum of one stage and its solution (None when infeasible)."""
-        res = milp(objective, integrality=np.ones(m + 1),
+        res = optimize.milp(objective, integrality=np.ones(m + 1),
                    bounds=(np.r_[np.ones(m), -np.inf], np.full(m + 1, np.inf)),
-                   constraints=LinearConstraint(np.array(rows), lb, ub),
+                   constraints=optimize.LinearConstraint(np.array(rows), lb, ub),
                    options={"mip_rel_gap": 0})
         if res.status == 2:
             return None
