@@ -32,7 +32,6 @@ from dataclasses import asdict, dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
-import networkx as nx
 import numpy as np
 
 from ..errors import UsageError
@@ -52,6 +51,7 @@ from ..ir.program import (
     sub_expressions,
 )
 from ..ir.reference import Reference
+from ..lazy import lazy_module
 from ..logic import evaluate_definitions, load_source, source_from_text
 from ..training import rule_network
 from ..verification import check_names
@@ -59,6 +59,8 @@ from .columns import enumerate_rows, levels, sample_rows, support, unit_rows, va
 from .explanation import shrink, smallest_forcing
 from .printer import expr_text
 from .readback import UnitReading, decision_point, read_units
+
+nx = lazy_module("networkx")
 
 __all__ = ["DefinitionDiff", "OutputAgreement", "UnitDrift", "Diff", "diff", "antecedents"]
 

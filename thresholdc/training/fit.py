@@ -35,10 +35,10 @@ from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
-from scipy.sparse import csr_array
 
 from ..errors import UsageError
 from ..ir.network import Network
+from ..lazy import lazy_module
 from ..logic import source_from_text
 from .kbstart import rule_network
 from .lbfgs import Problem, fit, pack
@@ -49,6 +49,8 @@ from .search import Search, search, walk_path
 from .threads import one_blas_thread
 from .tolerance import start_tolerance
 from .warmstart import Start, prepare_start, soft_network
+
+sparse = lazy_module("scipy.sparse")
 
 __all__ = ["TrainResult", "train", "DEFAULT_NORM"]
 
@@ -301,7 +303,7 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
 
     Xfit: Any = Xs
     if optimizer == "lbfgs" and np.count_nonzero(Xs) <= SPARSE_BELOW * Xs.size:
-        Xfit = csr_array(Xs)
+        Xfit = sparse.csr_array(Xs)
 
     def problem(w: float) -> tuple[Problem, np.ndarray]:
         s = starts[w]

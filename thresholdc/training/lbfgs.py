@@ -28,10 +28,12 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-from scipy.optimize import minimize
 
+from ..lazy import lazy_module
 from .loop import Epoch, fit_params
 from .mlp import data_loss, loss_and_grad
+
+optimize = lazy_module("scipy.optimize")
 
 __all__ = ["Problem", "Run", "fit"]
 
@@ -186,7 +188,7 @@ def fit(
         elif e.epoch - best[1] >= patience:
             raise StopIteration
 
-    minimize(_objective(p, lam), theta0, jac=True, method="L-BFGS-B", callback=watch,
+    optimize.minimize(_objective(p, lam), theta0, jac=True, method="L-BFGS-B", callback=watch,
              options={"maxiter": iterations, "maxcor": 10, "gtol": 1e-6, "ftol": 1e-10})
     if held_out is None:
         return Run(last[0], history[-1].epoch, tuple(history))

@@ -46,14 +46,22 @@ True
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.special import expit
 
 from ..ir import activations as act
 from ..ir.network import Network
+from ..lazy import lazy_module
 from .domain import Domain
+
+special = lazy_module("scipy.special")
+
+
+def expit(z: np.ndarray) -> np.ndarray:
+    """The logistic function (scipy's, loaded on first use)."""
+    return special.expit(z)
 
 __all__ = ["LinearBounder", "Bounds", "activation_lines"]
 
@@ -97,7 +105,8 @@ def _tanh_prime_root(k: np.ndarray) -> np.ndarray:
     return np.where(k <= 0, np.inf, np.where(k >= 1.0, 0.0, z))
 
 
-_SMOOTH = {
+_Fn = Callable[[np.ndarray], np.ndarray]
+_SMOOTH: dict[str, tuple[_Fn, _Fn, _Fn]] = {
     "sigmoid": (expit, lambda z: expit(z) * (1.0 - expit(z)), _sig_prime_root),
     "tanh": (np.tanh, lambda z: 1.0 - np.tanh(z) ** 2, _tanh_prime_root),
 }

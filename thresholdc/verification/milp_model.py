@@ -40,11 +40,13 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-from scipy.optimize import Bounds, LinearConstraint, milp
-from scipy.sparse import csr_matrix
 
 from ..ir import program as ast
+from ..lazy import lazy_module
 from .domain import Domain
+
+optimize = lazy_module("scipy.optimize")
+sparse = lazy_module("scipy.sparse")
 
 __all__ = ["Model", "Solution", "encode_rules", "Affine"]
 
@@ -117,16 +119,16 @@ class Model:
                     ri.append(r)
                     ci.append(v)
             lo[r], hi[r] = a, b
-        A = csr_matrix((data, (ri, ci)), shape=(len(self.rows), n))
+        A = sparse.csr_matrix((data, (ri, ci)), shape=(len(self.rows), n))
         options: dict[str, Any] = {"time_limit": max(float(time_limit), 0.01), "presolve": True}
         if node_limit is not None:
             options["node_limit"] = int(node_limit)
-        cons = [LinearConstraint(A, lo, hi)] if len(self.rows) else []
+        cons = [optimize.LinearConstraint(A, lo, hi)] if len(self.rows) else []
         cost = np.zeros(n)
         for v, w in (objective or {}).items():
             cost[v] = w
         integrality = np.zeros(n) if relaxed else np.array(self.integer)
-        res = milp(cost, integrality=integrality, bounds=Bounds(
+        res = optimize.milp(cost, integrality=integrality, bounds=optimize.Bounds(
             np.array(self.lb), np.array(self.ub)), constraints=cons, options=options)
         nodes = getattr(res, "mip_node_count", None)
         dual = getattr(res, "mip_dual_bound", None)
