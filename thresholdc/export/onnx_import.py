@@ -312,7 +312,7 @@ def _metadata(model: onnx.ModelProto) -> dict[str, Any]:
     for prop in model.metadata_props:
         try:
             meta[prop.key] = json.loads(prop.value)
-        except json.JSONDecodeError:
+        except (ValueError, RecursionError):  # not JSON, or bytes that are not even UTF-8
             meta[prop.key] = prop.value
     return meta
 
