@@ -3,7 +3,7 @@
 An invented scenario: an irrigation controller's rules over n Boolean sensor flags
 (``atleast(3, …)`` of the soil probes, and a few conjunctions), compiled to a sigmoid network,
 then perturbed with small Gaussian noise on every weight (as a short fine-tuning would).
-From one run it prints, per n: the time of :func:`thresholdc.verify.bounds.verify_bounds`,
+From one run it prints, per n: the time of :func:`thresholdc.verification.bounds.verify_bounds`,
 the time of the exhaustive numpy check over all 2^n rows (our :func:`verify_exhaustive`), and
 plain Python brute force (the network's forward pass in Python loops and the rules through the
 reference evaluator, one row at a time, timed on 2000 rows and scaled to 2^n), with ratios;
@@ -23,8 +23,8 @@ import numpy as np
 
 from thresholdc.compiler import compile_rules
 from thresholdc.logic.source import source_from_text
-from thresholdc.verify.bounds import verify_bounds
-from thresholdc.verify.exhaustive import verify_exhaustive
+from thresholdc.verification.bounds import verify_bounds
+from thresholdc.verification.exhaustive import verify_exhaustive
 
 
 def rules(n: int) -> str:

@@ -32,8 +32,8 @@ import gen_circuits as gc  # noqa: E402
 
 from thresholdc.compiler import compile_source  # noqa: E402
 from thresholdc.logic.source import source_from_text  # noqa: E402
-from thresholdc.verify.sat import network_side, source_side, verify_sat  # noqa: E402
-from thresholdc.verify.sat_miter import available_solvers, prove_equivalent  # noqa: E402
+from thresholdc.verification.sat import network_side, source_side, verify_sat  # noqa: E402
+from thresholdc.verification.sat.miter import available_solvers, prove_equivalent  # noqa: E402
 
 
 def circuits(quick: bool) -> list[tuple[str, str, str]]:

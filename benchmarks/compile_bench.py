@@ -20,7 +20,7 @@ from sympy.logic import boolalg
 
 from thresholdc.compiler import compile_source
 from thresholdc.logic.source import source_from_text
-from thresholdc.verify.exhaustive import assignments
+from thresholdc.verification.exhaustive import assignments
 
 # A formula is a small tree: ("var", i) | ("not", f) | ("and"/"or"/"xor", f, g)
 #                            | ("atleast", k, [f…]) | ("wsum", [(c, f)…], rhs)
@@ -122,7 +122,7 @@ def main() -> None:
     t_compile = time.perf_counter() - t0
     net = result.network
     t0 = time.perf_counter()
-    from thresholdc.verify.exhaustive import verify_exhaustive
+    from thresholdc.verification.exhaustive import verify_exhaustive
 
     report = verify_exhaustive(net, src)
     t_verify = time.perf_counter() - t0

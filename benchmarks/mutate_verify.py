@@ -39,7 +39,7 @@ from thresholdc.errors import ThresholdcError  # noqa: E402
 from thresholdc.ir.network import Network  # noqa: E402
 from thresholdc.ir.reference import Reference  # noqa: E402
 from thresholdc.logic import load_source, source_from_text  # noqa: E402
-from thresholdc.verify.auto import verify_network  # noqa: E402
+from thresholdc.verification import verify_network  # noqa: E402
 
 METHODS = ("exhaustive", "sat", "local", "bounds", "auto")
 

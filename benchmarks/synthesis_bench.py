@@ -37,7 +37,7 @@ from thresholdc.ir.gates import GateGraph  # noqa: E402
 from thresholdc.logic.source import source_from_text  # noqa: E402
 from thresholdc.synth.collapsing import collapse  # noqa: E402
 from thresholdc.synth.mapping import map_to_neurons  # noqa: E402
-from thresholdc.verify.local import verify_local  # noqa: E402
+from thresholdc.verification.local import verify_local  # noqa: E402
 
 BASELINE = {"and": 1, "or": 1, "nand": 1, "nor": 1, "threshold": 1, "xor": 2, "xnor": 2,
             "ite": 2, "equal": 2}

@@ -10,7 +10,7 @@
 
 from __future__ import annotations
 
-from .api import load, verify  # noqa: E402
+from .api import figure, load, verify  # noqa: E402
 from .compiler import CompileResult, compile_file, compile_rules, compile_source  # noqa: E402
 from .errors import (  # noqa: E402
     DataError,
@@ -21,7 +21,9 @@ from .errors import (  # noqa: E402
     VerificationUndecided,
 )
 from .export import load_any, save_any  # noqa: E402
+from .htmlreport import report_html, write_report  # noqa: E402  (also registers displays)
 from .ir.network import Network, Neuron, Output  # noqa: E402
+from .ir.options import CompileOptions  # noqa: E402
 from .ir.reference import Reference
 from .logic import load_source, source_from_text
 from .network import apply_activation, to_relu
@@ -29,7 +31,7 @@ from .syntax import parse_bench, parse_blif
 from .synth import MAX_VARIABLES, Realisation, is_threshold  # noqa: E402
 from .synth.identify import identify  # noqa: E402
 from .train import TrainResult, load_data, score, train  # noqa: E402
-from .verify import (
+from .verification import (
     CertificateCheck,
     Report,
     check_certificate,
@@ -47,7 +49,11 @@ __all__ = [
     "compile_source",
     "compile_file",
     "CompileResult",
+    "CompileOptions",
     "load",
+    "figure",
+    "report_html",
+    "write_report",
     "save_any",
     "load_any",
     "verify",

@@ -8,15 +8,19 @@ True
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
+from typing import Any
 
-from .export import load_any
+from .compiler import rule_text
+from .export import _module, load_any
 from .ir.network import Network
 from .ir.reference import Reference
 from .logic import load_source, source_from_text
-from .verify import Report, verify_network
+from .verification import Report, verify_network
 
-__all__ = ["load", "verify", "as_source"]
+__all__ = ["load", "verify", "as_source", "figure"]
+
 
 
 def load(path: str | Path, *, like: Network | None = None) -> Network:
@@ -34,12 +38,27 @@ def load(path: str | Path, *, like: Network | None = None) -> Network:
 
 
 def as_source(source: Reference | str | Path) -> Reference:
-    """A :class:`~thresholdc.ir.reference.Reference` from one, a ``Path`` or rule text."""
+    """A :class:`~thresholdc.ir.reference.Reference` from one, a ``Path`` to a file, or rule
+    text (named ``<rules>`` in messages)."""
     if isinstance(source, Reference):
         return source
-    if isinstance(source, Path):
-        return load_source(str(source))
-    return source_from_text(source, "<rules>", kind="rules")
+    if isinstance(source, os.PathLike):
+        return load_source(os.fspath(source))
+    return source_from_text(rule_text(source, function="verify", file_function="load_source"),
+                            "<rules>", kind="rules")
+
+
+def figure(network: Network, **options: Any) -> Any:
+    """The drawing of ``network`` as a matplotlib ``Figure`` (extra ``plot``), for notebooks
+    and reports; options as for :func:`thresholdc.export.drawing.figure` (``max_neurons``,
+    ``max_labels``, ``min_weight``).
+
+    >>> import thresholdc
+    >>> fig = thresholdc.figure(thresholdc.compile_rules("input a, b\\ny = a or b\\n"))
+    >>> type(fig).__name__
+    'Figure'
+    """
+    return _module("drawing", "plot", "figure").figure(network, **options)
 
 
 def verify(

@@ -24,7 +24,8 @@ __all__ = ["main", "build_parser", "COMMANDS"]
 # The exit code of a bug in thresholdc (0, 1 and 2 are DESIGN.md §5's).
 INTERNAL_ERROR = 3
 
-COMMANDS = ("compile", "verify", "inspect", "table", "export", "draw", "train", "score")
+COMMANDS = ("compile", "verify", "inspect", "table", "export", "draw", "train", "score",
+            "report", "example")
 
 
 class _Parser(argparse.ArgumentParser):

@@ -11,6 +11,7 @@ network's ``meta`` and returns the network together with a summary of what happe
 
 from __future__ import annotations
 
+import os
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -24,31 +25,24 @@ from .errors import (
     VerificationUndecided,
 )
 from .ir.network import Network, check_network
+from .ir.options import HONOURED, RECORDED, CompileOptions
 from .ir.reference import Reference
-from .logic import load_source, network_features, source_from_text
+from .logic import load_source, network_features, source_from_text, unused_inputs
 from .network import apply_activation, survives
 from .synth import collapse, map_to_neurons
-from .verify import Report, verify_network
+from .verification import Report, verify_network
 from .version import __version__
 
 __all__ = ["compile_rules", "compile_source", "compile_file", "CompileResult", "DEFAULTS",
            "CompileError", "network_stats"]
 
-#: Every option of a compile, with its default.  The first group shapes the network and is
-#: recorded in ``meta.options``; the second only decides how the result is checked.
-DEFAULTS: dict[str, Any] = {
-    "activation": "step",
-    "encoding": "binary",
-    "gain": None,
-    "tolerance": None,
-    "layered": False,
-    "synthesis": True,
-    "simplify_support": 6,
-    "cut_size": 6,
-    "max_fan_in": None,
-    "max_weight": None,
+#: Every option that shapes the network, with its default (recorded in ``meta.options``);
+#: the options themselves are :class:`thresholdc.ir.options.CompileOptions`.
+DEFAULTS: dict[str, Any] = {name: CompileOptions.default(name) for name in RECORDED}
+#: The options that only decide how the result is checked, with their defaults.
+CHECK_DEFAULTS: dict[str, Any] = {
+    name: CompileOptions.default(name) for name in HONOURED["verification"]
 }
-CHECK_DEFAULTS: dict[str, Any] = {"verify": "auto", "max_inputs": 24, "time_limit": 60.0}
 
 
 class CompileError(InternalError):
@@ -88,54 +82,29 @@ def network_stats(net: Network) -> dict[str, int]:
     }
 
 
-def _options(given: dict[str, Any]) -> tuple[dict[str, Any], dict[str, Any]]:
-    """Split and validate keyword options; unknown ones are refused, listing the valid ones."""
-    unknown = sorted(set(given) - set(DEFAULTS) - set(CHECK_DEFAULTS))
-    if unknown:
-        valid = ", ".join(list(DEFAULTS) + list(CHECK_DEFAULTS))
-        raise UsageError(f"unknown option(s) {', '.join(unknown)}; valid options: {valid}")
-    shape = {k: given.get(k, v) for k, v in DEFAULTS.items()}
-    check = {k: given.get(k, v) for k, v in CHECK_DEFAULTS.items()}
-    if shape["activation"] not in ("step", "sigmoid", "tanh", "relu"):
-        raise UsageError(
-            f"unknown activation {shape['activation']!r}; choose step, sigmoid, tanh or relu"
-        )
-    if shape["encoding"] not in ("binary", "bipolar"):
-        raise UsageError(f"unknown encoding {shape['encoding']!r}; choose binary or bipolar")
-    if (
-        shape["activation"] in ("sigmoid", "tanh")
-        and shape["gain"] is None
-        and shape["tolerance"] is None
-    ):
-        shape["tolerance"] = 0.01
-    for key in ("cut_size", "simplify_support", "max_fan_in", "max_weight"):
-        v = shape[key]
-        if v is not None and (not isinstance(v, int) or isinstance(v, bool) or v < 0):
-            raise UsageError(f"the {key!r} option must be a non-negative integer. Got {v!r}.")
-    if check["verify"] not in ("auto", "exhaustive", "local", "sat", "bounds", "none"):
-        raise UsageError(
-            f"unknown verification method {check['verify']!r}; "
-            "choose auto, exhaustive, local, sat, bounds or none"
-        )
-    return shape, check
+def _passes(opts: CompileOptions) -> tuple[str, ...]:
+    """The passes a compile with ``opts`` runs (names as in :data:`HONOURED`)."""
+    synthesis = "collapse" if opts.synthesis else "per-gate mapping"
+    checks = ("verification",) if opts.verify != "none" else ()
+    return ("lowering", synthesis, "activation") + checks
 
 
-def _synthesise(source: Reference, shape: dict[str, Any]) -> tuple[Network, Network]:
+def _synthesise(source: Reference, opts: CompileOptions) -> tuple[Network, Network]:
     """The one-construction-per-gate network and the synthesised one (the same when off)."""
-    gates = source.gates(shape["simplify_support"])
+    gates = source.gates(opts.simplify_support)
     mapped = map_to_neurons(gates, reserved=source.names)
-    if not shape["synthesis"]:
+    if not opts.synthesis:
         return mapped, mapped
     collapsed = collapse(
         gates,
-        cut_size=shape["cut_size"],
-        max_fan_in=shape["max_fan_in"],
-        max_weight=shape["max_weight"],
+        cut_size=opts.cut_size,
+        max_fan_in=opts.max_fan_in,
+        max_weight=opts.max_weight,
         reserved=source.names,
     )
     # Keep the per-gate mapping where the cover did not win (fewest neurons, then depth) and
     # the mapping also meets the limits.
-    if _size(mapped) < _size(collapsed) and _within(mapped, shape):
+    if _size(mapped) < _size(collapsed) and _within(mapped, opts):
         return mapped, mapped
     return mapped, collapsed
 
@@ -144,36 +113,36 @@ def _size(net: Network) -> tuple[int, int]:
     return (len(net.neurons), net.depth)
 
 
-def _within(net: Network, shape: dict[str, Any]) -> bool:
+def _within(net: Network, opts: CompileOptions) -> bool:
     """True when ``net`` meets the fan-in and |weight| limits of the options."""
     stats = network_stats(net)
-    return (shape["max_fan_in"] is None or stats["max_fan_in"] <= shape["max_fan_in"]) and (
-        shape["max_weight"] is None or stats["max_weight"] <= shape["max_weight"]
+    return (opts.max_fan_in is None or stats["max_fan_in"] <= opts.max_fan_in) and (
+        opts.max_weight is None or stats["max_weight"] <= opts.max_weight
     )
 
 
-def _activate(net: Network, shape: dict[str, Any]) -> Network:
+def _activate(net: Network, opts: CompileOptions) -> Network:
     """Activation, gains and layering (the soft-activation pass owns the details)."""
     return apply_activation(
         net,
-        activation=shape["activation"],
-        gain=shape["gain"],
-        tolerance=shape["tolerance"],
-        encoding=shape["encoding"],
-        layered=shape["layered"],
+        activation=opts.activation,
+        gain=opts.gain,
+        tolerance=opts.tolerance,
+        encoding=opts.encoding,
+        layered=opts.layered,
         progress=progress.is_enabled(),
     )
 
 
-def _verify(net: Network, source: Reference, check: dict[str, Any]) -> Report | None:
-    if check["verify"] == "none":
+def _verify(net: Network, source: Reference, opts: CompileOptions) -> Report | None:
+    if opts.verify == "none":
         return None
     return verify_network(
         net,
         source,
-        method=check["verify"],
-        max_inputs=check["max_inputs"],
-        time_limit=check["time_limit"],
+        method=opts.verify,
+        max_inputs=opts.max_inputs,
+        time_limit=opts.time_limit,
     )
 
 
@@ -184,42 +153,63 @@ def _survives(net: Network) -> bool:
     return survives(net)
 
 
+def _compile_options(given: dict[str, Any]) -> CompileOptions:
+    """``given`` as CompileOptions: one ``options=CompileOptions(...)`` or keywords."""
+    if "options" in given:
+        opts = given["options"]
+        if len(given) > 1 or not isinstance(opts, CompileOptions):
+            raise UsageError("give either options=CompileOptions(...) or keyword options, "
+                             "not both")
+        return opts
+    return CompileOptions.from_keywords(**given)
+
+
 def compile_source(source: Reference, **options: Any) -> CompileResult:
-    """Compile a parsed source; see :data:`DEFAULTS` for the options.
+    """Compile a parsed source; the options are those of
+    :class:`~thresholdc.ir.options.CompileOptions` (keywords, or one ``options=`` value).
 
     Raises CompileError (an internal error, exit 3) when the verification finds the network
     different from its own source, and ThresholdcError subclasses for bad input or options.
     """
-    shape, check = _options(options)
+    opts = _compile_options(options)
     t0 = time.perf_counter()
-    mapped, net = _synthesise(source, shape)
+    mapped, net = _synthesise(source, opts)
     if source.program is not None and source.program.is_typed():
         net = Network(net.inputs, net.neurons, net.outputs, net.meta, net.encoding,
                       network_features(source.program))
     _check_compiled(net)
     synthesised = network_stats(net)
-    net = _activate(net, shape)
+    net = _activate(net, opts)
     _check_compiled(net)
     t1 = time.perf_counter()
     result = CompileResult(net, None, network_stats(mapped), synthesised)
     result.seconds["compile"] = t1 - t0
-    result.notes.extend(source.gates(shape["simplify_support"]).notes)
+    result.notes.extend(source.gates(opts.simplify_support).notes)
+    result.warnings.extend(
+        f"the {name!r} option has no effect in this compile (no pass that runs uses it)"
+        for name in opts.ignored_by(_passes(opts))
+    )
     if source.program is not None and source.program.unused:
         result.warnings.append(
             f"unused definition(s), not compiled: {', '.join(source.program.unused)}"
         )
+    idle = unused_inputs(source)
+    if idle:
+        result.warnings.append(
+            f"unused input(s), no output reads them (kept as input units): {', '.join(idle)}"
+        )
     try:
-        report = _verify(net, source, check)
+        report = _verify(net, source, opts)
     except VerificationUndecided as err:
-        report = Report("undecided", check["verify"], 0, [], notes=[err.message])
+        report = Report("undecided", opts.verify, 0, [], notes=[err.message])
     result.seconds["verify"] = time.perf_counter() - t1
     result.report = report
     result.survives = _survives(net)
-    gain_too_small = shape["gain"] is not None and not result.survives
+    gain_too_small = opts.gain is not None and not result.survives
     if gain_too_small:
         bound = net.meta["certificate"]["bound"]
         result.warnings.append(
-            f"with gain {shape['gain']:g} the certified output error bound is {bound:g}, enough "
+            f"with gain {opts.gain:g} the certified output error bound is {bound:g}, enough "
             "to misread an output: the soft network may not compute the rules (the file is "
             "written; raise the gain or use a tolerance)"
         )
@@ -237,7 +227,7 @@ def compile_source(source: Reference, **options: Any) -> CompileResult:
     meta: dict[str, Any] = {
         "tool": f"thresholdc {__version__}",
         "source_sha256": source.sha256,
-        "options": shape,
+        "options": opts.recorded(),
         "verification": record,
     }
     for key, value in net.meta.items():
@@ -256,17 +246,59 @@ def compile_rules(source: str | Path, **options: Any) -> Network:
     ``synthesis``, ``simplify_support``, ``cut_size``, ``max_fan_in``, ``max_weight``,
     ``verify`` (auto | exhaustive | local | sat | none), ``max_inputs``, ``time_limit``.
 
+    A str is rule text (errors name it ``<rules>``); a str that looks like a file name
+    (``"loan.rules"``) is refused with a message: pass ``Path("loan.rules")`` or call
+    :func:`compile_file`.
+
     >>> net = compile_rules("input a, b, c\\nalarm = atleast(2, a, b, c)\\n")
     >>> net.evaluate([[1, 1, 0], [0, 0, 1]]).tolist()
     [[1.0], [0.0]]
     """
-    if isinstance(source, Path):
-        src = load_source(str(source))
+    if isinstance(source, os.PathLike):
+        src = load_source(os.fspath(source))
     else:
-        src = source_from_text(source, "<rules>", kind="rules")
+        src = source_from_text(rule_text(source), "<rules>", kind="rules")
     return compile_source(src, **options).network
 
 
-def compile_file(path: str, **options: Any) -> CompileResult:
-    """Compile the source at ``path``; returns the network with its summary."""
-    return compile_source(load_source(path), **options)
+#: Suffixes of source files; a one-line string ending in one is taken for a file name.
+SOURCE_SUFFIXES = (".rules", ".bench", ".blif", ".txt")
+
+
+def rule_text(text: str, *, function: str = "compile_rules", file_function: str = "compile_file"
+              ) -> str:
+    """``text`` itself, unless it is a file name given where rule text was expected: then a
+    UsageError that says how to pass the file.
+
+    >>> rule_text("input a\\ny = a\\n") == "input a\\ny = a\\n"
+    True
+    >>> rule_text("loan.rules")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    thresholdc.errors.UsageError: loan.rules: compile_rules takes rule text, and ... \
+call thresholdc.compile_file('loan.rules') or pass pathlib.Path('loan.rules')
+    """
+    if not isinstance(text, str):
+        raise UsageError(f"{function} takes rule text (str) or a pathlib.Path, got "
+                         f"{type(text).__name__}")
+    name = text.strip()
+    if "\n" not in name and name.lower().endswith(SOURCE_SUFFIXES):
+        exists = "" if os.path.isfile(name) else " (no such file)"
+        raise UsageError(
+            f"{function} takes rule text, and {name!r} looks like a file name{exists}; to "
+            f"read a file, call thresholdc.{file_function}({name!r}) or pass "
+            f"pathlib.Path({name!r})", file=name)
+    return text
+
+
+def compile_file(path: str | os.PathLike[str], **options: Any) -> CompileResult:
+    """Compile the rule file or netlist at ``path`` (a str or a ``Path``); returns the
+    network with its summary (``.network``, ``.report``, ``.notes``, ``.warnings``).
+
+    >>> import tempfile
+    >>> p = os.path.join(tempfile.mkdtemp(), "lamp.rules")
+    >>> _ = open(p, "w").write("input dark, motion\\nlamp = dark and motion\\n")
+    >>> compile_file(p).network.output_names
+    ('lamp',)
+    """
+    return compile_source(load_source(os.fspath(path)), **options)

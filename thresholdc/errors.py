@@ -100,6 +100,8 @@ class ThresholdcError(Exception):
         return f"{head}\n{src}\n{pad}^"
 
     def __str__(self) -> str:
+        if self.file is None and self.line is None:
+            return self.message  # nothing to point at (e.g. an option given to the API)
         return f"{self.location()}: {self.message}"
 
 

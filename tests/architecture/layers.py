@@ -10,24 +10,25 @@ from __future__ import annotations
 
 FLOORS: tuple[tuple[str, tuple[str, ...]], ...] = (
     ("base", ("thresholdc.errors", "thresholdc.files", "thresholdc.progress",
-              "thresholdc.version")),
+              "thresholdc.version", "thresholdc.present", "thresholdc.extras",
+              "thresholdc.examples")),
     ("ir", ("thresholdc.ir",)),
     ("syntax", ("thresholdc.syntax",)),
     ("logic", ("thresholdc.logic",)),
     ("network", ("thresholdc.network",)),
     ("synth", ("thresholdc.synth",)),
-    ("verify", ("thresholdc.verify",)),
+    ("verify", ("thresholdc.verification", "thresholdc.forcing")),
     ("export", ("thresholdc.export",)),
     ("train", ("thresholdc.train", "thresholdc.training")),
     ("compiler", ("thresholdc.compiler",)),
-    ("api", ("thresholdc.api",)),
+    ("api", ("thresholdc.api", "thresholdc.htmlreport")),
     ("commands", ("thresholdc.commands",)),
     ("package", ("thresholdc",)),
     ("cli", ("thresholdc.cli", "thresholdc.__main__")),
 )
 
 #: Stage packages: code outside a stage reaches it through its ``__init__`` (its public names).
-STAGES = ("syntax", "logic", "network", "synth", "verify", "export", "train")
+STAGES = ("syntax", "logic", "network", "synth", "verification", "export", "train")
 
 
 def floor_of(module: str) -> int:

@@ -141,6 +141,19 @@ def test_a_missing_optional_package_is_a_usage_error(tmp_path, monkeypatch):
 
     monkeypatch.setitem(sys.modules, "onnx", None)  # makes "import onnx" fail
     monkeypatch.delitem(sys.modules, "thresholdc.export.onnx", raising=False)
-    with pytest.raises(UsageError, match=r"pip install 'thresholdc\[onnx\]'"):
+    # run from this checkout, the hint is an editable install of it
+    with pytest.raises(UsageError, match=r"pip install -e '.*\[onnx\]'"):
         save_any(full_adder(), str(tmp_path / "adder.onnx"))
     assert list(tmp_path.iterdir()) == []
+
+
+def test_missing_extra_hint_fits_the_installation(tmp_path, monkeypatch):
+    from thresholdc import extras
+
+    monkeypatch.setattr(extras, "checkout_root", lambda: None)  # as from an installed wheel
+    assert extras.install_hint("onnx") == "pip install 'thresholdc[onnx]'"
+    monkeypatch.setattr(extras, "checkout_root", lambda: str(tmp_path))
+    monkeypatch.chdir(tmp_path)
+    assert extras.install_hint("onnx") == "pip install -e '.[onnx]'"
+    monkeypatch.chdir("/")
+    assert extras.install_hint("torch") == f"pip install -e '{tmp_path}[torch]'"

@@ -15,7 +15,7 @@ from thresholdc.errors import NetworkFileError
 from thresholdc.logic import source_from_text
 from thresholdc.network import fileformat
 from thresholdc.network.fileformat import dumps, loads
-from thresholdc.verify.auto import verify_network
+from thresholdc.verification import verify_network
 
 ADDER = "input a, b, cin\noutput sum, carry\ncarry = majority(a, b, cin)\nsum = a ^ b ^ cin\n"
 

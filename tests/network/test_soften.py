@@ -65,8 +65,8 @@ def within(dev: np.ndarray, bound: np.ndarray | float) -> bool:
         ({"activation": "step", "gain": 2.0}, "--gain applies to sigmoid and tanh"),
         ({"activation": "relu", "tolerance": 0.1}, "--tolerance applies to sigmoid and tanh"),
         ({"activation": "relu", "encoding": "bipolar"}, "bipolar works with"),
-        ({"activation": "softplus"}, "unknown activation"),
-        ({"activation": "step", "encoding": "ternary"}, "unknown encoding"),
+        ({"activation": "softplus"}, "The 'activation' option must be one of step, sigmoid"),
+        ({"activation": "step", "encoding": "ternary"}, "The 'encoding' option must be one of"),
     ],
 )
 def test_bad_options_raise_usage_error(options: dict, message: str) -> None:

@@ -14,7 +14,7 @@ from tests.strategies import rule_programs
 from thresholdc.compiler import compile_rules
 from thresholdc.logic.reference import evaluate
 from thresholdc.syntax.parser import parse
-from thresholdc.verify.certificate import check_certificate
+from thresholdc.verification.certificate import check_certificate
 
 EPS = 0.02
 

@@ -19,7 +19,7 @@ from thresholdc.ir.gates import Gate, GateGraph
 from thresholdc.ir.network import check_network
 from thresholdc.logic.source import NetlistSource
 from thresholdc.synth.collapsing import collapse
-from thresholdc.verify.local import structural_classes, verify_local
+from thresholdc.verification.local import structural_classes, verify_local
 
 
 def rows(n: int) -> np.ndarray:
@@ -479,7 +479,7 @@ def test_origins_follow_the_gates():
     {"max_weight": 0}, {"max_fan_in": True},
 ])
 def test_options_out_of_range_are_refused(bad):
-    with pytest.raises(UsageError, match="option of collapse"):
+    with pytest.raises(UsageError, match=f"The {next(iter(bad))!r} option must be"):
         collapse(full_adder_xor(), **bad)
 
 

@@ -13,7 +13,7 @@ from thresholdc.logic.reference import evaluate
 from thresholdc.logic.source import NetlistSource
 from thresholdc.syntax.parser import parse
 from thresholdc.synth.collapsing import collapse
-from thresholdc.verify.local import verify_local
+from thresholdc.verification.local import verify_local
 
 NAMES = ["a", "b", "c", "d", "e", "f"]
 

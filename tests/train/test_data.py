@@ -186,7 +186,9 @@ def test_score_json_exact_layout(tmp_path, capsys):
     assert code == 0
     assert json.loads(capsys.readouterr().out) == {
         "rows": 5,
-        "outputs": [{"name": "y", "column": "truth", "accuracy": 0.6, "errors": 2}],
+        "outputs": [{"name": "y", "column": "truth", "accuracy": 0.6, "errors": 2,
+                     "positives": 2, "precision": 0.5, "recall": 0.5, "f1": 0.5,
+                     "confusion": {"tp": 1, "fp": 1, "fn": 1, "tn": 2}}],
     }
 
 
@@ -213,7 +215,7 @@ def test_score_text_and_errors(tmp_path, capsys):
     p = _write(tmp_path, "a,b,y\n1,1,1\n")
     assert main(["score", str(net_path), p]) == 0
     text = capsys.readouterr().out
-    assert "1 rows" in text and "1.0000" in text
+    assert "1 row\n" in text and "1.0000" in text
     # no label at all: exit 2
     p = _write(tmp_path, "a,b\n1,1\n")
     assert main(["score", str(net_path), p]) == 2

@@ -12,9 +12,9 @@ import thresholdc
 from thresholdc.compiler import compile_rules
 from thresholdc.errors import VerificationUndecided
 from thresholdc.logic.source import source_from_text
-from thresholdc.verify.bounds import verify_bounds
-from thresholdc.verify.exhaustive import verify_exhaustive
-from thresholdc.verify.typed import verify_typed
+from thresholdc.verification.bounds import verify_bounds
+from thresholdc.verification.exhaustive import verify_exhaustive
+from thresholdc.verification.typed import verify_typed
 
 MIXED = """
 input zone: {north, south, 7}, temp: real in [-40, 60] scale 0.5, humid: real, fan

@@ -15,8 +15,8 @@ import pytest
 from thresholdc.compiler import compile_rules
 from thresholdc.errors import VerificationUndecided
 from thresholdc.logic.source import source_from_text
-from thresholdc.verify.bounds import verify_bounds
-from thresholdc.verify.exhaustive import verify_exhaustive
+from thresholdc.verification.bounds import verify_bounds
+from thresholdc.verification.exhaustive import verify_exhaustive
 
 RULES = [
     "input a, b, c, d\nalarm = atleast(2, a, b, c) and not d\nok = a xor b xor c\n",
@@ -140,8 +140,10 @@ def test_node_limit_is_undecided():
     names = [f"x{i}" for i in range(14)]
     text = f"input {', '.join(names)}\np = parity({', '.join(names)})\n"
     net = compile_rules(text, activation="sigmoid", verify="none")
-    with pytest.raises(VerificationUndecided, match="stopped"):
-        verify_bounds(net, source_from_text(text), max_nodes=100)
+    rep = verify_bounds(net, source_from_text(text), max_nodes=100)
+    assert rep.result == "undecided" and not rep.equal
+    (p,) = rep.outputs
+    assert p.verdict == "undecided" and not p.agrees and "stopped at" in p.bound
 
 
 def test_report_layout():
@@ -151,14 +153,16 @@ def test_report_layout():
     assert list(data)[:4] == ["result", "method", "assignments", "outputs"]
     assert data["result"] == "different" and data["method"] == "bounds"
     for o in data["outputs"]:
-        assert list(o) == ["name", "agrees", "disagreements", "counterexamples", "min_margin"]
+        assert list(o) == ["name", "verdict", "agrees", "disagreements", "found",
+                           "counterexamples", "min_margin", "bound"]
     bad = data["outputs"][1]
     assert not bad["agrees"] and 1 <= len(bad["counterexamples"]) <= 5
+    assert bad["verdict"] == "different" and bad["disagreements"] == bad["found"] >= 1
     assert set(bad["counterexamples"][0]) == {"x", "y", "z"}
 
 
 def test_verify_network_sends_soft_networks_above_the_bound_here():
-    from thresholdc.verify.auto import verify_network
+    from thresholdc.verification.auto import verify_network
 
     names = [f"x{i}" for i in range(26)]
     text = f"input {', '.join(names)}\ny = atleast(3, {', '.join(names)})\n"

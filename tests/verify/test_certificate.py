@@ -13,7 +13,7 @@ from tests.network.step_networks import random_step_network
 from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.network.fileformat import dumps, loads
 from thresholdc.network.soften import apply_activation
-from thresholdc.verify.certificate import check_certificate
+from thresholdc.verification.certificate import check_certificate
 
 
 def adder() -> Network:

@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 from thresholdc.ir.gates import Gate, GateGraph
-from thresholdc.verify.local import structural_classes
+from thresholdc.verification.structural import structural_classes
 
 OPS = ["and", "or", "nand", "nor", "xor", "xnor", "not", "buf", "threshold", "equal", "ite"]
 

@@ -8,12 +8,14 @@ import importlib
 import pytest
 
 MODULES = [
-    "thresholdc.verify.sat_circuit",
-    "thresholdc.verify.sat_encode",
-    "thresholdc.verify.sat_miter",
-    "thresholdc.verify.sat",
-    "thresholdc.verify.local",
-    "thresholdc.verify.auto",
+    "thresholdc.verification.sat.circuit",
+    "thresholdc.verification.sat.encode",
+    "thresholdc.verification.sat.miter",
+    "thresholdc.verification.sat.method",
+    "thresholdc.verification.local",
+    "thresholdc.verification.structural",
+    "thresholdc.verification.cones",
+    "thresholdc.verification.auto",
 ]
 
 

@@ -14,7 +14,7 @@ import pytest
 
 pysat_solvers = pytest.importorskip("pysat.solvers")
 
-from thresholdc.verify.sat_circuit import FALSE, TRUE, Circuit, threshold_cnf  # noqa: E402
+from thresholdc.verification.sat.circuit import FALSE, TRUE, Circuit, threshold_cnf  # noqa: E402
 
 
 def table(n: int) -> np.ndarray:

@@ -8,7 +8,9 @@ import sys
 from collections.abc import Sequence
 from typing import Any
 
-__all__ = ["add_parser", "print_json", "format_table", "fmt_num", "warn"]
+from ..present import count
+
+__all__ = ["add_parser", "print_json", "format_table", "fmt_num", "warn", "count"]
 
 
 def add_parser(

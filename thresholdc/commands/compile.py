@@ -3,17 +3,16 @@
 from __future__ import annotations
 
 import argparse
-import os
 import sys
 from typing import Any
 
 from ..compiler import compile_file
-from ..errors import UsageError
-from ..export import save_any
+from ..export import SUFFIXES, check_suffix, save_any
+from ..ir.options import CHOICES, DEFAULT_TOLERANCE, CompileOptions
 from ..network import check_writable
 from .common import add_parser, fmt_num, print_json, warn
 
-SUFFIXES = (".json", ".onnx", ".npz")
+_default = CompileOptions.default
 
 
 def register(subparsers: Any) -> None:
@@ -32,40 +31,41 @@ def register(subparsers: Any) -> None:
     p.add_argument("-o", "--output", metavar="NET", required=True, help="network file to write")
     p.add_argument("--layered", action="store_true",
                    help="strict layered form: relays so each layer reads only the previous one")
-    p.add_argument("--activation", choices=("step", "sigmoid", "tanh", "relu"), default="step",
-                   help="activation of the neurons (default: step)")
+    p.add_argument("--activation", choices=CHOICES["activation"], default=_default("activation"),
+                   help=f"activation of the neurons (default: {_default('activation')})")
     p.add_argument("--gain", type=float, metavar="G",
                    help="fixed gain for sigmoid/tanh (the resulting error bound is reported)")
     p.add_argument("--tolerance", type=float, metavar="EPS",
                    help="certified tolerance for sigmoid/tanh: every output within EPS of the "
-                   "truth table (default 0.01 when no --gain)")
-    p.add_argument("--encoding", choices=("binary", "bipolar"), default="binary",
+                   f"truth table (default {DEFAULT_TOLERANCE:g} when no --gain)")
+    p.add_argument("--encoding", choices=CHOICES["encoding"], default=_default("encoding"),
                    help="input/output encoding: 0/1 (binary) or -1/+1 (bipolar, for tanh)")
     p.add_argument("--no-synthesis", action="store_true",
                    help="map one construction per gate instead of collapsing cones")
-    p.add_argument("--cut-size", type=int, default=6, metavar="K",
-                   help="largest cut (cone inputs) the collapsing pass considers (default 6)")
-    p.add_argument("--max-fan-in", type=int, metavar="N", help="largest fan-in of a neuron")
-    p.add_argument("--max-weight", type=int, metavar="W", help="largest |weight| of a neuron")
-    p.add_argument("--simplify-support", type=int, default=6, metavar="N",
-                   help="simplify definitions reading at most N names with sympy (0: off; "
-                   "default 6)")
-    p.add_argument("--method", choices=("auto", "exhaustive", "local", "sat", "bounds"),
-                   default="auto", help="verification method (default auto)")
-    p.add_argument("--max-inputs", type=int, default=24, metavar="N",
-                   help="largest number of inputs checked exhaustively (default 24)")
-    p.add_argument("--time-limit", type=float, default=60.0, metavar="S",
-                   help="time budget of the SAT check in seconds (default 60)")
+    p.add_argument("--cut-size", type=int, default=_default("cut_size"), metavar="K",
+                   help="largest cut (cone inputs) the collapsing pass considers, 2 to 10 "
+                   f"(default {_default('cut_size')})")
+    p.add_argument("--max-fan-in", type=int, metavar="N",
+                   help="largest fan-in of a neuron (needs synthesis)")
+    p.add_argument("--max-weight", type=int, metavar="W",
+                   help="largest |weight| of a neuron (needs synthesis)")
+    p.add_argument("--simplify-support", type=int, default=_default("simplify_support"),
+                   metavar="N", help="simplify definitions reading at most N names with sympy "
+                   f"(0: off; default {_default('simplify_support')})")
+    p.add_argument("--method", choices=tuple(m for m in CHOICES["verify"] if m != "none"),
+                   default=_default("verify"),
+                   help=f"verification method (default {_default('verify')})")
+    p.add_argument("--max-inputs", type=int, default=_default("max_inputs"), metavar="N",
+                   help="largest number of inputs checked exhaustively "
+                   f"(default {_default('max_inputs')})")
+    p.add_argument("--time-limit", type=float, default=_default("time_limit"), metavar="S",
+                   help="time budget of the SAT check in seconds "
+                   f"(default {_default('time_limit'):g})")
     p.add_argument("--json", action="store_true", help="print the summary as JSON")
 
 
 def run(args: argparse.Namespace) -> int:
-    suffix = os.path.splitext(args.output)[1].lower()
-    if suffix not in SUFFIXES:
-        raise UsageError(
-            f"unknown output suffix {suffix or '(none)'!r} for {args.output}; "
-            f"supported: {', '.join(SUFFIXES)}"
-        )
+    suffix = check_suffix(args.output)  # before reading anything
     check_writable(args.output)
     result = compile_file(
         args.source,

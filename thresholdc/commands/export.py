@@ -3,12 +3,10 @@
 from __future__ import annotations
 
 import argparse
-import os
 import sys
 from typing import Any
 
-from ..errors import UsageError
-from ..export import SUFFIXES, load_any, save_any
+from ..export import check_suffix, load_any, save_any
 from ..network import load
 from .common import add_parser, print_json
 
@@ -36,10 +34,7 @@ def register(subparsers: Any) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    suffix = os.path.splitext(args.output)[1].lower()
-    if suffix not in SUFFIXES:  # checked before reading anything
-        raise UsageError(f"unknown output suffix {suffix or '(none)'!r}; "
-                         f"supported: {', '.join(SUFFIXES)}", file=args.output)
+    suffix = check_suffix(args.output)  # before reading anything
     like = load(args.like) if args.like else None
     net = load_any(args.network, like=like)
     save_any(net, args.output)

@@ -3,18 +3,14 @@
 from __future__ import annotations
 
 import argparse
-import os
 import sys
 from typing import Any
 
 from ..api import load
-from ..errors import UsageError
-from ..export import save_any
+from ..export import SUFFIXES, check_suffix, save_any
 from ..train import DEFAULT_LR, DEFAULTS, load_data, parse_label_specs, score, train
 from .common import add_parser, fmt_num, print_json
 from .score import add_data_arguments
-
-SUFFIXES = (".json", ".npz", ".onnx")
 
 
 def _anchor(text: str) -> float | str:
@@ -87,12 +83,7 @@ def register(subparsers: Any) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    suffix = os.path.splitext(args.output)[1].lower()
-    if suffix not in SUFFIXES:
-        raise UsageError(
-            f"unknown output suffix {suffix or '(none)'!r} for {args.output}; "
-            f"supported: {', '.join(SUFFIXES)}"
-        )
+    check_suffix(args.output)  # before reading anything
     like = load(args.like) if args.like else None
     net = load(args.network, like=like)
     labels = parse_label_specs(args.label)

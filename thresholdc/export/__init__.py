@@ -24,12 +24,13 @@ import os
 from typing import Any
 
 from ..errors import UsageError
+from ..extras import install_hint
 from ..ir.network import Network
 from ..network import load as load_network_file
 from ..network import save as save_network_file
 
 __all__ = [
-    "SUFFIXES", "save_any", "load_any", "load_dense",
+    "SUFFIXES", "check_suffix", "save_any", "load_any", "load_dense",
     "to_onnx", "save_onnx", "from_onnx", "load_onnx",
     "to_arrays", "save_npz", "load_npz",
     "to_torch", "from_torch", "Step",
@@ -46,7 +47,8 @@ _LAZY = {
     "to_arrays": ("npz", None), "save_npz": ("npz", None), "load_npz": ("npz", None),
     "to_torch": ("torch", "torch"), "from_torch": ("torch", "torch"), "Step": ("torch", "torch"),
     "dense_form": ("dense", None), "network_from_layers": ("dense", None),
-    "draw": ("drawing", "plot"),
+    "draw": ("drawing", "plot"), "render": ("drawing", "plot"), "figure": ("drawing", "plot"),
+    "MAX_DEPTH": ("drawing", "plot"),
 }
 _PACKAGES = {"onnx": "onnx", "torch": "torch", "plot": "matplotlib"}
 
@@ -60,7 +62,7 @@ def _module(name: str, extra: str | None, doing: str) -> Any:
             raise
         raise UsageError(
             f"{doing} needs the optional package {_PACKAGES[extra]!r} "
-            f"(pip install 'thresholdc[{extra}]')"
+            f"({install_hint(extra)})"
         ) from None
 
 
@@ -72,11 +74,24 @@ def __getattr__(name: str) -> Any:
     return getattr(_module(module, extra, name), name)
 
 
-def _suffix(path: str, kinds: tuple[str, ...], doing: str) -> str:
-    """The lower-case suffix of ``path``; UsageError listing ``kinds`` if it is none of them."""
+def check_suffix(path: str, kinds: tuple[str, ...] = SUFFIXES,
+                 doing: str = "to write a network") -> str:
+    """The lower-case suffix of ``path``; UsageError listing ``kinds`` if it is none of them.
+
+    The one place a network file's format is told from its name: :func:`save_any`,
+    :func:`load_any` and the commands that write networks call it before doing any work.
+
+    >>> check_suffix("net.ONNX")
+    '.onnx'
+    >>> check_suffix("net.txt")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    thresholdc.errors.UsageError: net.txt: unknown output suffix '.txt' to write a network; ...
+    """
     suffix = os.path.splitext(path)[1].lower()
     if suffix not in kinds:
-        shown = f"unknown suffix {suffix!r}" if suffix else "no suffix"
+        side = "output " if doing.startswith("to write") else ""
+        shown = f"unknown {side}suffix {suffix!r}" if suffix else "no suffix"
         raise UsageError(f"{shown} {doing}; supported: {', '.join(kinds)}", file=path)
     return suffix
 
@@ -100,9 +115,9 @@ def save_any(net: Network, path: str) -> None:
     >>> save_any(Network(("a",), (), (Output("a", "a"),)), "net.txt")  # doctest: +ELLIPSIS
     Traceback (most recent call last):
     ...
-    thresholdc.errors.UsageError: net.txt: unknown suffix '.txt' ...; supported: .json, .npz, .onnx
+    thresholdc.errors.UsageError: net.txt: unknown output suffix '.txt' ...; supported: ..., .onnx
     """
-    suffix = _suffix(path, SUFFIXES, "to write a network")
+    suffix = check_suffix(path, SUFFIXES, "to write a network")
     try:
         if suffix == ".json":
             save_network_file(net, path)
@@ -147,7 +162,7 @@ def load_dense(path: str, like: Network | None = None) -> Network:
     >>> [n.name for n in load_dense(path, like=net).neurons]
     ['n']
     """
-    suffix = _suffix(path, (".npz", ".onnx"), "to read a dense network from")
+    suffix = check_suffix(path, (".npz", ".onnx"), "to read a dense network from")
     if suffix == ".npz":
         return _module("npz", None, "reading .npz").load_npz(path, like)
     return _module("onnx_import", "onnx", "reading .onnx").load_onnx(path, like)
@@ -164,7 +179,7 @@ def load_any(path: str, like: Network | None = None) -> Network:
     ...
     thresholdc.errors.UsageError: net.csv: unknown suffix '.csv' ...; supported: .json, .npz, .onnx
     """
-    suffix = _suffix(path, SUFFIXES, "to read a network from")
+    suffix = check_suffix(path, SUFFIXES, "to read a network from")
     if suffix == ".json":
         return load_network_file(path)
     return load_dense(path, like)

@@ -272,9 +272,9 @@ def network_from_layers(
     plan: list[tuple[list[str], list[str], list[str | None]]] = []
     for k, (W, _, _) in enumerate(layers):
         n = W.shape[0]
-        given = _pick(ref, names, roles, origins, k, n, depth)
+        given = _pick(ref, names, roles, origins, k, n, depth)  # type: ignore[assignment]
         if given is not None and not (set(given[0]) & used) and len(set(given[0])) == n:
-            plan.append(given)
+            plan.append(given)  # type: ignore[arg-type]
             used.update(given[0])
         else:
             last = k == depth - 1

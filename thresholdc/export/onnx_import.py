@@ -199,7 +199,7 @@ class _Reader:
             raise self.fail(f"Sum node {node.name!r} must add Gemm or MatMul results")
         total = parts[0]
         for p in parts[1:]:
-            total = self.merge(node, total, p)
+            total = self.merge(node, total, p)  # type: ignore[arg-type]
         self.values[out] = total
 
     def merge(self, node: onnx.NodeProto, a: _Affine, b: _Affine) -> _Affine:

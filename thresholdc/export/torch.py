@@ -2,8 +2,11 @@
 
 :func:`to_torch` gives ``Linear, activation, Linear, activation, …`` for the dense layered form
 of :mod:`thresholdc.export.dense` (the last ``Linear`` has one row per output, in output order).
-A step is the small module :class:`Step` (``(x > 0)`` as float; ``±1`` in the bipolar encoding),
-which has no useful gradient: soften the network (``--activation sigmoid``) before training.
+A step is the small module :class:`Step` (``(x > 0)`` as float; ``±1`` in the bipolar encoding).
+Its forward pass is the exact step; its backward pass is a straight-through estimator (the
+gradient of the clipped identity: 1 where |x| ≤ 1, else 0), so ``loss.backward()`` works on a
+step network, but the gradient is a surrogate: for training, soften the network
+(``--activation sigmoid``), whose gradients are the true ones.
 :func:`from_torch` reads such a module back (``Linear`` followed by an activation module or by
 nothing, which is a linear layer) with the names of the compiled network it came from.
 
@@ -34,7 +37,16 @@ __all__ = ["Step", "to_torch", "from_torch"]
 
 
 class Step(nn.Module):
-    """The threshold activation: 1 where ``x > 0``, else 0 (or −1 when ``bipolar``)."""
+    """The threshold activation: 1 where ``x > 0``, else 0 (or −1 when ``bipolar``).
+
+    Forward: the exact step.  Backward: the straight-through estimator of the clipped
+    identity, d out / d x = 1 where |x| ≤ 1 and 0 elsewhere (in both encodings).
+
+    >>> x = torch.tensor([-2.0, -0.5, 0.5, 3.0], requires_grad=True)
+    >>> y = Step()(x); y.sum().backward()
+    >>> y.tolist(), x.grad.tolist()
+    ([0.0, 0.0, 1.0, 1.0], [0.0, 1.0, 1.0, 0.0])
+    """
 
     def __init__(self, bipolar: bool = False) -> None:
         super().__init__()
@@ -42,7 +54,11 @@ class Step(nn.Module):
 
     def forward(self, x: torch.Tensor) -> torch.Tensor:
         hi = (x > 0).to(x.dtype)
-        return 2.0 * hi - 1.0 if self.bipolar else hi
+        out = 2.0 * hi - 1.0 if self.bipolar else hi
+        if not x.requires_grad:
+            return out
+        surrogate = x.clamp(-1.0, 1.0)
+        return out + (surrogate - surrogate.detach())  # exact value, surrogate gradient
 
     def extra_repr(self) -> str:
         return "bipolar=True" if self.bipolar else ""

@@ -5,7 +5,8 @@
 - :mod:`~thresholdc.ir.network`: the Network of neurons, its structural checker, and the facts
   about its real-valued input units;
 - :mod:`~thresholdc.ir.activations`: the activation functions a neuron may use;
-- :mod:`~thresholdc.ir.reference`: the protocol of what a network is verified against.
+- :mod:`~thresholdc.ir.reference`: the protocol of what a network is verified against;
+- :mod:`~thresholdc.ir.options`: the options of a compile, validated once.
 
 Nothing here imports a stage package (syntax, logic, network, synth, verify, export, train).
 
@@ -27,6 +28,7 @@ from .network import (
     real_margins,
     real_units,
 )
+from .options import CompileOptions
 from .program import Program
 from .reference import Reference
 
@@ -35,6 +37,7 @@ __all__ = [
     "GATE_OPS", "Gate", "GateGraph",
     "DEFAULT_SCALE", "ENCODINGS", "ROLES", "Network", "Neuron", "Output", "check_network",
     "real_margins", "real_units",
+    "CompileOptions",
     "Program",
     "Reference",
 ]

@@ -213,4 +213,4 @@ def _gate_value(g: Gate, args: list[np.ndarray], rows: int) -> np.ndarray:
     s = np.zeros(rows, dtype=np.int64)
     for w, a in zip(g.weights or (), args):
         s += w * a
-    return s >= g.threshold if op == "threshold" else s == g.threshold
+    return s >= g.threshold if op == "threshold" else s == g.threshold  # type: ignore[operator]

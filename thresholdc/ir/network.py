@@ -77,6 +77,11 @@ class Output:
         return self.name if self.name == self.source else f"{self.name}<-{self.source}"
 
 
+#: Notebook renderers by name (``network_html``, ``network_svg``, ``report_html``), registered
+#: by :mod:`thresholdc.htmlreport` when the package is imported (ir imports nothing above it).
+DISPLAY: dict[str, Any] = {}
+
+
 @dataclass(frozen=True)
 class Network:
     """A compiled network; immutable (passes return new networks).
@@ -258,7 +263,7 @@ class Network:
         plan = []
         for L in sorted(by_layer):
             idx = np.array(by_layer[L], dtype=np.int64)
-            rows_, cols_, vals_ = [], [], []
+            rows_, cols_, vals_ = [], [], []  # type: ignore[var-annotated]
             for r, j in enumerate(idx):
                 n = self.neurons[j]
                 rows_.extend([r] * len(n.inputs))
@@ -313,6 +318,16 @@ class Network:
             f"Network(inputs={len(self.inputs)}, neurons={len(self.neurons)}, "
             f"outputs={len(self.outputs)}, depth={self.depth})"
         )
+
+    def _repr_html_(self) -> str | None:
+        """Notebook display: a summary card and the drawing (registered in ``DISPLAY``)."""
+        show = DISPLAY.get("network_html")
+        return show(self) if show else None
+
+    def _repr_svg_(self) -> str | None:
+        """Notebook display: the drawing as SVG (None without matplotlib)."""
+        show = DISPLAY.get("network_svg")
+        return show(self) if show else None
 
 
 # ---------------------------------------------------------------- structural checks

@@ -42,6 +42,7 @@ __all__ = [
     "CALLS",
     "COMPARE_OPS",
     "sub_expressions",
+    "unknown_function",
 ]
 
 BINARY_OPS = ("and", "or", "xor", "implies", "iff")
@@ -198,6 +199,17 @@ def sub_expressions(node: Expr) -> tuple[Expr, ...]:
     if isinstance(node, Compare):
         return tuple(t.operand for t in node.terms)
     return ()
+
+
+def unknown_function(func: str) -> ValueError:
+    """The error every evaluator raises for a call of a function the rule language lacks.
+
+    The parser never builds one; a hand-built program might, and no evaluator guesses.
+
+    >>> str(unknown_function("median"))  # doctest: +ELLIPSIS
+    "unknown function 'median'; the rule language has atleast, atmost, ..., parity"
+    """
+    return ValueError(f"unknown function {func!r}; the rule language has {', '.join(CALLS)}")
 
 
 @dataclass(frozen=True, slots=True)

@@ -18,6 +18,7 @@ from .source import (
     read_source_text,
     source_from_text,
 )
+from .support import network_support, source_support, unused_inputs
 from .typed import (
     decode_units,
     evaluate_units,
@@ -34,4 +35,5 @@ __all__ = [
     "source_from_text",
     "decode_units", "evaluate_units", "feature_scale", "network_features", "real_thresholds",
     "strict_real_test",
+    "network_support", "source_support", "unused_inputs",
 ]

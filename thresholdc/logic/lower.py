@@ -150,7 +150,7 @@ class _Lowerer:
             return self.emit(Gate("xor", args, span=e.span))
         if e.func in ("nand", "nor"):
             return self.emit(Gate(e.func, args, span=e.span))
-        raise AssertionError(f"unknown call {e.func}")
+        raise ast.unknown_function(e.func)
 
     def _compare(self, e: ast.Compare, sigs: list[str]) -> str:
         coef: dict[str, int] = {}
@@ -309,7 +309,7 @@ def _from_sympy(e: boolalg.Boolean) -> ast.Expr:
     if isinstance(e, boolalg.Equivalent):
         return ast.BinOp("iff", args[0], args[1])
     if isinstance(e, boolalg.ITE):
-        return ast.Ite(*args)
+        return ast.Ite(*args)  # type: ignore[arg-type]
     if isinstance(e, boolalg.Implies):
         return ast.BinOp("implies", args[0], args[1])
     raise AssertionError(f"unexpected sympy node {type(e).__name__}")

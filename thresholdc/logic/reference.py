@@ -33,6 +33,7 @@ from ..ir.program import (
     Program,
     RealTest,
     sub_expressions,
+    unknown_function,
 )
 
 __all__ = ["evaluate", "evaluate_columns"]
@@ -160,7 +161,6 @@ def _run(program: Program, env: dict[str, np.ndarray], rows: int) -> dict[str, n
     return env
 
 
-_children = sub_expressions
 
 
 def _evaluate_expr(
@@ -172,14 +172,14 @@ def _evaluate_expr(
     while stack:
         node, expanded = stack.pop()
         if not expanded:
-            kids = _children(node)
+            kids = sub_expressions(node)
             if kids:
                 stack.append((node, True))
                 stack.extend((k, False) for k in reversed(kids))
             else:
                 results.append(_leaf(node, env, rows, categories))
             continue
-        n = len(_children(node))
+        n = len(sub_expressions(node))
         args = results[len(results) - n :]
         del results[len(results) - n :]
         results.append(_combine(node, args))
@@ -252,7 +252,9 @@ def _combine(node: Expr, args: list[np.ndarray]) -> np.ndarray:
             return count < n
         if func == "nor":
             return count == 0
-        return count % 2 == 1  # parity
+        if func == "parity":
+            return count % 2 == 1
+        raise unknown_function(func)
     assert isinstance(node, Compare)
     # Exact integer sums: int64 while no sum can leave its range, else Python integers.
     bound = sum(abs(t.coef) for t in node.terms)

@@ -138,7 +138,7 @@ class NetlistSource:
         return self.netlist.simulate(np.asarray(X))
 
 
-def source_from_text(text: str, file: str = "<input>", kind: str | None = None) -> Reference:
+def source_from_text(text: str, file: str = "<rules>", kind: str | None = None) -> Reference:
     """Parse ``text`` as a rule file or a netlist; ``kind`` defaults from ``file``'s suffix.
 
     >>> source_from_text("INPUT(a)\\nOUTPUT(y)\\ny = NOT(a)\\n", "n.bench").kind

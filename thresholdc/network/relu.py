@@ -116,9 +116,9 @@ def to_relu(net: Network, *, layered: bool = False) -> Network:
     outputs = []
     for o in net.outputs:
         if o.source in pairs and o.source not in out_unit:
-            pos, neg = pairs[o.source]
+            pos, neg = pairs[o.source]  # type: ignore[assignment]
             name = fresh_name(f"{o.source}~out", taken)
-            units.append(Neuron(name, layer[pos] + 1, (pos, neg), (1.0, -1.0), 0.0, "linear",
+            units.append(Neuron(name, layer[pos] + 1, (pos, neg), (1.0, -1.0), 0.0, "linear",  # type: ignore[arg-type, index]
                                 "gate", origin[o.source]))
             out_unit[o.source] = name
         outputs.append(Output(o.name, out_unit.get(o.source, o.source)))

@@ -14,8 +14,8 @@ from its exact step value on every input assignment::
 
 ``m`` is the pre-gain margin (min |z| over every assignment of the input units; 0.5 when they
 are too many to enumerate), ``g`` the gain folded into the neuron, ``b`` its certified
-deviation and ``B`` the largest ``b``.  :func:`thresholdc.verify.certificate.check_certificate`
-checks it.
+deviation and ``B`` the largest ``b``.
+:func:`thresholdc.verification.certificate.check_certificate` checks it.
 
 >>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5, origin="y"),),
@@ -37,6 +37,7 @@ import numpy as np
 
 from ..errors import UsageError
 from ..ir.network import Network, real_margins, real_units
+from ..ir.options import CHOICES, DEFAULT_TOLERANCE, CompileOptions
 from ..progress import bar as progress_bar
 from .layering import insert_relays
 from .relu import to_relu
@@ -56,9 +57,8 @@ __all__ = [
     "deviation",
 ]
 
-ACTIVATION_CHOICES = ("step", "sigmoid", "tanh", "relu")
-ENCODING_CHOICES = ("binary", "bipolar")
-DEFAULT_TOLERANCE = 0.01
+ACTIVATION_CHOICES = CHOICES["activation"]
+ENCODING_CHOICES = CHOICES["encoding"]
 MAX_MARGIN_INPUTS = 20
 GAIN_DIGITS = 6  # gains are rounded up to this many significant digits
 BOUND_DIGITS = 10  # bounds are rounded up to this many significant digits
@@ -69,36 +69,9 @@ _CHUNK_CELLS = 1 << 23  # rows × units evaluated at once while enumerating marg
 def _check_options(
     activation: str, gain: float | None, tolerance: float | None, encoding: str
 ) -> None:
-    """Raise UsageError for a combination of options that does not fit together."""
-    if activation not in ACTIVATION_CHOICES:
-        raise UsageError(
-            f"unknown activation {activation!r}; choose one of {', '.join(ACTIVATION_CHOICES)}"
-        )
-    if encoding not in ENCODING_CHOICES:
-        raise UsageError(
-            f"unknown encoding {encoding!r}; choose one of {', '.join(ENCODING_CHOICES)}"
-        )
-    if activation == "tanh" and encoding != "bipolar":
-        raise UsageError("--activation tanh requires --encoding bipolar")
-    if encoding == "bipolar" and activation not in ("tanh", "step"):
-        raise UsageError(
-            f"--encoding bipolar works with --activation tanh or step, not {activation}"
-        )
-    if activation in ("step", "relu"):
-        if gain is not None:
-            raise UsageError(f"--gain applies to sigmoid and tanh, not to {activation}")
-        if tolerance is not None:
-            raise UsageError(f"--tolerance applies to sigmoid and tanh, not to {activation}")
-        return
-    if gain is not None and tolerance is not None:
-        raise UsageError("give either --gain or --tolerance, not both")
-    if gain is not None and not (isinstance(gain, (int, float)) and math.isfinite(gain)
-                                 and gain > 0):
-        raise UsageError(f"--gain must be a positive number, got {gain!r}")
-    if tolerance is not None and not (
-        isinstance(tolerance, (int, float)) and 0 < tolerance < 0.5
-    ):
-        raise UsageError(f"--tolerance must be between 0 and 0.5 (exclusive), got {tolerance!r}")
+    """Raise UsageError for values or a combination that does not fit together (the checks of
+    :class:`~thresholdc.ir.options.CompileOptions`)."""
+    CompileOptions(activation=activation, gain=gain, tolerance=tolerance, encoding=encoding)
 
 
 def _check_step_network(net: Network) -> None:
@@ -176,7 +149,7 @@ def apply_activation(
     >>> apply_activation(net, activation="tanh")
     Traceback (most recent call last):
     ...
-    thresholdc.errors.UsageError: <input>: --activation tanh requires --encoding bipolar
+    thresholdc.errors.UsageError: --activation tanh requires --encoding bipolar
     """
     _check_options(activation, gain, tolerance, encoding)
     _check_step_network(net)
@@ -478,7 +451,7 @@ def certify_gains(
             assert room > 0, "budgets keep every margin half free"
             g = _ceil_sig(_gain_numerator(float(budget[j]), activation) / room, GAIN_DIGITS)
         else:
-            g = float(gain)
+            g = float(gain)  # type: ignore[arg-type]
         gains[j] = g
         bounds[j] = _ceil_sig(deviation(g * room, activation), BOUND_DIGITS)
     neurons = tuple(

@@ -33,6 +33,7 @@ from ..ir.program import (
     Term,
     sub_expressions,
 )
+from .lexer import KEYWORDS
 from .transform import Number, PendingCompare, PendingIn, Value, error_at
 
 __all__ = ["check_program"]
@@ -143,12 +144,11 @@ def _collect_outputs(
 # ---- names and types inside expressions ----------------------------------------------------
 
 
-_children = sub_expressions
 
 
 def _rebuild(node: Expr, kids: list) -> Expr:
     """``node`` with new children (the node itself when none changed)."""
-    old = _children(node)
+    old = sub_expressions(node)
     if all(a is b for a, b in zip(old, kids, strict=True)):
         return node
     if isinstance(node, BinOp):
@@ -178,7 +178,7 @@ def _resolve(
     while stack:
         node, expanded = stack.pop()
         if expanded:
-            n = len(_children(node))
+            n = len(sub_expressions(node))
             kids = results[len(results) - n :]
             del results[len(results) - n :]
             results.append(_rebuild(node, kids))
@@ -191,7 +191,7 @@ def _resolve(
         elif isinstance(node, PendingIn):
             results.append(_resolve_in(node, kinds, defs))
         else:
-            kids = _children(node)
+            kids = sub_expressions(node)  # type: ignore[assignment]
             if not kids:
                 results.append(node)
                 continue
@@ -210,7 +210,7 @@ def _check_boolean_name(
         if var.kind == "categorical":
             raise error_at(
                 f"categorical input '{name.id}' can only be tested, as in "
-                f"'{name.id} == {var.values[0]}' or '{name.id} in {{…}}'",
+                f"'{name.id} == {var.values[0]}' or '{name.id} in {{…}}'",  # type: ignore[index]
                 name.span,
             )
         if var.kind == "real":
@@ -221,7 +221,7 @@ def _check_boolean_name(
             )
         return
     if name.id not in defs:
-        raise error_at(f"unknown name '{name.id}'", name.span)
+        raise error_at(f"unknown name '{name.id}'{_name_hint(name.id)}", name.span)
     used.setdefault(name.id, None)
 
 
@@ -374,3 +374,17 @@ def _topological(outputs: tuple[str, ...], deps: dict[str, list[str]]) -> tuple[
                 stack.pop()
                 order.append(node)
     return tuple(order)
+
+
+def _name_hint(name: str) -> str:
+    """A hint for a name that is a keyword or constant written in another case.
+
+    >>> _name_hint("True"), _name_hint("AND"), _name_hint("tank")
+    (": the constants are written 'true' and 'false'", ": keywords are lower case: write 'and'", '')
+    """
+    low = name.lower()
+    if low in ("true", "false"):
+        return ": the constants are written 'true' and 'false'"
+    if low in KEYWORDS:
+        return f": keywords are lower case: write '{low}'"
+    return ""

@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import re
 import threading
+import unicodedata
 from collections.abc import Iterator
 
 from lark import Token
@@ -104,6 +105,31 @@ def last_tokens() -> list[Token]:
     return getattr(_STATE, "history", [])
 
 
+def non_ascii_hint(text: str, at: int) -> str:
+    """The hint for a non-ASCII letter at offset ``at``: names are ASCII, with the word's
+    accent-free spelling when it has one.
+
+    >>> non_ascii_hint("y = café and b", 7)
+    ": names use only ASCII letters, digits and '_' (write 'cafe' for 'café')"
+    """
+    start = end = at
+    while start > 0 and (text[start - 1].isalnum() or text[start - 1] == "_"):
+        start -= 1
+    while end < len(text) and (text[end].isalnum() or text[end] == "_"):
+        end += 1
+    word = text[start:end]
+    plain = "".join(c for c in unicodedata.normalize("NFKD", word) if c.isascii())
+    hint = ": names use only ASCII letters, digits and '_'"
+    if plain and (plain[0].isalpha() or plain[0] == "_") and plain != word:
+        hint += f" (write '{plain}' for '{word}')"
+    return hint
+
+
+def lexed_text() -> str:
+    """The text the lexer last read in this thread (for hints that look at the next line)."""
+    return getattr(_STATE, "text", "")
+
+
 def open_brackets() -> list[Token]:
     """The brackets opened and not closed when lexing stopped in this thread."""
     return getattr(_STATE, "open", [])
@@ -123,6 +149,7 @@ class RuleLexer(Lexer):
         opened: list[Token] = []
         _STATE.history = history
         _STATE.open = opened
+        _STATE.text = text
         line, line_start = 1, 0
         prev_type = ""
         for m in _TOKEN_RE.finditer(text):
@@ -147,8 +174,11 @@ class RuleLexer(Lexer):
                 kind = _SYMBOLS[value]
             elif kind == "BAD":
                 shown = value if value.isprintable() else repr(value)[1:-1]
-                raise RuleError(f"unexpected character '{shown}'", line=line, column=column)
-            tok = Token(kind, value, start, tok_line, column, tok_line, column + len(value), end)
+                message = f"unexpected character '{shown}'"
+                if value.isalpha() and not value.isascii():
+                    message += non_ascii_hint(text, start)
+                raise RuleError(message, line=line, column=column)
+            tok = Token(kind, value, start, tok_line, column, tok_line, column + len(value), end)  # type: ignore[arg-type]
             if kind in _OPEN:
                 opened.append(tok)
             elif kind in _CLOSE and opened:
@@ -156,5 +186,5 @@ class RuleLexer(Lexer):
             history.append(tok)
             if len(history) > 8:
                 del history[0]
-            prev_type = kind
+            prev_type = kind  # type: ignore[assignment]
             yield tok

@@ -9,6 +9,7 @@ column and source line; lark's own exceptions never escape.
 from __future__ import annotations
 
 import gc
+import re
 from functools import lru_cache
 from importlib import resources
 
@@ -18,7 +19,7 @@ from lark.exceptions import UnexpectedCharacters, UnexpectedInput, UnexpectedTok
 from ..errors import RuleError, Span
 from ..ir.program import Program
 from .checks import check_program
-from .lexer import KEYWORDS, RuleLexer, last_tokens, open_brackets
+from .lexer import KEYWORDS, RuleLexer, last_tokens, lexed_text, open_brackets
 from .transform import RuleBuilder
 
 __all__ = ["parse", "KEYWORDS"]
@@ -51,7 +52,7 @@ def _parser() -> Lark:
     )
 
 
-def parse(text: str, file: str = "<input>") -> Program:
+def parse(text: str, file: str = "<rules>") -> Program:
     """Parse and check a rule file.
 
     Parameters
@@ -88,7 +89,7 @@ def parse(text: str, file: str = "<input>") -> Program:
     gc.disable()
     try:
         statements = _parser().parse(text + "\n")
-        return check_program(statements, text, file)
+        return check_program(statements, text, file)  # type: ignore[arg-type]
     except RuleError as err:
         raise _located(err, file, text) from None
     except UnexpectedInput as err:
@@ -138,6 +139,9 @@ def _syntax_error(err: UnexpectedInput) -> RuleError:
         func = history[-3].value
         return _at(f"{func} needs the integer k as its first argument, found {_show(tok)}", tok)
     message = _message(tok, expected, prev)
+    hint = _hint(tok, prev, expected)
+    if hint:
+        return _at(f"{message}: {hint}", tok, fallback=prev)
     if tok.type == "CMP" and "CMP" not in expected:
         message += (
             ": a comparison has the weighted sum on its left and an integer on its right, "
@@ -155,6 +159,42 @@ def _syntax_error(err: UnexpectedInput) -> RuleError:
             "majority, nand, nor and parity"
         )
     return _at(message, tok, fallback=prev)
+
+
+#: Spellings from other languages and what this language writes instead.
+_FOREIGN = {"&&": "and", "||": "or", "&": "and", "|": "or"}
+
+
+def _hint(tok: Token, prev: Token | None, expected: set[str]) -> str:
+    """A hint for common mistakes carried over from other languages, or ``""``."""
+    is_expr = "NOT_KW" in expected
+    if tok.type == "NAME" and tok.value.lower() in KEYWORDS and tok.value != tok.value.lower():
+        return f"keywords are lower case: write '{tok.value.lower()}'"
+    if prev is not None and prev.type == "NAME" and tok.type == "NAME" and (
+            prev.value.lower() in KEYWORDS and prev.value != prev.value.lower()):
+        return f"keywords are lower case: write '{prev.value.lower()}'"
+    if tok.type == "EQUAL" and prev is not None and prev.type != "_NL":
+        return ("'=' defines a name at the start of a statement; to say that two Boolean "
+                "values are equal write 'a <-> b'")
+    if prev is not None and str(tok.value) in ("&", "|") and str(prev.value) == str(tok.value):
+        doubled = str(prev.value) * 2
+        return f"'{doubled}' is written '{_FOREIGN[doubled]}' (or a single '{tok.value}')"
+    if tok.type == "_NL" and is_expr and prev is not None and _continues(tok.line):
+        return ("a statement continues on the next line only while a bracket is open: put "
+                "the right-hand side in brackets, as in 'y = (a and' … 'b)'")
+    return ""
+
+
+def _continues(line: int) -> bool:
+    """True when the line after ``line`` looks like the rest of a statement (not blank, not a
+    new statement), so a missing bracket is the likely mistake."""
+    lines = lexed_text().split("\n")
+    if line >= len(lines):
+        return False
+    nxt = lines[line].split("#", 1)[0]
+    if not nxt.strip():
+        return False
+    return not re.match(r"\s*(input\b|output\b|[A-Za-z_]\w*\s*=(?!=))", nxt)
 
 
 def _acceptable(err: UnexpectedToken) -> set[str]:
@@ -175,7 +215,7 @@ def _at(message: str, tok: Token, fallback: Token | None = None) -> RuleError:
     where = tok if getattr(tok, "line", None) is not None else fallback
     if where is None or getattr(where, "line", None) is None:
         return RuleError(message)
-    span = Span(where.line, where.column)
+    span = Span(where.line, where.column)  # type: ignore[arg-type]
     return RuleError(message, line=span.line, column=span.column)
 
 

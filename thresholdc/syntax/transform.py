@@ -61,7 +61,7 @@ _BINARY = {
 def span_of(item: object) -> Span:
     """The span of a token or AST node."""
     if isinstance(item, Token):
-        return Span(item.line, item.column, item.end_line, item.end_column)
+        return Span(item.line, item.column, item.end_line, item.end_column)  # type: ignore[arg-type]
     return item.span  # type: ignore[attr-defined]
 
 
@@ -329,7 +329,7 @@ class RuleBuilder(Transformer):
             )
         first_span = terms[0][2]
         if len(terms) == 1 and not terms[0][3] and isinstance(terms[0][1], Name):
-            return PendingCompare(terms[0][1], str(op), rhs, span_of(op), first_span)
+            return PendingCompare(terms[0][1], str(op), rhs, span_of(op), first_span)  # type: ignore[return-value]
         if isinstance(rhs, Value):
             raise error_at(
                 f"the right side of a weighted comparison must be an integer, found '{rhs.text}'",

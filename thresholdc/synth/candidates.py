@@ -231,8 +231,8 @@ def _gate_gadget(h: Hashed, v: int, lits: tuple[int, ...], limits: Limits) -> Ga
         return None if g is None else _polarise(g, neg)
     if op in ("thr", "eq"):
         ws = h.weights[v] or ()
-        g = (gadgets.threshold(ws, h.threshold[v]) if op == "thr"
-             else gadgets.equal(ws, h.threshold[v]))
+        g = (gadgets.threshold(ws, h.threshold[v]) if op == "thr"  # type: ignore[arg-type]
+             else gadgets.equal(ws, h.threshold[v]))  # type: ignore[arg-type]
         g = _polarise(g, neg)
         if limits.fits(g):
             return g
@@ -245,8 +245,8 @@ def _gate_gadget(h: Hashed, v: int, lits: tuple[int, ...], limits: Limits) -> Ga
         T = h.threshold[v]
         for w, x in zip(ws, neg):
             signed.append(-w if x else w)
-            T -= w if x else 0
-        return gadgets.limited_threshold(tuple(signed), T, F, W, equal=op == "eq")
+            T -= w if x else 0  # type: ignore[operator]
+        return gadgets.limited_threshold(tuple(signed), T, F, W, equal=op == "eq")  # type: ignore[arg-type]
     if op == "ite":
         for g in (gadgets.ite(None), gadgets.ite(2)):
             g = _polarise(g, neg)

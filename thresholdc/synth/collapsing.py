@@ -23,9 +23,9 @@ inside its cone.  ``meta["cones"]`` gives, for each neuron named after a signal,
 signal it computes and the leaves (signals carried by input units or named neurons) over which
 its sub-network is closed: evaluating the network from those leaves alone gives that neuron.
 Structural hashing merges only signals of one structural class of the local check
-(:func:`thresholdc.verify.local.structural_classes`), so a leaf or root may be any signal of
-its class, and a unit may be named after a signal of the other polarity of its class (an
-output that reads the node only complemented then needs no inverter).
+(:func:`thresholdc.verification.structural.structural_classes`), so a leaf or root may be
+any signal of its class, and a unit may be named after a signal of the other polarity of its
+class (an output that reads the node only complemented then needs no inverter).
 
 >>> from thresholdc.ir.gates import Gate, GateGraph
 >>> g = GateGraph.build(["a", "b", "c"], [("s", "s"), ("co", "co")], [
@@ -40,10 +40,11 @@ output that reads the node only complemented then needs no inverter).
 from __future__ import annotations
 
 import heapq
+from typing import Any
 
-from ..errors import UsageError
 from ..ir.gates import GateGraph
 from ..ir.network import Network, Neuron, Output
+from ..ir.options import CompileOptions
 from ..network import assign_layers, fresh_name
 from . import candidates, cuts
 from .cover import Cover
@@ -57,27 +58,10 @@ __all__ = ["collapse", "SUPPORT_LIMIT"]
 SUPPORT_LIMIT = 10
 
 
-def _check_options(cut_size: object, max_fan_in: object, max_weight: object) -> None:
-    """Refuse option values outside their ranges (one clear message each)."""
-    if not isinstance(cut_size, int) or isinstance(cut_size, bool) or not 2 <= cut_size <= 10:
-        raise UsageError(
-            f"The 'cut_size' option of collapse must be an integer from 2 to 10. "
-            f"Got {cut_size!r} instead."
-        )
-    if max_fan_in is not None and (
-        not isinstance(max_fan_in, int) or isinstance(max_fan_in, bool) or max_fan_in < 2
-    ):
-        raise UsageError(
-            f"The 'max_fan_in' option of collapse must be an integer of at least 2 or None. "
-            f"Got {max_fan_in!r} instead."
-        )
-    if max_weight is not None and (
-        not isinstance(max_weight, int) or isinstance(max_weight, bool) or max_weight < 1
-    ):
-        raise UsageError(
-            f"The 'max_weight' option of collapse must be an integer of at least 1 or None. "
-            f"Got {max_weight!r} instead."
-        )
+def _check_options(cut_size: Any, max_fan_in: Any, max_weight: Any) -> None:
+    """Refuse option values outside their ranges (the checks of
+    :class:`~thresholdc.ir.options.CompileOptions`)."""
+    CompileOptions(cut_size=cut_size, max_fan_in=max_fan_in, max_weight=max_weight)
 
 
 def collapse(
@@ -180,7 +164,7 @@ def _unit_names(gates: GateGraph, h: Hashed, needed: list[int]
     name: dict[int, str] = {}
     pol: dict[int, int] = {}
     for x in h.inputs:
-        name[x], pol[x] = h.rep[x], 0
+        name[x], pol[x] = h.rep[x], 0  # type: ignore[assignment]
     for v in needed:
         rep, rp = h.rep[v], h.rep_neg[v]
         w = want.get(v, {})
@@ -188,7 +172,7 @@ def _unit_names(gates: GateGraph, h: Hashed, needed: list[int]
             p = min(w)
             name[v], pol[v] = w[p], p
         else:
-            name[v], pol[v] = rep, rp
+            name[v], pol[v] = rep, rp  # type: ignore[assignment]
     return name, pol
 
 
@@ -389,6 +373,6 @@ def _outputs(gates: GateGraph, h: Hashed, chosen: dict[int, candidates.Option],
                 src = by_name[uname[x]]
                 extra.append(Neuron(sig, 0, src.inputs, tuple(-w for w in src.weights),
                                     -src.bias, "step", "gate", origin))
-                cones[sig] = {"root": sig, "leaves": list(cones[uname[x]]["leaves"])}
+                cones[sig] = {"root": sig, "leaves": list(cones[uname[x]]["leaves"])}  # type: ignore[call-overload]
         outputs.append(Output(name, sig))
     return outputs, extra

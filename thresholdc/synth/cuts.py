@@ -78,7 +78,7 @@ def _local(h: Hashed, v: int) -> int:
     out = 0
     for r in range(1 << k):
         s = sum(w for i, w in enumerate(ws) if (r >> i) & 1)
-        if (s >= T) if h.op[v] == "thr" else (s == T):
+        if (s >= T) if h.op[v] == "thr" else (s == T):  # type: ignore[operator]
             out |= 1 << r
     return out
 
@@ -229,16 +229,16 @@ def support_cuts(h: Hashed, k: int, support_limit: int, *, cone_limit: int = 400
         for lit in h.fanins[v] + tuple(2 * x for x in h.ghost.get(v, ())):
             t = sup[lit >> 1]
             if t is None:
-                s = None
+                s = None  # type: ignore[assignment]
                 break
             s |= t
         if s is not None and (s.bit_count() > support_limit or op == "real"):
-            s = None
+            s = None  # type: ignore[assignment]
         sup[v] = s
     out: dict[int, Cut] = {}
     local: dict[int, int] = {}
     for v in range(1, N):
-        s = sup[v]
+        s = sup[v]  # type: ignore[assignment]
         if s is None or h.op[v] in ("input", "real") or s.bit_count() <= k:
             continue
         # the cone of v down to its inputs, in increasing node order (topological)

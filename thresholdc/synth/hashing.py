@@ -4,7 +4,7 @@ Rules
     * A *literal* is ``2·node + negated``; node 0 is the constant 0, so literal 0 is false and
       literal 1 is true.  ``not`` and ``buf`` gates make no node: they change the literal.
     * Which signals share a node is decided by structural classes that refine those of the
-      local check (:func:`thresholdc.verify.local.structural_classes`; its core rules are
+      local check (:func:`thresholdc.verification.structural.structural_classes`; its core rules are
       restated here so synthesis needs no verifier): ``buf`` is its argument, ``not`` flips,
       ``or``/``nand``/``nor`` are (negated) ``and`` of (negated) arguments, xor/xnor fold
       argument negations and cancel pairs, threshold/equal gates fold negated arguments,
@@ -235,8 +235,8 @@ def _ite(h: Hashed, c: int, t: int, e: int) -> int:
 
 def _classes(gates: GateGraph) -> tuple[dict[str, tuple[int, bool]], int | None]:
     """The structural class ``(id, negated)`` of every signal (the core rules of
-    :func:`thresholdc.verify.local.structural_classes`, without its constant folding), and the
-    id of the constant class (true when not negated)."""
+    :func:`thresholdc.verification.structural.structural_classes`, without its constant
+    folding), and the id of the constant class (true when not negated)."""
     table: dict[tuple, int] = {}
     cls: dict[str, tuple[int, bool]] = {}
 
@@ -284,9 +284,9 @@ def _classes(gates: GateGraph) -> tuple[dict[str, tuple[int, bool]], int | None]
             terms = tuple(sorted((i, w) for i, w in coef.items() if w))
             cls[name] = (cid((op, terms, t)), False)
         elif op == "ite":
-            c, t, e = args
+            c, t, e = args  # type: ignore[assignment]
             if c[1]:
-                t, e = e, t
+                t, e = e, t  # type: ignore[assignment]
             cls[name] = (cid(("ite", c[0], t, e)), False)
         else:
             cls[name] = (cid(("opaque", name)), False)

@@ -187,10 +187,10 @@ class _Mapper:
         if T < lo or T > hi:
             return (None, False)
         if T == hi:
-            return self.threshold(sig, plain, T, origin, signal=sig)
+            return self.threshold(sig, plain, T, origin, signal=sig)  # type: ignore[arg-type]
         if T == lo:
             return self.threshold(sig, [(lit, -w) for lit, w in plain], -T, origin, signal=sig)
-        above = self.threshold(None, plain, T + 1, origin, signal=sig)
+        above = self.threshold(None, plain, T + 1, origin, signal=sig)  # type: ignore[arg-type]
         return self.threshold(sig, plain + [(above, -(hi - T + 1))], T, origin, signal=sig)
 
     def ite(self, sig: str, args: list[Lit], origin: str | None) -> Lit:

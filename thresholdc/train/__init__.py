@@ -16,7 +16,7 @@
 from .data import Dataset, Table, load_data, parse_label_specs, read_table
 from .fit import DEFAULT_LR, DEFAULTS, TrainResult, train
 from .loop import Epoch
-from .scoring import score
+from .scoring import decisions, score
 from .warmstart import prepare_start
 
 __all__ = [
@@ -25,6 +25,7 @@ __all__ = [
     "Dataset",
     "Epoch",
     "Table",
+    "decisions",
     "TrainResult",
     "load_data",
     "parse_label_specs",

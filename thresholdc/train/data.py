@@ -171,6 +171,29 @@ def read_table(path: str) -> Table:
     return Table(path, names, cells, np.asarray(lines, dtype=np.int64), digest)
 
 
+def _header_hint(table: Table, missing: Sequence[str]) -> str:
+    """Why expected columns may be missing: another delimiter, or a name in another case.
+
+    >>> t = Table("t.csv", ("a;b;y",), np.array([["1;0;1"]]), np.array([2]))
+    >>> _header_hint(t, ["a"])
+    "; the header looks separated by ';': data files are comma-separated (write 'a,b,y')"
+    >>> _header_hint(Table("t.csv", ("Soil_Dry",), np.array([["1"]]), np.array([2])), ["soil_dry"])
+    "; column 'Soil_Dry' differs from 'soil_dry' only in case (names must match exactly)"
+    """
+    for sep in (";", "\t", "|"):
+        if len(table.header) == 1 and sep in table.header[0]:
+            shown = "tab" if sep == "\t" else repr(sep)
+            fixed = ",".join(part.strip() for part in table.header[0].split(sep))
+            return (f"; the header looks separated by {shown}: data files are comma-separated "
+                    f"(write '{fixed}')")
+    lower = {h.lower(): h for h in table.header}
+    hints = [f"column {lower[m.lower()]!r} differs from {m!r} only in case" for m in missing
+             if m.lower() in lower]
+    if hints:
+        return "; " + "; ".join(hints) + " (names must match exactly)"
+    return ""
+
+
 # --------------------------------------------------------------------------- features
 def features_of(network: Any) -> list[dict[str, Any]]:
     """The network's features; without ``features`` every input unit is a Boolean feature.
@@ -260,7 +283,7 @@ def encode_features(table: Table, network: Any) -> np.ndarray:
         plural = "s" if len(missing) > 1 else ""
         raise table.fail(
             f"missing column{plural} {names} for the network's input{plural}"
-            f" (columns: {', '.join(table.header)})"
+            f" (columns: {', '.join(table.header)}){_header_hint(table, missing)}"
         )
     for f in feats:
         cells = table.column(f["name"])
@@ -322,7 +345,7 @@ def resolve_labels(
         if column not in table.header:
             raise table.fail(
                 f"missing label column {column!r} for output {out!r}"
-                f" (columns: {', '.join(table.header)})"
+                f" (columns: {', '.join(table.header)}){_header_hint(table, [column])}"
             )
         pairs.append((out, column))
     return pairs

@@ -128,7 +128,7 @@ def check_options(**options: Any) -> dict[str, Any]:
     >>> check_options(validation=1.5)  # doctest: +ELLIPSIS
     Traceback (most recent call last):
     ...
-    thresholdc.errors.UsageError: <input>: the 'validation' option of train must be a ...
+    thresholdc.errors.UsageError: the 'validation' option of train must be a ...
     """
     unknown = sorted(set(options) - set(DEFAULTS))
     if unknown:
@@ -147,18 +147,18 @@ def check_options(**options: Any) -> dict[str, Any]:
             raise _bad(name, f"one of {', '.join(choices)}", opt[name])
     if opt["lr"] is None:
         opt["lr"] = DEFAULT_LR[opt["optimizer"]]
-    if not isinstance(opt["lr"], numbers.Real) or not (0 < opt["lr"] < math.inf):
+    if not isinstance(opt["lr"], numbers.Real) or not (0 < opt["lr"] < math.inf):  # type: ignore[operator]
         raise _bad("lr", "a positive number", opt["lr"])
     v = opt["validation"]
-    if not isinstance(v, numbers.Real) or isinstance(v, bool) or not (0 <= v < 1):
+    if not isinstance(v, numbers.Real) or isinstance(v, bool) or not (0 <= v < 1):  # type: ignore[operator]
         raise _bad("validation", "a fraction in [0, 1)", v)
     a = opt["anchor"]
     if a != "auto" and (
-        not isinstance(a, numbers.Real) or isinstance(a, bool) or not (0 <= a < math.inf)
+        not isinstance(a, numbers.Real) or isinstance(a, bool) or not (0 <= a < math.inf)  # type: ignore[operator]
     ):
         raise _bad("anchor", "'auto' or a number ≥ 0", a)
     t = opt["tolerance"]
-    if not isinstance(t, numbers.Real) or isinstance(t, bool) or not (0 < t < 0.5):
+    if not isinstance(t, numbers.Real) or isinstance(t, bool) or not (0 < t < 0.5):  # type: ignore[operator]
         raise _bad("tolerance", "between 0 and 0.5 (exclusive)", t)
     if isinstance(opt["freeze"], str):
         opt["freeze"] = tuple(s.strip() for s in opt["freeze"].split(",") if s.strip())

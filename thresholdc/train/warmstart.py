@@ -258,7 +258,7 @@ def prepare_start(
         prev = list(units)
 
     # 3. widen every hidden layer by `widen` extra units
-    units = [list(u) for u in layout.units]
+    units = [list(u) for u in layout.units]  # type: ignore[assignment]
     roles = [list(r) for r in layout.roles]
     origins = [list(o) for o in layout.origins]
     if widen:
@@ -272,7 +272,7 @@ def prepare_start(
             rows_frozen = np.array([u in frozen_set for u in units[L + 1]], dtype=bool)
             out[rows_frozen] = 0.0
             W[L + 1] = np.hstack([W[L + 1], out])
-            units[L] += names
+            units[L] += names  # type: ignore[index, operator]
             roles[L] += ["extra"] * widen
             origins[L] += [None] * widen
         layout = replace(
@@ -284,7 +284,7 @@ def prepare_start(
 
     masks_w = []
     masks_b = []
-    for L, names in enumerate(units):
+    for L, names in enumerate(units):  # type: ignore[assignment]
         free = np.array([u not in frozen_set for u in names], dtype=float)
         masks_w.append(np.repeat(free[:, None], W[L].shape[1], axis=1))
         masks_b.append(free)

@@ -298,7 +298,7 @@ def node_value(node: Node, args: list[np.ndarray]) -> np.ndarray:
     total = np.zeros(args[0].shape, dtype=np.int64)
     for w, a in zip(node.weights or (), args):
         total += w * a
-    return total >= node.k
+    return total >= node.k  # type: ignore[operator]
 
 
 class _Emitter:

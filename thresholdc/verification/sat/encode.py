@@ -1,6 +1,6 @@
 """Encoders into the SAT circuit IR: a gate graph, a step network, and a rule program.
 
-Each encoder takes a :class:`~thresholdc.verify.sat_circuit.Circuit` and the literals of the
+Each encoder takes a :class:`~thresholdc.verification.sat.circuit.Circuit` and the literals of the
 primary inputs (by name) and returns the literal of every named signal, unit or definition.
 
 * :func:`encode_gates`: one node per gate; ``threshold``/``equal`` gates use the circuit's
@@ -16,7 +16,7 @@ primary inputs (by name) and returns the literal of every named signal, unit or 
 Unsupported inputs raise :class:`~thresholdc.errors.UsageError` (soft or bipolar networks,
 typed inputs).
 
->>> from thresholdc.verify.sat_circuit import Circuit
+>>> from thresholdc.verification.sat.circuit import Circuit
 >>> from thresholdc.ir.network import Network, Neuron, Output
 >>> c = Circuit()
 >>> ins = {"a": c.new_input(), "b": c.new_input()}
@@ -28,14 +28,15 @@ True
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from fractions import Fraction
 from typing import Any
 
-from ..errors import UsageError
-from ..ir import program as ast
-from ..ir.gates import GateGraph
-from ..ir.network import Network
-from .sat_circuit import FALSE, TRUE, Circuit
+from ...errors import UsageError
+from ...ir import program as ast
+from ...ir.gates import GateGraph
+from ...ir.network import Network
+from .circuit import FALSE, TRUE, Circuit
 
 __all__ = ["encode_gates", "gate_literal", "encode_network", "encode_program",
            "check_step_network", "integer_threshold"]
@@ -105,7 +106,7 @@ def check_step_network(net: Network) -> None:
     ...                            (Output("y", "y"),)))
     Traceback (most recent call last):
     ...
-    thresholdc.errors.UsageError: <input>: SAT and local verification need a step network; \
+    thresholdc.errors.UsageError: SAT and local verification need a step network; \
 this one has relu neurons (verify a soft network exhaustively, or check its certificate)
     """
     soft = sorted({n.activation for n in net.neurons if n.activation != "step"})
@@ -165,28 +166,17 @@ def encode_network(c: Circuit, net: Network, inputs: dict[str, int]) -> dict[str
     return lit
 
 
-def _children(e: ast.Expr) -> tuple[ast.Expr, ...]:
-    """The sub-expressions of ``e`` whose literals its own encoding needs."""
-    if isinstance(e, ast.Not):
-        return (e.operand,)
-    if isinstance(e, ast.BinOp):
-        return (e.left, e.right)
-    if isinstance(e, ast.Ite):
-        return (e.cond, e.then, e.other)
-    if isinstance(e, ast.Call):
-        return tuple(e.args)
-    if isinstance(e, ast.Compare):
-        return tuple(t.operand for t in e.terms)
-    return ()
-
-
 def _count(c: Circuit, args: list[int], k: int) -> int:
     """[at least k of args] with the totalizer encoding."""
     return c.geq([1] * len(args), args, k, enc="totalizer")
 
 
-def _combine(c: Circuit, e: ast.Expr, kids: list[int], names: dict[str, int]) -> int:
-    """The literal of ``e`` from the literals of its children."""
+def _combine(c: Circuit, e: ast.Expr, kids: list[int], names: dict[str, int],
+             leaf: Callable[[Circuit, Any], int] | None = None) -> int:
+    """The literal of ``e`` from the literals of its children (typed predicates by
+    ``leaf``)."""
+    if leaf is not None and isinstance(e, (ast.CategoryTest, ast.RealTest)):
+        return leaf(c, e)
     if isinstance(e, ast.Name):
         return names[e.id]
     if isinstance(e, ast.Const):
@@ -224,6 +214,7 @@ def _combine(c: Circuit, e: ast.Expr, kids: list[int], names: dict[str, int]) ->
             return -c.or_(kids)
         if e.func == "parity":
             return c.xor_(kids)
+        raise ast.unknown_function(e.func)
     if isinstance(e, ast.Compare):
         w = [t.coef for t in e.terms]
         r = e.rhs
@@ -247,10 +238,13 @@ def _combine(c: Circuit, e: ast.Expr, kids: list[int], names: dict[str, int]) ->
     )
 
 
-def encode_program(c: Circuit, program: ast.Program, inputs: dict[str, int]) -> dict[str, int]:
-    """The literal of every input and needed definition of a Boolean rule program.
+def encode_program(c: Circuit, program: ast.Program, inputs: dict[str, int],
+                   leaf: Callable[[Circuit, Any], int] | None = None) -> dict[str, int]:
+    """The literal of every Boolean input and needed definition of a rule program.
 
-    Expressions are walked with an explicit stack (long chains do not recurse).
+    Expressions are walked with an explicit stack (long chains do not recurse).  A typed
+    program needs ``leaf``, which gives the literal of each categorical or real predicate
+    (:mod:`.typed`); ``inputs`` then holds the Boolean inputs only.
 
     >>> from thresholdc.syntax.parser import parse
     >>> c = Circuit()
@@ -259,12 +253,12 @@ def encode_program(c: Circuit, program: ast.Program, inputs: dict[str, int]) -> 
     >>> lits["y"] == c.and_([-lits["a"], -lits["b"]])
     True
     """
-    if program.is_typed():
+    if program.is_typed() and leaf is None:
         raise UsageError(
             "SAT verification handles Boolean inputs only; this rule file has typed inputs "
             "(use the exhaustive method)"
         )
-    names: dict[str, int] = {v.name: inputs[v.name] for v in program.inputs}
+    names: dict[str, int] = {v.name: inputs[v.name] for v in program.inputs if v.kind == "bool"}
     for dname in program.order:
         root = program.definitions[dname].expr
         done: dict[int, int] = {}
@@ -273,11 +267,11 @@ def encode_program(c: Circuit, program: ast.Program, inputs: dict[str, int]) -> 
             e, expanded = stack.pop()
             if id(e) in done:
                 continue
-            kids = _children(e)
+            kids = ast.sub_expressions(e)
             if not expanded and kids:
                 stack.append((e, True))
                 stack.extend((k, False) for k in kids if id(k) not in done)
                 continue
-            done[id(e)] = _combine(c, e, [done[id(k)] for k in kids], names)
+            done[id(e)] = _combine(c, e, [done[id(k)] for k in kids], names, leaf)
         names[dname] = done[id(root)]
     return names

@@ -95,9 +95,9 @@ class Domain:
         X = np.zeros((rows, len(self.units)))
         for k, f in enumerate(self.discrete):
             X[:, [col[u] for u in f.units]] = f.table[choice[:, k]]
-        for k, f in enumerate(self.continuous):
+        for k, f in enumerate(self.continuous):  # type: ignore[assignment]
             assert reals is not None
-            X[:, col[f.unit]] = reals[:, k]
+            X[:, col[f.unit]] = reals[:, k]  # type: ignore[attr-defined]
         return X
 
     def assignment(self, choice: np.ndarray, reals: np.ndarray | None = None) -> dict[str, Any]:
@@ -106,7 +106,7 @@ class Domain:
         for k, f in enumerate(self.discrete):
             label = f.labels[int(choice[k])]
             values[f.name] = float(label) if f.kind == "real" else label
-        for k, f in enumerate(self.continuous):
+        for k, f in enumerate(self.continuous):  # type: ignore[assignment]
             assert reals is not None
             values[f.name] = float(reals[k])
         return {name: values[name] for name in self.order}

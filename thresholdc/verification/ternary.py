@@ -22,7 +22,7 @@ graph.
 
 >>> import numpy as np
 >>> from thresholdc.logic.source import source_from_text
->>> from thresholdc.verify.domain import boolean_or_typed_domain
+>>> from thresholdc.verification.domain import boolean_or_typed_domain
 >>> src = source_from_text("input a, b\\ny = a and b\\n")
 >>> d = boolean_or_typed_domain(src)
 >>> masks = [np.array([[True, True]]), np.array([[True, False]])]  # a free, b = 0
@@ -63,8 +63,8 @@ def rules_ternary(
     env: dict[str, Any] = {}
     for k, f in enumerate(domain.discrete):
         env[f.name] = ("discrete", f, masks[k])
-    for k, f in enumerate(domain.continuous):
-        env[f.name] = ("interval", lo[:, k], hi[:, k])
+    for k, f in enumerate(domain.continuous):  # type: ignore[assignment]
+        env[f.name] = ("interval", lo[:, k], hi[:, k])  # type: ignore[index]
     rows = masks[0].shape[0] if masks else (lo.shape[0] if lo is not None else 0)
     values: dict[str, Pair] = {}
     for name in program.order:
@@ -88,21 +88,6 @@ def _input_pair(entry: Any) -> Pair:
     return mask[:, 0], mask[:, 1]
 
 
-def _children(e: ast.Expr) -> tuple:
-    """Sub-expressions evaluated before ``e``."""
-    if isinstance(e, ast.Not):
-        return (e.operand,)
-    if isinstance(e, ast.BinOp):
-        return (e.left, e.right)
-    if isinstance(e, ast.Ite):
-        return (e.cond, e.then, e.other)
-    if isinstance(e, ast.Call):
-        return e.args
-    if isinstance(e, ast.Compare):
-        return tuple(t.operand for t in e.terms)
-    return ()
-
-
 def _expr(e: ast.Expr, env: dict, values: dict[str, Pair], rows: int) -> Pair:
     """Evaluate one expression with an explicit post-order stack (deep chains need no
     recursion)."""
@@ -110,7 +95,7 @@ def _expr(e: ast.Expr, env: dict, values: dict[str, Pair], rows: int) -> Pair:
     stack: list[tuple[ast.Expr, bool]] = [(e, False)]
     while stack:
         node, expanded = stack.pop()
-        kids = _children(node)
+        kids = ast.sub_expressions(node)
         if not expanded and kids:
             stack.append((node, True))
             stack.extend((k, False) for k in reversed(kids))
@@ -220,18 +205,20 @@ def _combine(node: ast.Expr, args: list[Pair]) -> Pair:
         low, high = _count_bounds(args, [1] * n)
         func = node.func
         if func == "atleast":
-            return _relation(low, high, ">=", int(node.k))
+            return _relation(low, high, ">=", int(node.k))  # type: ignore[arg-type]
         if func == "atmost":
-            return _relation(low, high, "<=", int(node.k))
+            return _relation(low, high, "<=", int(node.k))  # type: ignore[arg-type]
         if func == "exactly":
-            return _relation(low, high, "==", int(node.k))
+            return _relation(low, high, "==", int(node.k))  # type: ignore[arg-type]
         if func == "majority":
             return _relation(low, high, ">=", n // 2 + 1)
         if func == "nand":
             return high == n, low < n
         if func == "nor":
             return high > 0, low == 0
-        known = low == high  # parity
+        if func != "parity":
+            raise ast.unknown_function(func)
+        known = low == high
         odd = (low % 2) == 1
         return ~known | ~odd, ~known | odd
     assert isinstance(node, ast.Compare)
@@ -265,12 +252,12 @@ def _gates_ternary(graph: Any, domain: Domain, masks: list[np.ndarray]) -> Pair:
                 pair = (c0.any(axis=0), c1.all(axis=0))
             else:
                 pair = (c0.all(axis=0), c1.any(axis=0))
-            vals[name] = (pair[1], pair[0]) if op in ("nand", "nor") else pair
+            vals[name] = (pair[1], pair[0]) if op in ("nand", "nor") else pair  # type: ignore[assignment]
         elif op in ("xor", "xnor"):
             low, high = _count_bounds(args, [1] * len(args))
             known, odd = low == high, (low % 2) == 1
             pair = (~known | ~odd, ~known | odd)
-            vals[name] = (pair[1], pair[0]) if op == "xnor" else pair
+            vals[name] = (pair[1], pair[0]) if op == "xnor" else pair  # type: ignore[assignment]
         elif op in ("threshold", "equal"):
             low, high = _count_bounds(args, list(g.weights or ()))
             rel = ">=" if op == "threshold" else "=="

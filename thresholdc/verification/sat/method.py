@@ -1,8 +1,8 @@
 """SAT verification: a miter between a source (rules or netlist) and a step network.
 
 The source side is encoded straight from the rule AST (or from the netlist's gates), the
-network side neuron by neuron as y ↔ [Σ w·x + b > 0] (see :mod:`.sat_encode`), and the two
-are compared by :func:`~thresholdc.verify.sat_miter.prove_equivalent` — structural hashing,
+network side neuron by neuron as y ↔ [Σ w·x + b > 0] (see :mod:`.encode`), and the two
+are compared by :func:`~thresholdc.verification.sat.miter.prove_equivalent` — structural hashing,
 simulation-guided matching proved on small cuts, then python-sat in a child process ended at
 the time limit.  Every counterexample is re-simulated on both sides (``Network.decide`` and
 ``Reference.evaluate``) before it is reported.
@@ -19,21 +19,21 @@ the time limit.  Every counterexample is re-simulated on both sides (``Network.d
 from __future__ import annotations
 
 import time
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from typing import Any
 
 import numpy as np
 
-from ..errors import VerificationUndecided
-from ..ir.network import Network
-from .domain import check_names
-from .report import Counterexample, OutputReport, Report
-from .sat_circuit import Circuit
-from .sat_encode import check_step_network, encode_gates, encode_network, encode_program
-from .sat_miter import MiterOutcome, prove_equivalent
+from ...errors import VerificationUndecided
+from ...ir.network import Network
+from ..domain import check_names
+from ..report import Counterexample, OutputReport, Report
+from .circuit import Circuit
+from .encode import check_step_network, encode_gates, encode_network, encode_program
+from .miter import MiterOutcome, prove_equivalent
 
 __all__ = ["verify_sat", "source_side", "network_side", "gates_side", "confirm_counterexample",
-           "miter_summary"]
+           "miter_summary", "miter_report"]
 
 
 def source_side(source: Any) -> Callable[[Circuit, dict[str, int]], dict[str, int]]:
@@ -141,9 +141,17 @@ solver call needed'
 
 
 def verify_sat(
-    net: Network, source: Any, *, time_limit: float, solver: str | None = None
+    net: Network,
+    source: Any,
+    *,
+    time_limit: float,
+    solver: str | None = None,
+    outputs: Sequence[str] | None = None,
 ) -> Report:
     """Prove ``net`` equal to ``source`` with a SAT miter, or find counterexamples.
+
+    Every output is decided (proven equal, or a counterexample found and re-simulated) unless
+    the time limit stops the solver first; those left are ``undecided`` with the bound.
 
     Parameters
     ----------
@@ -152,16 +160,17 @@ def verify_sat(
     source
         A :class:`~thresholdc.ir.reference.Reference` (rule file or netlist) with Boolean inputs.
     time_limit
-        Seconds for the whole check; the solver runs in a child process ended at the limit
-        (the report is then ``undecided``).
+        Seconds for the whole check; the solver runs in a child process ended at the limit.
     solver
         A python-sat back end name (default: the strongest incremental one available).
+    outputs
+        Check only these outputs (the report then lists only them); default all.
 
     Returns
     -------
     Report
-        ``equal`` (proven), ``different`` (counterexamples re-simulated on both sides) or
-        ``undecided``; method ``sat``.
+        Method ``sat``; per output ``equal``, ``different`` (``disagreements`` None: the
+        solver does not count, ``found`` counterexamples) or ``undecided``.
 
     Examples
     --------
@@ -184,25 +193,35 @@ def verify_sat(
             "SAT verification needs python-sat (pip install 'thresholdc[sat]')"
         ) from None
     kind = "rules" if getattr(source, "program", None) is not None else "netlist"
+    wanted = list(source.outputs) if outputs is None else [
+        o for o in source.outputs if o in set(outputs)]
     outcome = prove_equivalent(
         source.inputs,
-        source.outputs,
+        wanted,
         source_side(source),
         network_side(net),
         time_limit=time_limit,
         solver=solver,
     )
-    report = _report(net, source, outcome, kind)
+    report = miter_report(net, source, outcome, kind, wanted,
+                          f"sat: not decided within the time limit of {time_limit:g} s")
     report.seconds = time.perf_counter() - t0
     return report
 
 
-def _report(net: Network, source: Any, outcome: MiterOutcome, kind: str) -> Report:
-    """The Report of a network-versus-source miter, counterexamples re-simulated."""
+def miter_report(
+    net: Network, source: Any, outcome: MiterOutcome, kind: str, wanted: Sequence[str],
+    bound: str, method: str = "sat",
+    confirm: Callable[[dict[str, int]], list[Counterexample]] | None = None,
+) -> Report:
+    """The Report of a network-versus-source miter over the outputs ``wanted``, every
+    counterexample re-simulated on both sides (by ``confirm``, default
+    :func:`confirm_counterexample`); ``bound`` is given to undecided outputs."""
     found: dict[str, list[Counterexample]] = {}
     unconfirmed = []
     for name, assignment in outcome.differing.items():
-        real = confirm_counterexample(net, source, assignment)
+        real = (confirm(assignment) if confirm is not None
+                else confirm_counterexample(net, source, assignment))
         if not any(c.output == name for c in real):
             unconfirmed.append(name)
         for c in real:
@@ -217,19 +236,23 @@ def _report(net: Network, source: Any, outcome: MiterOutcome, kind: str) -> Repo
             "differs from exact arithmetic, or an encoding error); not counted"
         )
     proven = set(outcome.proven)
-    outputs = [
-        OutputReport(o.name, o.name not in found, len(found.get(o.name, [])),
-                     found.get(o.name, []), None)
-        for o in net.outputs
-    ]
-    if found:
-        undecided = [o.name for o in net.outputs if o.name not in found and o.name not in proven]
-        if undecided:
-            notes.append(f"not proven either way: {', '.join(undecided)}")
-        return Report("different", "sat", 0, outputs, notes=notes)
-    if outcome.status == "equal" and not unconfirmed:
-        proof = f"sat: the network equals the {kind} on every input ({miter_summary(outcome)})"
-        return Report("equal", "sat", 0, outputs, proofs=[proof], notes=notes)
-    if proven:
-        notes.append(f"proven equal: {', '.join(o for o in source.outputs if o in proven)}")
-    return Report("undecided", "sat", 0, [], notes=notes)
+    if outcome.notes:
+        bound = f"{bound} ({'; '.join(outcome.notes)})"
+    reports = []
+    for name in wanted:
+        if name in found:
+            reports.append(OutputReport.differs(name, found[name]))
+        elif name in proven and name not in unconfirmed:
+            reports.append(OutputReport.proven(name))
+        else:
+            reports.append(OutputReport.undecided(
+                name, "sat: the solver's counterexample is not reproduced by re-simulation"
+                if name in unconfirmed else bound))
+    report = Report.of(method, 0, reports, notes=notes)
+    decided = [o.name for o in reports if o.verdict == "equal"]
+    if report.result == "equal":
+        report.proofs.append(
+            f"{method}: the network equals the {kind} on every input ({miter_summary(outcome)})")
+    elif decided:
+        report.proofs.append(f"{method}: proven equal on every input: {', '.join(decided)}")
+    return report

@@ -12,7 +12,7 @@ Rules of the method
       real (the compiler's form); otherwise the network is treated like a soft one.
     * A *soft* (sigmoid, tanh, …, e.g. trained) network flips near, not at, the thresholds,
       so points are not enough: it is checked by branch-and-bound
-      (:mod:`thresholdc.verify.bounds`) over the declared range of each real input less a band
+      (:mod:`thresholdc.verification.bounds`) over the declared range of each real input less a band
       of ± scale around each rule threshold, and the report says so.  A real input without a
       declared range cannot be checked this way: VerificationUndecided (exit 2) says a range
       is needed.
@@ -96,8 +96,8 @@ def _enumerate(net: Network, source: Any, domain: Domain) -> Report:
                     float(values[r, k]), float(margins[r, k]),
                 ))
     outputs = [
-        OutputReport(o.name, bool(bad[k] == 0), int(bad[k]), examples[k],
-                     None if not np.isfinite(min_margin[k]) else float(min_margin[k]))
+        OutputReport.counted(o.name, int(bad[k]), examples[k],
+                             None if not np.isfinite(min_margin[k]) else float(min_margin[k]))
         for k, o in enumerate(net.outputs)
     ]
     equal = bool((bad == 0).all())
@@ -144,8 +144,8 @@ def verify_typed(
     Raises
     ------
     VerificationUndecided
-        A soft network with a real input without a declared range, or a search stopped by
-        its limits.
+        A soft network with a real input without a declared range (a search stopped by its
+        limits gives ``undecided`` outputs instead).
     UsageError
         When the names differ.
 

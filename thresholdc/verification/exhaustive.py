@@ -127,9 +127,8 @@ def verify_exhaustive(
         shown.update(stop - start)
     shown.close()
     outputs = [
-        OutputReport(
+        OutputReport.counted(
             o.name,
-            bool(bad[k] == 0),
             int(bad[k]),
             examples[k],
             None if not np.isfinite(min_margin[k]) else float(min_margin[k]),

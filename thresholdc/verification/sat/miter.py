@@ -20,7 +20,7 @@ combinational equivalence check; common practice, cf. FRAIG-style sweeping):
    is a counterexample for every output that differs in it; those outputs are dropped and
    the rest solved again, until UNSAT (every remaining output proved equal) or the time limit.
 
->>> from thresholdc.verify.sat_circuit import Circuit
+>>> from thresholdc.verification.sat.circuit import Circuit
 >>> def xor_a(c, ins):
 ...     return {"y": c.xor_([ins["a"], ins["b"]])}
 >>> def xor_b(c, ins):
@@ -40,7 +40,7 @@ from typing import Any
 
 import numpy as np
 
-from .sat_circuit import TRUE, Circuit, node_value
+from .circuit import TRUE, Circuit, node_value
 
 __all__ = [
     "MiterOutcome",
@@ -122,16 +122,20 @@ def default_solver() -> str | None:
 class _Sweep:
     """Candidate equivalences between the sides and their proofs on small cuts."""
 
-    def __init__(self, c: Circuit, first_b: int, seed: int) -> None:
+    def __init__(self, c: Circuit, first_b: int, seed: int,
+                 rows: np.ndarray | None = None) -> None:
         self.c = c
         self.first_b = first_b
         self.rep: dict[int, int] = {}
         rng = np.random.default_rng(seed)
         n = len(c.inputs)
-        X = rng.integers(0, 2, size=(_ROWS, n)).astype(bool)
-        X[0] = False
-        X[1] = True
-        self.rows = _ROWS
+        if rows is None:
+            X = rng.integers(0, 2, size=(_ROWS, n)).astype(bool)
+            X[0] = False
+            X[1] = True
+        else:  # the caller's rows (e.g. valid one-hot patterns only)
+            X = np.asarray(rows, dtype=bool)
+        self.rows = X.shape[0]
         self.P = c.simulate_packed(X)  # bit-packed values of every variable
 
     def sub(self, lit: int) -> int:
@@ -251,7 +255,7 @@ class _Sweep:
                 return False
             weights = node.weights if node.op == "geq" else (1,) * len(node.args)
             eff: dict[int, int] = {}
-            for a, w in zip(args(x), weights):
+            for a, w in zip(args(x), weights):  # type: ignore[arg-type]
                 if abs(a) in index:
                     eff[abs(a)] = eff.get(abs(a), 0) + (w if a > 0 else -w)
             if eff and (len(eff) != len(index) or len(set(eff.values())) != 1):
@@ -439,12 +443,18 @@ def prove_equivalent(
     sweep: bool = True,
     share: bool = True,
     seed: int = 0,
+    sample: Callable[[np.random.Generator, int], np.ndarray] | None = None,
+    constraints: Callable[[dict[str, int], int], tuple[list[list[int]], int]] | None = None,
 ) -> MiterOutcome:
     """Decide whether two circuits agree on every output; see the module docstring.
 
     ``build_a``/``build_b`` add a side to the circuit given the input literals by name and
     return the literal of each output by name.  ``time_limit`` (seconds) bounds the whole
-    check; the solver runs in a child process that is ended when it is reached.
+    check; the solver runs in a child process that is ended when it is reached.  ``sample``
+    gives the simulation rows (``(rng, rows) -> bool array``, columns in ``inputs`` order)
+    when only some input patterns are valid, and ``constraints`` the clauses that say which
+    are (``(input variables by name, top variable) -> (clauses, new top)``); proofs on
+    small cuts hold on every pattern, so they stay sound.
 
     >>> def one(c, ins):
     ...     return {"y": c.or_([ins["a"], ins["b"]])}
@@ -465,7 +475,8 @@ def prove_equivalent(
     lb = build_b(c, ins)
     stats: dict[str, Any] = {"nodes_a": first_b - 1 - len(ins), "nodes_b": c.nvars - first_b + 1}
     out = MiterOutcome("undecided", stats=stats)
-    sw = _Sweep(c, first_b, seed) if sweep else None
+    rows = sample(np.random.default_rng(seed), _ROWS) if sample is not None else None
+    sw = _Sweep(c, first_b, seed, rows) if sweep else None
     deferred: list[tuple[int, int]] = []
     if sw is not None:
         cands = sw.candidates()
@@ -489,16 +500,13 @@ def prove_equivalent(
             continue
         r = sw.differing_row(a, lb[name]) if sw is not None else None
         if r is not None:
-            out.differing[name] = dict(zip(inputs, sw.row(r)))
+            out.differing[name] = dict(zip(inputs, sw.row(r)))  # type: ignore[union-attr]
         else:
             open_pairs.append((name, a, b))
     stats["seconds_prepare"] = time.perf_counter() - t0
-    if out.differing:
-        # Simulation already found counterexamples: stop here (the rest is left unproven).
-        out.status = "different"
-        return out
     if not open_pairs:
-        out.status = "equal"
+        # every output is proven equal or shown different by simulation
+        out.status = "different" if out.differing else "equal"
         stats["solver"] = None
         return out
     solver = solver or default_solver()
@@ -510,6 +518,9 @@ def prove_equivalent(
     cnf = c.to_cnf(roots, sw.rep if sw is not None else None)
     clauses = cnf.clauses
     top = cnf.nvars
+    if constraints is not None:  # the domain: e.g. exactly one value per categorical input
+        more, top = constraints(ins, top)
+        clauses.extend(more)
     pairs = []
     for _, a, b in open_pairs:
         top += 1

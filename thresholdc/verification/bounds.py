@@ -4,7 +4,7 @@ For networks whose inputs are too many to enumerate, or trained networks with re
 :func:`verify_bounds` decides agreement with the rules over whole boxes of inputs at a time.
 
 Rules of the algorithm
-    * A *box* fixes some inputs and leaves others free (see :mod:`thresholdc.verify.ternary`).
+    * A *box* fixes some inputs and leaves others free (see :mod:`thresholdc.verification.ternary`).
       The frontier of boxes is processed in vectorised batches, depth first.
     * Network bounds: each input unit gets an interval over the box; a neuron's pre-activation
       interval is ``b + Σ_{w>0} w·[lo] + Σ_{w<0} w·[hi]`` (upper end alike), and since every
@@ -23,7 +23,8 @@ Rules of the algorithm
     * ``min_margin`` is a certified lower bound of the margin over each decided box: ``|z|``
       of a step output neuron, ``|value − threshold|`` of a soft one.
     * ``max_nodes`` boxes or ``time_limit`` seconds stop the search: a disagreement already
-      found gives ``different`` (counts then are lower bounds), else VerificationUndecided.
+      found gives ``different``; each output still open in some box is ``undecided`` with the
+      limit as its bound, and an output settled on every box keeps its verdict.
 
 >>> from thresholdc.compiler import compile_rules
 >>> from thresholdc.logic.source import source_from_text
@@ -42,7 +43,6 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import VerificationUndecided
 from ..ir import activations as act
 from ..ir.network import Network
 from .domain import Domain, check_names, network_rows, typed_domain
@@ -208,7 +208,7 @@ def network_bounds(
 
     >>> from thresholdc.compiler import compile_rules
     >>> from thresholdc.logic.source import source_from_text
-    >>> from thresholdc.verify.domain import boolean_or_typed_domain
+    >>> from thresholdc.verification.domain import boolean_or_typed_domain
     >>> text = "input a, b\\ny = a and b\\n"
     >>> net, d = compile_rules(text), boolean_or_typed_domain(source_from_text(text))
     >>> vlo, vhi = network_bounds(net, d, [np.array([[True, True]]), np.array([[False, True]])])
@@ -283,6 +283,7 @@ class _Search:
         K = len(net.outputs)
         self.bad = [0] * K
         self.unknown = np.zeros(K, dtype=bool)
+        self.open = np.zeros(K, dtype=bool)
         self.min_margin = np.full(K, np.inf)
         self.examples: list[list[Counterexample]] = [[] for _ in range(K)]
         self.nodes = 0
@@ -449,6 +450,8 @@ class _Search:
                     stack.append(b.take(np.arange(_BATCH, len(b))))
                     b = b.take(np.arange(_BATCH))
                 if self.nodes >= max_nodes or time.perf_counter() - t0 > time_limit:
+                    for rest in [b, *stack]:  # outputs still open in some box
+                        self.open |= (~rest.resolved).any(axis=0)
                     return False
                 before = float(self.weight(b).sum()) if bar is not None else 0.0
                 children = self.step(b)
@@ -481,33 +484,35 @@ def run_bounds(
     """Branch-and-bound over an explicit :class:`Domain` (used by the typed verifier)."""
     t0 = time.perf_counter()
     search = _Search(net, source, domain)
-    finished = search.run(max_nodes, time_limit, progress)
-    found = any(search.bad)
-    if (not finished or search.unknown.any()) and not found:
-        why = (f"the search stopped at {search.nodes} boxes (limit {max_nodes} boxes, "
-               f"{time_limit:g} s)" if not finished else
-               "some boxes are too thin to split and still undecided (the network sits on "
-               "its decision threshold there)")
-        raise VerificationUndecided(f"branch-and-bound undecided: {why}",
-                                    file=getattr(source, "file", None))
-    outputs = [
-        OutputReport(o.name, search.bad[k] == 0 and not search.unknown[k], search.bad[k],
-                     search.examples[k],
-                     None if not np.isfinite(search.min_margin[k])
-                     else float(search.min_margin[k]))
-        for k, o in enumerate(net.outputs)
-    ]
-    equal = all(o.agrees for o in outputs)
+    search.run(max_nodes, time_limit, progress)
+    stopped = (f"bounds: the search stopped at {search.nodes} boxes (limit {max_nodes} boxes, "
+               f"{time_limit:g} s)")
+    thin = ("bounds: some boxes are too thin to split and still undecided (the network sits "
+            "on its decision threshold there)")
+    outputs = []
+    for k, o in enumerate(net.outputs):
+        margin = (None if not np.isfinite(search.min_margin[k])
+                  else float(search.min_margin[k]))
+        settled = not search.open[k] and not search.unknown[k]
+        if search.bad[k]:
+            exact = settled and not domain.continuous  # every box of k counted whole
+            outputs.append(OutputReport.differs(
+                o.name, search.examples[k], disagreements=search.bad[k] if exact else None,
+                found=search.bad[k], min_margin=margin))
+        elif settled:
+            outputs.append(OutputReport.proven(o.name, margin))
+        else:
+            outputs.append(OutputReport.undecided(o.name, thin if search.unknown[k]
+                                                  else stopped))
     what = (f"all {domain.size} discrete assignments" if not domain.continuous
             else "every box of the domain")
-    report = Report(
-        "equal" if equal else "different", "bounds", domain.size, outputs,
-        proofs=[f"bounds: {what} decided in {search.nodes} boxes"] if equal else [],
-        notes=list(domain.notes), seconds=time.perf_counter() - t0,
-    )
+    report = Report.of("bounds", domain.size, outputs, notes=list(domain.notes),
+                       seconds=time.perf_counter() - t0)
+    if report.result == "equal":
+        report.proofs.append(f"bounds: {what} decided in {search.nodes} boxes")
     report.notes.append("min_margin is a certified lower bound over the decided boxes")
-    if not finished or search.unknown.any():
-        report.notes.append("the search stopped early: disagreement counts are lower bounds")
+    if domain.continuous and any(o.verdict == "different" for o in outputs):
+        report.notes.append("real inputs: 'found' counts disagreeing boxes, not assignments")
     return report
 
 
@@ -523,7 +528,7 @@ def verify_bounds(
 
     Works on any network read with a decision threshold (step, trained sigmoid or tanh,
     relu): complete on Boolean and categorical inputs; for real inputs see
-    :func:`thresholdc.verify.typed.typed_domain` (cells for step networks, declared ranges
+    :func:`thresholdc.verification.typed.typed_domain` (cells for step networks, declared ranges
     less a band of ± scale around each rule threshold for soft ones).
 
     Parameters
@@ -541,13 +546,15 @@ def verify_bounds(
     Returns
     -------
     Report
-        Method ``bounds``; per output the exact number of disagreeing discrete assignments,
-        up to five counterexamples and a lower bound of the margin.
+        Method ``bounds``; per output a verdict, the exact number of disagreeing discrete
+        assignments when every box was settled for it, up to five counterexamples and a
+        lower bound of the margin; an output a limit left open is ``undecided`` with the
+        limit as its ``bound``.
 
     Raises
     ------
     VerificationUndecided
-        When a limit stops the search before any disagreement is found.
+        A soft network with a real input without a declared range (see ``typed_domain``).
     UsageError
         When the names differ.
 

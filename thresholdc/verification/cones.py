@@ -1,41 +1,25 @@
-"""Local verification: each neuron against the gate cone it replaced, by exhaustion.
+"""Cone proofs: each recorded neuron against the gate-graph region it replaced.
 
-The compiler records in ``meta.cones`` which part of the gate graph each neuron computes:
-``{NEURON: {"root": SIGNAL, "leaves": [SIGNAL, …]}}``.  This check rebuilds the gate graph
-from the source and proves, for every listed neuron, that on all 2^|leaves| values of its
-leaves
+:class:`ConeCheck` reads ``meta.cones`` (``{NEURON: {"root": SIGNAL, "leaves": [...]}}``),
+resolves relays, and proves for a listed neuron that on all values of its leaves the root
+signal (the gate region between leaves and root) and the neuron (with the helper neurons of
+its cone) agree: exhaustively up to ``max_leaves`` leaves, by the count of true leaves for
+symmetric cones, else by a small SAT miter; a cone whose leaves leave a primary input in the
+region, or whose leaves take only some value combinations, is checked again over the primary
+inputs it depends on.  ``cone_ok`` and ``deps`` (the leaf units each cone reads) let the
+caller prove units by induction over the network's order (:mod:`.local`).
 
-    (a) the root signal computed by the gate-graph region between the leaves and the root, and
-    (b) the neuron computed by the sub-network from the leaf units to it (the neuron and the
-        unlisted helper neurons it reads inside its cone)
-
-agree.  With the structural checks — every neuron is listed, a helper inside a listed cone,
-or a relay (a one-input neuron repeating or negating a unit); each leaf is a unit of the
-network that carries that signal; each output reads the unit carrying its source signal —
-this proves by induction over the network's order that every unit computes its signal, so
-the network equals the gate graph.
-
-Signals are compared up to structural hashing, recomputed here from the gate graph: ``buf``
-and double negation are transparent and the same op on the same arguments is the same signal,
-so a compiler that merged duplicate gates is checked too.  A cone with more leaves than
-``max_leaves`` is proved by a small SAT miter instead.
-
-For a netlist the gate graph is the netlist, so this decides alone.  For rules, the step from
-the rules to the gate graph is checked too: exhaustively for at most 16 inputs, else by a SAT
-miter between the rule AST and the gate graph (or exhaustively up to ``max_inputs`` without
-python-sat).
-
->>> from thresholdc.compiler import compile_rules
->>> from thresholdc.logic.source import source_from_text
->>> text = "input a, b, c\\ny = a and (b or not c)\\n"
->>> report = verify_local(compile_rules(text, synthesis=False), source_from_text(text, "t.rules"))
->>> report.result, report.method
-('equal', 'local')
+>>> from thresholdc.ir.network import Network, Neuron, Output
+>>> g = GateGraph.build(["a", "b"], [("y", "y")], [("y", Gate("nor", ("a", "b")))])
+>>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (-1, -1), 0.5),),
+...               (Output("y", "y"),))
+>>> check = ConeCheck(net, g, LOCAL_MAX_LEAVES, float("inf"))
+>>> check.setup({"y": {"root": "y", "leaves": ["a", "b"]}}), check.check_cone("y")
+(True, True)
 """
 
 from __future__ import annotations
 
-import math
 import time
 from typing import Any
 
@@ -43,149 +27,20 @@ import numpy as np
 
 from ..ir.gates import Gate, GateGraph
 from ..ir.network import Network, Neuron
-from .domain import check_names
-from .exhaustive import assignments
-from .report import OutputReport, Report
-from .sat import confirm_counterexample, gates_side, miter_summary, source_side
-from .sat_circuit import TRUE
-from .sat_encode import check_step_network, gate_literal, integer_threshold
-from .sat_miter import prove_equivalent
+from .sat.circuit import TRUE
+from .sat.encode import gate_literal, integer_threshold
+from .sat.miter import prove_equivalent
+from .structural import CONST_CLASS, Cls, structural_classes
 
-__all__ = ["verify_local", "structural_classes", "LOCAL_MAX_LEAVES", "RULES_EXHAUSTIVE_MAX"]
+__all__ = ["ConeCheck", "gate_value", "LOCAL_MAX_LEAVES"]
 
 LOCAL_MAX_LEAVES = 16
-#: The class id of the constants in :func:`structural_classes`: (0, False) is 1, (0, True) 0.
-CONST_CLASS = 0
-RULES_EXHAUSTIVE_MAX = 16
-_CHUNK = 1 << 16
-_RANDOM_ROWS = 256
 _REGION_MAX = 5000
 _CONST_SUPPORT = 12
 _CONST_REGION = 300
 
-Cls = tuple[int, bool]  # (class id, negated)
 
-
-# ---------------------------------------------------------------------- structural classes
-def structural_classes(graph: GateGraph) -> dict[str, Cls]:
-    """Each signal's structural class: signals with the same class id compute the same
-    function (or its complement when the flags differ).
-
-    Rules: ``buf`` is its argument, ``not`` flips the flag; ``or``/``nand``/``nor`` are
-    written as (negated) ``and`` of (negated) arguments; xor/xnor fold argument negations
-    into the flag; threshold and equal gates fold negated arguments into the threshold;
-    ``ite`` with a negated condition swaps its branches; arguments of commutative ops are
-    sorted.  Equal keys get equal ids.
-
-    >>> g = GateGraph.build(["a", "b"], [("y", "y")], [("x", Gate("and", ("a", "b"))),
-    ...     ("n", Gate("nand", ("b", "a"))), ("y", Gate("not", ("n",)))])
-    >>> c = structural_classes(g); c["x"] == c["y"], c["n"] == (c["x"][0], True)
-    (True, True)
-    """
-    table: dict[tuple, int] = {}
-    cls: dict[str, Cls] = {}
-
-    def cid(key: tuple) -> int:
-        return table.setdefault(key, len(table))
-
-    one = cid(("const",))  # the class of constant 1 is (one, False); of 0, (one, True)
-    assert one == CONST_CLASS
-
-    def and_class(args: list[Cls]) -> Cls:
-        """The class of the conjunction of ``args`` (constants folded, x ∧ ¬x is 0)."""
-        lits = set(args)
-        if (one, True) in lits or any((i, not n) in lits for i, n in lits):
-            return (one, True)
-        lits.discard((one, False))
-        ordered = sorted(lits)
-        if not ordered:
-            return (one, False)
-        if len(ordered) == 1:
-            return ordered[0]
-        return (cid(("and", tuple(ordered))), False)
-
-    def neg(c: Cls) -> Cls:
-        return (c[0], not c[1])
-    for name, g in graph.gates.items():
-        op = g.op
-        args = [cls[a] for a in g.args]
-        if op == "input":
-            cls[name] = (cid(("input", name)), False)
-        elif op == "const":
-            cls[name] = (one, not g.value)
-        elif op == "buf":
-            cls[name] = args[0]
-        elif op == "not":
-            cls[name] = (args[0][0], not args[0][1])
-        elif op in ("and", "nand", "or", "nor"):
-            inverted = op in ("or", "nor")
-            c = and_class([(i, n != inverted) for i, n in args])
-            cls[name] = (c[0], c[1] != (op in ("nand", "or")))
-        elif op in ("xor", "xnor"):
-            odd: dict[int, int] = {}
-            flip = op == "xnor"
-            for i, n in args:
-                flip ^= n
-                if i == one:  # the constant 1 flips the parity
-                    flip ^= True
-                    continue
-                odd[i] = odd.get(i, 0) ^ 1
-            ids = tuple(sorted(i for i, k in odd.items() if k))
-            if not ids:
-                cls[name] = (one, not flip)
-            elif len(ids) == 1:
-                cls[name] = (ids[0], flip)
-            else:
-                cls[name] = (cid(("xor", ids)), flip)
-        elif op in ("threshold", "equal"):
-            coef: dict[int, int] = {}
-            t = int(g.threshold or 0)
-            for (i, n), w in zip(args, g.weights or ()):
-                if i == one:
-                    t -= 0 if n else w
-                elif n:
-                    t -= w
-                    coef[i] = coef.get(i, 0) - w
-                else:
-                    coef[i] = coef.get(i, 0) + w
-            terms = tuple(sorted((i, w) for i, w in coef.items() if w))
-            holds = (lambda v, t=t: v >= t) if op == "threshold" else (lambda v, t=t: v == t)
-            lo = sum(min(w, 0) for _, w in terms)
-            hi = sum(max(w, 0) for _, w in terms)
-            step = 0
-            for _, w in terms:
-                step = math.gcd(step, abs(w))
-            if op == "threshold" and (lo >= t or hi < t):
-                cls[name] = (one, hi < t)  # always true, or never
-            elif op == "equal" and terms and (t < lo or t > hi or t % step):
-                cls[name] = (one, True)  # the sum never reaches t
-            elif len(terms) <= 1:
-                i, w = terms[0] if terms else (one, 0)
-                at0, at1 = holds(0), holds(w)
-                cls[name] = (one, not at0) if at0 == at1 or i == one else (i, at0)
-            else:
-                cls[name] = (cid((op, terms, t)), False)
-        elif op == "ite":
-            c, t, e = args
-            if c[1]:
-                t, e = e, t
-            c = (c[0], False)
-            if c[0] == one or t == e:
-                cls[name] = t  # after the swap a constant condition is 1
-            elif t[0] == one:  # c ? 1 : e is c or e;  c ? 0 : e is not c and e
-                cls[name] = neg(and_class([neg(c), neg(e)])) if not t[1] else \
-                    and_class([neg(c), e])
-            elif e[0] == one:  # c ? t : 1 is not c or t;  c ? t : 0 is c and t
-                cls[name] = neg(and_class([c, neg(t)])) if not e[1] else and_class([c, t])
-            else:
-                cls[name] = (cid(("ite", c[0], t, e)), False)
-        else:
-            cls[name] = (cid(("opaque", name)), False)
-    return cls
-
-
-# ---------------------------------------------------------------------- evaluation
-def _gate_value(g: Gate, args: list[np.ndarray], rows: int) -> np.ndarray:
+def gate_value(g: Gate, args: list[np.ndarray], rows: int) -> np.ndarray:
     """One gate's value over all rows (the gate graph's semantics, written out here)."""
     op = g.op
     if op == "const":
@@ -226,7 +81,7 @@ def _abs_z(n: Neuron, vals: list[np.ndarray], rows: int) -> np.ndarray:
     return np.abs(np.asarray(n.weights, dtype=float) @ np.stack(vals).astype(float) + n.bias)
 
 
-class _Local:
+class ConeCheck:
     """The state of one local check."""
 
     def __init__(self, net: Network, graph: GateGraph, max_leaves: int, deadline: float) -> None:
@@ -251,6 +106,10 @@ class _Local:
         self.helpers: set[str] = set()
         self._integer: dict[str, tuple[list[int], int]] = {}
         self.read_by_outputs = {self.resolve_output(o.source) for o in net.outputs}
+        self.cone_ok: dict[str, bool] = {}
+        self.deps: dict[str, set[str]] = {}
+        self.input_cones = 0
+        self.subnet: dict[str, list[str]] = {}
 
     def resolve_output(self, unit: str) -> str:
         """The unit an output reads through its relays (aliases are not known yet: the
@@ -347,7 +206,113 @@ class _Local:
 
     # -- one cone
     def check_cone(self, name: str) -> bool:
-        """Check one listed neuron (its helpers are added to ``helpers``)."""
+        """Check one listed neuron (its helpers are added to ``helpers``); the verdict is
+        kept in ``cone_ok``.  When the check over the leaves fails (a leaf treated as free
+        can take values it never takes, or the cone is not closed by its leaves), the cone
+        is checked again exactly over the primary inputs it depends on, when they are few."""
+        marks = (len(self.mismatch), len(self.problems))
+        ok = self._check_cone(name)
+        if not ok and name in self.deps and self._check_cone_inputs(name):
+            del self.mismatch[marks[0]:]
+            del self.problems[marks[1]:]
+            ok = True
+        self.cone_ok[name] = ok
+        return ok
+
+    def _check_cone_inputs(self, name: str) -> bool:
+        """The neuron against its root on every assignment of the primary inputs that the
+        root and the leaves depend on (at most ``max_leaves`` of them).  Exact: the leaf
+        units are taken to carry their signals' values (proved for them separately)."""
+        root, leaves = self.cones[name]
+        region: list[str] = []
+        support: list[str] = []
+        seen: set[str] = set()
+        stack = [root, *leaves]
+        while stack:
+            s = stack.pop()
+            if s in seen:
+                continue
+            seen.add(s)
+            g = self.graph.gates[s]
+            if g.op == "input":
+                support.append(s)
+                if len(support) > self.max_leaves:
+                    return False
+                continue
+            region.append(s)
+            if len(region) > _REGION_MAX:
+                return False
+            stack.extend(g.args)
+        support.sort(key=self.order.__getitem__)
+        k, cols = self._table(len(support))
+        rows = len(k)
+        val: dict[str, np.ndarray] = {s: cols[j] for j, s in enumerate(support)}
+        for s in sorted(region, key=self.order.__getitem__):
+            g = self.graph.gates[s]
+            val[s] = gate_value(g, [val[a] for a in g.args], rows)
+        by_class: dict[int, np.ndarray] = {}
+        for s in leaves:  # the value of each leaf class (flag False)
+            i, neg = self.cls[s]
+            by_class.setdefault(i, ~val[s] if neg else val[s])
+        units: dict[str, np.ndarray] = {}
+
+        def unit(u: str) -> np.ndarray:
+            base, neg = self.resolve(u)
+            if base in units:
+                v = units[base]
+            else:
+                i, f = self.carried[base]
+                v = ~by_class[i] if f else by_class[i]
+            return ~v if neg else v
+
+        sub = self.subnet[name]
+        for u in sorted(sub, key=self.position.__getitem__):
+            n = self.neurons[u]
+            W, K = self.integer(u)
+            vals = [unit(i) for i in n.inputs]
+            units[u] = _step(W, K, vals, rows)
+            if u == name and name in self.read_by_outputs:
+                self.margins[name] = float(_abs_z(n, vals, rows).min())
+        self.assignments += rows
+        if not np.array_equal(units[name], val[root]):
+            return False
+        self.input_cones += 1
+        return True
+
+    def same_function(self, a: str, b: str, negate: bool) -> bool:
+        """Whether signals ``a`` and ``b`` (``b`` negated if ``negate``) compute the same
+        function, on every assignment of the primary inputs they depend on (at most
+        ``max_leaves``; False beyond)."""
+        region: list[str] = []
+        support: list[str] = []
+        seen: set[str] = set()
+        stack = [a, b]
+        while stack:
+            s = stack.pop()
+            if s in seen:
+                continue
+            seen.add(s)
+            g = self.graph.gates[s]
+            if g.op == "input":
+                support.append(s)
+                if len(support) > self.max_leaves:
+                    return False
+                continue
+            region.append(s)
+            if len(region) > _REGION_MAX:
+                return False
+            stack.extend(g.args)
+        k, cols = self._table(len(support))
+        val: dict[str, np.ndarray] = {x: cols[j] for j, x in enumerate(support)}
+        for x in sorted(region, key=self.order.__getitem__):
+            g = self.graph.gates[x]
+            val[x] = gate_value(g, [val[y] for y in g.args], len(k))
+        self.assignments += len(k)
+        other = ~val[b] if negate else val[b]
+        return bool(np.array_equal(val[a], other))
+
+    def _check_cone(self, name: str) -> bool:
+        """Check one listed neuron over the values of its leaves."""
         root, leaves = self.cones[name]
         leaf_ids = sorted({self.cls[s][0] for s in leaves})
         index = {i: k for k, i in enumerate(leaf_ids)}
@@ -362,6 +327,7 @@ class _Local:
         region, extras = found
         # the sub-network from the leaf units to the neuron
         sub: list[str] = []
+        deps: set[str] = set()
         seen = set()
         stack = [name]
         while stack:
@@ -373,6 +339,7 @@ class _Local:
             if u != name:
                 c = self.carried.get(base)
                 if c is not None and c[0] in index:
+                    deps.add(base)
                     continue  # a unit carrying a leaf
                 if base in self.input_set:
                     self.problems.append(
@@ -387,6 +354,8 @@ class _Local:
             sub.append(base)
             stack.extend(self.neurons[base].inputs)
         self.helpers.update(u for u in sub if u != name)
+        self.deps[name] = deps
+        self.subnet[name] = sub
         consts: dict[int, bool] = {}
         if CONST_CLASS in index:  # a constant leaf is no variable: it is 1 (flag False)
             consts[CONST_CLASS] = True
@@ -565,7 +534,7 @@ class _Local:
         val = {x: ((k >> j) & 1).astype(bool) for j, x in enumerate(support)}
         for x in sorted(region, key=self.order.__getitem__):
             g = self.graph.gates[x]
-            val[x] = _gate_value(g, [val[a] for a in g.args], len(k))
+            val[x] = gate_value(g, [val[a] for a in g.args], len(k))
         v = val[s]
         if v.all():
             return True
@@ -590,7 +559,7 @@ class _Local:
 
         for s in sorted(region, key=self.order.__getitem__):
             g = self.graph.gates[s]
-            val[s] = _gate_value(g, [signal(a) for a in g.args], rows)
+            val[s] = gate_value(g, [signal(a) for a in g.args], rows)
         units: dict[str, np.ndarray] = {}
 
         def unit(u: str) -> np.ndarray:
@@ -646,7 +615,8 @@ class _Local:
             if region != [root] or g.op not in ("and", "or", "nand", "nor", "threshold",
                                                  "equal"):
                 return False
-            weights = g.weights if g.op in ("threshold", "equal") else (1,) * len(g.args)
+            weights = (g.weights if g.op in ("threshold", "equal") and g.weights is not None
+                       else (1,) * len(g.args))
             terms = {(self.cls[a][1], w) for a, w in zip(g.args, weights)}
             ids = [self.cls[a][0] for a in g.args]
             if len(terms) != 1 or len(set(ids)) != len(ids) or len(ids) != len(index):
@@ -716,177 +686,3 @@ class _Local:
             self.mismatch.append(f"{name!r} {what} its cone (root {root!r}, {len(names)} leaves)")
             return False
         return True
-
-
-def _undecided(notes: list[str], t0: float) -> Report:
-    return Report("undecided", "local", 0, [], notes=notes, seconds=time.perf_counter() - t0)
-
-
-def _random_counterexample(net: Network, source: Any) -> list:
-    """Counterexamples found by simulating both sides on random rows (may be none)."""
-    n = len(source.inputs)
-    rng = np.random.default_rng(0)
-    X = rng.integers(0, 2, size=(_RANDOM_ROWS, n)).astype(np.uint8)
-    perm = [list(source.inputs).index(u) for u in net.inputs]
-    expected = np.asarray(source.evaluate(X), dtype=bool)
-    got = net.decide(X[:, perm].astype(float))
-    order = [list(source.outputs).index(o.name) for o in net.outputs]
-    diff = np.nonzero((got != expected[:, order]).any(axis=1))[0]
-    if not len(diff):
-        return []
-    assignment = {u: int(X[diff[0], i]) for i, u in enumerate(source.inputs)}
-    return confirm_counterexample(net, source, assignment)
-
-
-def _rules_to_gates(source: Any, graph: GateGraph, time_limit: float,
-                    max_inputs: int) -> tuple[str, str, dict[str, int] | None]:
-    """Check the gate graph against the rules: (status, what was shown, a differing
-    assignment or None)."""
-    program = source.program
-    if program.is_typed():
-        return "undecided", "typed inputs: the rules-to-gates step is not checked locally", None
-    inputs, outputs = list(source.inputs), list(source.outputs)
-    n = len(inputs)
-    try:
-        import pysat  # noqa: F401
-
-        have_sat = True
-    except ImportError:
-        have_sat = False
-    if n <= RULES_EXHAUSTIVE_MAX or (not have_sat and n <= max_inputs):
-        sig = dict(graph.outputs)
-        total = 1 << n
-        for start in range(0, total, _CHUNK):
-            X = assignments(n, start, min(total, start + _CHUNK))
-            ref = np.asarray(source.evaluate(X), dtype=bool)
-            got = graph.simulate(X, [sig[o] for o in outputs])
-            bad = np.nonzero((ref != got).any(axis=1))[0]
-            if len(bad):
-                return "different", "", {u: int(X[bad[0], i]) for i, u in enumerate(inputs)}
-        return "equal", f"the gate graph equals the rules on all {total} assignments", None
-    if not have_sat:
-        return "undecided", (f"{n} inputs and no python-sat: the rules-to-gates step is not "
-                             "checked"), None
-    outcome = prove_equivalent(inputs, outputs, source_side(source), gates_side(graph),
-                               time_limit=time_limit)
-    if outcome.status == "equal":
-        return "equal", f"the gate graph equals the rules (sat: {miter_summary(outcome)})", None
-    if outcome.differing:
-        return "different", "", next(iter(outcome.differing.values()))
-    return "undecided", "the rules-to-gates miter: " + "; ".join(outcome.notes), None
-
-
-def verify_local(
-    net: Network,
-    source: Any,
-    *,
-    max_leaves: int = LOCAL_MAX_LEAVES,
-    max_inputs: int = 24,
-    time_limit: float = 60.0,
-) -> Report:
-    """Prove ``net`` equal to ``source`` neuron by neuron from ``meta.cones``.
-
-    Parameters
-    ----------
-    net
-        A step network with ``meta.cones`` (soft networks are a UsageError).
-    source
-        A :class:`~thresholdc.ir.reference.Reference`; its gate graph is rebuilt with the options in
-        ``net.meta``.
-    max_leaves
-        Cones with more leaves are proved by a small SAT miter instead of exhaustively.
-    max_inputs, time_limit
-        Bounds of the rules-to-gates step (exhaustive up to 16 inputs, else SAT within
-        ``time_limit`` seconds, or exhaustive up to ``max_inputs`` without python-sat).
-
-    Returns
-    -------
-    Report
-        ``equal`` with the proofs, ``different`` with counterexamples re-simulated on both
-        sides, or ``undecided`` with what could not be shown (method ``local``).
-
-    Examples
-    --------
-    >>> from thresholdc.ir.network import Network, Neuron, Output
-    >>> from thresholdc.logic.source import source_from_text
-    >>> src = source_from_text("INPUT(a)\\nINPUT(b)\\nOUTPUT(y)\\ny = NOR(a, b)\\n", "t.bench")
-    >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (-1, -1), 0.5),),
-    ...               (Output("y", "y"),), {"cones": {"y": {"root": "y", "leaves": ["a", "b"]}}})
-    >>> verify_local(net, src).proofs[0]
-    'local: each of 1 neuron(s) equals its gate cone (4 assignments, at most 2 leaves)'
-    """
-    t0 = time.perf_counter()
-    check_step_network(net)
-    check_names(net, source)
-    cones = net.meta.get("cones")
-    if not isinstance(cones, dict):
-        return _undecided(["the network records no gate cones (meta.cones)"], t0)
-    graph = source.gates_like(net) if hasattr(source, "gates_like") else source.gates()
-    loc = _Local(net, graph, max_leaves, t0 + time_limit)
-    if not loc.setup(cones):
-        return _undecided(loc.problems[:5], t0)
-    for n in net.neurons:
-        if n.name in loc.cones:
-            loc.check_cone(n.name)
-    covered = set(loc.cones) | set(loc.alias) | loc.helpers
-    stray = [n.name for n in net.neurons if n.name not in covered]
-    if stray:
-        loc.problems.append(f"neuron(s) in no recorded cone: {', '.join(stray[:5])}")
-    out_sig = dict(graph.outputs)
-    for o in net.outputs:
-        base, neg = loc.resolve(o.source)
-        c = loc.carried.get(base)
-        want = loc.cls.get(out_sig.get(o.name, ""))
-        if c is None or want is None or (c[0], c[1] != neg) != want:
-            loc.problems.append(
-                f"output {o.name!r} reads unit {o.source!r}, which does not carry its signal "
-                f"{out_sig.get(o.name)!r}"
-            )
-    if loc.mismatch or loc.problems:
-        found = _random_counterexample(net, source)
-        notes = (loc.mismatch + loc.problems)[:8]
-        if found:
-            return _report_different(net, found, notes, t0)
-        return _undecided(notes, t0)
-    widest = max((len({loc.cls[s][0] for s in leaves}) for _, leaves in loc.cones.values()),
-                 default=0)
-    proofs = [
-        f"local: each of {len(loc.cones)} neuron(s) equals its gate cone "
-        f"({loc.assignments} assignments, at most {widest} leaves"
-        + (f"; {loc.symmetric_cones} wide symmetric cone(s) by the count of true leaves"
-           if loc.symmetric_cones else "")
-        + (f"; {loc.sat_cones} wide cone(s) by SAT" if loc.sat_cones else "") + ")"
-    ]
-    if getattr(source, "program", None) is not None:
-        status, shown, assignment = _rules_to_gates(
-            source, graph, max(time_limit - (time.perf_counter() - t0), 0.0), max_inputs
-        )
-        if status == "different":
-            found = confirm_counterexample(net, source, assignment or {})
-            if found:
-                return _report_different(net, found, [], t0)
-            return _undecided(["the gate graph differs from the rules, but the network does "
-                               "not reproduce it (internal error)"], t0)
-        if status != "equal":
-            return Report("undecided", "local", loc.assignments, [], proofs=proofs,
-                          notes=[shown], seconds=time.perf_counter() - t0)
-        proofs.append(f"local: {shown}")
-    else:
-        proofs.append("local: the gate graph is the netlist itself")
-    outputs = []
-    for o in net.outputs:
-        base, _ = loc.resolve(o.source)
-        outputs.append(OutputReport(o.name, True, 0, [], loc.margins.get(base, 0.5)))
-    return Report("equal", "local", loc.assignments, outputs, proofs=proofs,
-                  seconds=time.perf_counter() - t0)
-
-
-def _report_different(net: Network, found: list, notes: list[str], t0: float) -> Report:
-    """A ``different`` report from confirmed counterexamples."""
-    by_output: dict[str, list] = {}
-    for c in found:
-        by_output.setdefault(c.output, []).append(c)
-    outputs = [OutputReport(o.name, o.name not in by_output, len(by_output.get(o.name, [])),
-                            by_output.get(o.name, []), None) for o in net.outputs]
-    return Report("different", "local", 0, outputs, notes=notes,
-                  seconds=time.perf_counter() - t0)
