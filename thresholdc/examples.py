@@ -131,6 +131,7 @@ def multiplier(n: int) -> str:
         for j in range(n):
             top = acc[j] if j < len(acc) else None
             if j == 0:
+                assert top is not None  # the running sum has at least n - 1 bits
                 s, carry = _nor_half(nl, row[0], top, s=f"p{i}")
             elif top is None:
                 s, carry = _nor_half(nl, row[j], carry)
@@ -151,15 +152,18 @@ def comparator(n: int) -> str:
     b = [f"b{i}" for i in range(n)]
     nl.inputs(a + b)
     nl.outputs(["lt", "eq"])
-    lt, eq = None, None
+    lt: str | None = None
+    eq: str | None = None
     for i in range(n - 1, -1, -1):
         e = nl.gate("XNOR", a[i], b[i])
         l_ = nl.gate("AND", nl.gate("NOT", a[i]), b[i])
         if lt is None:
             lt, eq = l_, e
         else:
+            assert eq is not None
             lt = nl.gate("OR", lt, nl.gate("AND", eq, l_))
             eq = nl.gate("AND", eq, e)
+    assert lt is not None and eq is not None  # n >= 1
     nl.gate("BUFF", lt, name="lt")
     nl.gate("BUFF", eq, name="eq")
     return nl.text()

@@ -22,7 +22,7 @@ from __future__ import annotations
 import html
 import io
 import re
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence, Set
 from typing import Any
 
 from . import export
@@ -53,7 +53,7 @@ def _e(x: Any) -> str:
     return html.escape(str(x), quote=True)
 
 
-def _table(header: Sequence[str], rows: Sequence[Sequence[Any]], numeric: set[int] = frozenset()
+def _table(header: Sequence[str], rows: Sequence[Sequence[Any]], numeric: Set[int] = frozenset()
            ) -> str:
     head = "".join(f"<th>{_e(h)}</th>" for h in header)
     thead = f"<thead><tr>{head}</tr></thead>" if any(header) else ""
@@ -205,7 +205,7 @@ def _verification(net: Network, rules: Any) -> str:
     return "".join(out)
 
 
-def _curve_svg(xs: Sequence[float], series: dict[str, Sequence[float]], xlabel: str,
+def _curve_svg(xs: Sequence[float], series: Mapping[str, Sequence[float]], xlabel: str,
                ylabel: str, *, logx: bool = False) -> str:
     """A small line chart as inline SVG (matplotlib; empty without it)."""
     try:
@@ -272,7 +272,8 @@ def _training(net: Network) -> str:
         out.append(_curve_svg(curves[0], curves[1], "epoch", "value"))
     anchor = training.get("anchor")
     grid = anchor.get("grid") if isinstance(anchor, dict) else None
-    if isinstance(grid, list) and grid and all("anchor" in g and "loss" in g for g in grid):
+    if (isinstance(anchor, dict) and isinstance(grid, list) and grid
+            and all("anchor" in g and "loss" in g for g in grid)):
         out.append(f"<p>Anchor strength chosen by {_e(anchor.get('method', 'search'))}: "
                    f"λ = {_e(anchor.get('value'))}; held-out loss per λ:</p>")
         out.append(_curve_svg([float(g["anchor"]) for g in grid],

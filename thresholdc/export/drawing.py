@@ -66,8 +66,8 @@ SIDE_ROWS = 24  # entries of the side table of unplaced weights
 # Okabe & Ito (2008), "Color Universal Design": bluish green and reddish purple.
 POSITIVE = "#009E73"
 NEGATIVE = "#CC79A7"
-POSITIVE_STYLE = "-"
-NEGATIVE_STYLE = (0, (5, 2.5))
+POSITIVE_STYLE: Any = "-"
+NEGATIVE_STYLE: Any = (0, (5, 2.5))
 RELAY = "#a0a0a0"
 GATE_FACE = "#f3f0e6"
 GATE_EDGE = "#6e6650"

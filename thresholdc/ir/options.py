@@ -16,7 +16,7 @@ this order, see :meth:`CompileOptions.recorded`); ``verify``, ``max_inputs`` and
 >>> CompileOptions(cut_size=1)
 Traceback (most recent call last):
 ...
-thresholdc.errors.UsageError: <input>: The 'cut_size' option must be an integer from 2 to 10. \
+thresholdc.errors.UsageError: The 'cut_size' option must be an integer from 2 to 10. \
 Got 1 instead.
 """
 
@@ -88,7 +88,7 @@ class CompileOptions:
     >>> CompileOptions(activation="swish")  # doctest: +ELLIPSIS
     Traceback (most recent call last):
     ...
-    thresholdc.errors.UsageError: <input>: The 'activation' option must be one of step, sigmoid, \
+    thresholdc.errors.UsageError: The 'activation' option must be one of step, sigmoid, \
 tanh, relu. Got 'swish' instead.
     """
 
@@ -175,7 +175,7 @@ tanh, relu. Got 'swish' instead.
         >>> CompileOptions.from_keywords(fan_in=2)  # doctest: +ELLIPSIS
         Traceback (most recent call last):
         ...
-        thresholdc.errors.UsageError: <input>: unknown option(s) fan_in; valid options: ...
+        thresholdc.errors.UsageError: unknown option(s) fan_in; valid options: ...
         """
         names = [f.name for f in fields(cls)]
         unknown = sorted(set(given) - set(names))

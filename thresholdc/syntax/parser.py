@@ -179,7 +179,8 @@ def _hint(tok: Token, prev: Token | None, expected: set[str]) -> str:
     if prev is not None and str(tok.value) in ("&", "|") and str(prev.value) == str(tok.value):
         doubled = str(prev.value) * 2
         return f"'{doubled}' is written '{_FOREIGN[doubled]}' (or a single '{tok.value}')"
-    if tok.type == "_NL" and is_expr and prev is not None and _continues(tok.line):
+    if (tok.type == "_NL" and is_expr and prev is not None and tok.line is not None
+            and _continues(tok.line)):
         return ("a statement continues on the next line only while a bracket is open: put "
                 "the right-hand side in brackets, as in 'y = (a and' … 'b)'")
     return ""
