@@ -112,7 +112,7 @@ def run_case(case: Case, seconds: float = CASE_SECONDS) -> list[str]:
         if code is not None and code not in ALLOWED_CODES:
             failures.append(f"exit {code}: {text.strip()[:300]}")
         if code == 2:
-            lines = text.splitlines()
+            lines = text.rstrip("\n").split("\n")  # a source line may hold \x1c etc.
             if not lines or not lines[0].startswith("thresholdc: error: "):
                 failures.append(f"exit 2 without an error line: {text[:200]!r}")
             elif len(lines) not in (1, 3):

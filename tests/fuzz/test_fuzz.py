@@ -114,3 +114,11 @@ def test_numbers_out_of_range_are_one_rule_error(text):
     with pytest.raises(RuleError, match="out of range|too large") as info:
         parse(text)
     assert len(info.value.message) < 200
+
+
+def test_campaign_findings_stay_fixed():
+    # cases the long campaign found (benchmarks/fuzz_campaign.py --seed 1): a bias of 1e308 that
+    # overflowed when doubled, ONNX metadata that is not UTF-8, a source line holding \x1d
+    for family, seed in [("network", 1000000620), ("onnx", 1000002723), ("onnx", 2000047179),
+                         ("onnx", 2000067048)]:
+        assert run_case(make_case(family, seed)) == [], (family, seed)

@@ -177,7 +177,11 @@ class _Reader:
         W = (B if attrs.get("transB", 0) else B.T) * float(attrs.get("alpha", 1.0))
         b = np.zeros(W.shape[0])
         if len(node.input) > 2 and node.input[2]:
-            b = b + float(attrs.get("beta", 1.0)) * self.const(node.input[2], node).reshape(-1)
+            c = self.const(node.input[2], node).reshape(-1)
+            if c.shape[0] not in (1, W.shape[0]):
+                raise self.fail(f"Gemm node {node.name!r} has {c.shape[0]} biases for "
+                                f"{W.shape[0]} outputs")
+            b = b + float(attrs.get("beta", 1.0)) * c
         self.values[out] = self.affine(node, x, W, b)
 
     def op_MatMul(self, node: onnx.NodeProto, attrs: dict[str, Any], out: str) -> None:
@@ -312,7 +316,7 @@ def _metadata(model: onnx.ModelProto) -> dict[str, Any]:
     for prop in model.metadata_props:
         try:
             meta[prop.key] = json.loads(prop.value)
-        except json.JSONDecodeError:
+        except (ValueError, RecursionError):  # not JSON, or bytes that are not even UTF-8
             meta[prop.key] = prop.value
     return meta
 

@@ -133,9 +133,8 @@ def _expect(cond: bool, file: str, message: str) -> None:
 def _is_number(x: Any) -> bool:
     if isinstance(x, bool) or not isinstance(x, (int, float)):
         return False
-    if isinstance(x, int):
-        return abs(x) < 2**1000  # beyond that it has no float value to compute with
-    return math.isfinite(x)
+    # beyond 2^1000 a value overflows as soon as it is doubled or summed: refused as out of range
+    return abs(x) < 2**1000
 
 
 def _is_int(x: Any) -> bool:
@@ -245,7 +244,7 @@ def from_dict(data: Any, file: str = "<network>") -> Network:
         _expect(
             isinstance(ws, list) and all(_is_number(w) for w in ws),
             file,
-            f"{where}: \"weights\" must be a list of finite numbers",
+            f"{where}: \"weights\" must be a list of finite numbers (below 2^1000 in size)",
         )
         _expect(
             len(ins) == len(ws),
@@ -256,7 +255,8 @@ def from_dict(data: Any, file: str = "<network>") -> Network:
         _expect(connections <= MAX_CONNECTIONS, file,
                 f"more than {MAX_CONNECTIONS} weights: over the reader's bound")
         bias = raw["bias"]
-        _expect(_is_number(bias), file, f"{where}: \"bias\" must be a finite number")
+        _expect(_is_number(bias), file,
+                f"{where}: \"bias\" must be a finite number (below 2^1000 in size)")
         layer = raw["layer"]
         _expect(_is_int(layer), file, f"{where}: \"layer\" must be an integer")
         activation = raw["activation"]

@@ -109,7 +109,7 @@ class _Builder:
                            np.array([[max(p[1] for p in f.pieces) for f in domain.continuous]]))
         self.zlo, self.zhi = root.zlo[0], root.zhi[0]
         self.strict = False
-        self.bridges: list[tuple[dict[int, float], float, float, float]] | None = None
+        self.bridges: list | None = None
         self.breaks: dict[int, list[float]] = {}
         for j, n in enumerate(net.neurons):
             if n.activation in _SMOOTH:
@@ -179,17 +179,17 @@ class _Builder:
         if self.bridges is None:
             self.bridges = self._bridges(m, info)  # adds its rows to m as it goes
         else:
-            for coefs, const, lo, hi in self.bridges:
-                m.row(coefs, const, lo, hi)
+            self._bridge_rows(m, info, self.bridges)
         return m, info
 
     def _bridges(self, m: Model, info: dict[str, Any]) -> list:
-        """Rows tying each unit that carries a definition (its origin) to the definition's
+        """Bounds tying each unit that carries a definition (its origin) to the definition's
         rule value: ``r = 1 ⇒ z ≥ l₁`` and ``r = 0 ⇒ z ≤ u₀``, with ``l₁``/``u₀`` the optimum
         of the linear relaxation of the whole model with ``r`` fixed (a sound bound, as the
         relaxation contains every point).  Computed once, in topological order, each row
-        helping the next; they shorten the MILP's search without changing its answer."""
-        rows: list = []
+        helping the next; kept as ``(neuron, definition, l₁, u₀)`` and written into every
+        later model by :meth:`_bridge_rows` (variable numbers change as pieces are added)."""
+        out: list = []
         rules = info["rules"]
         budget = time.perf_counter() + _BRIDGE_SECONDS
         for j, n in enumerate(self.net.neurons):
@@ -197,31 +197,34 @@ class _Builder:
             if r is None or not r[0] or time.perf_counter() > budget:
                 continue
             z = info["zvars"][j]
-            L, U = float(self.zlo[j]), float(self.zhi[j])
             found: list[float | None] = []
             for value, sign in ((1, 1.0), (0, -1.0)):
                 mark = m.mark()
                 m.row(r[0], r[1], value, value)
                 sol = m.solve(time_limit=2.0, objective={z: sign}, relaxed=True)
                 m.undo(mark)
-                if sol.status == "infeasible" or sol.dual_bound is None:
+                if sol.status != "feasible" or sol.dual_bound is None:  # optimum only
                     found.append(None)
                     continue
                 best = sign * sol.dual_bound
                 found.append(best - 1e-7 * (1 + abs(best)) if value else
                              best + 1e-7 * (1 + abs(best)))
-            l1, u0 = found
+            entry = (j, n.origin, found[0], found[1])
+            out.append(entry)
+            self._bridge_rows(m, info, [entry])
+        return out
+
+    def _bridge_rows(self, m: Model, info: dict[str, Any], entries: list) -> None:
+        for j, name, l1, u0 in entries:
+            r = info["rules"][name]
+            z = info["zvars"][j]
+            L, U = float(self.zlo[j]), float(self.zhi[j])
             if l1 is not None and l1 > L:  # z ≥ L + (l1 − L)·r
-                row = ({z: 1.0, **{v: -(l1 - L) * c for v, c in r[0].items()}},
-                       -(l1 - L) * r[1], L, np.inf)
-                rows.append(row)
-                m.row(*row)
+                m.row({z: 1.0, **{v: -(l1 - L) * c for v, c in r[0].items()}},
+                      -(l1 - L) * r[1], L, np.inf)
             if u0 is not None and u0 < U:  # z ≤ u0 + (U − u0)·r
-                row = ({z: 1.0, **{v: -(U - u0) * c for v, c in r[0].items()}},
-                       -(U - u0) * r[1], -np.inf, u0)
-                rows.append(row)
-                m.row(*row)
-        return rows
+                m.row({z: 1.0, **{v: -(U - u0) * c for v, c in r[0].items()}},
+                      -(U - u0) * r[1], -np.inf, u0)
 
     def _activation(self, m: Model, name: str, z: int, L: float, U: float, j: int,
                     bipolar: bool) -> Affine:
