@@ -44,9 +44,19 @@ from thresholdc.verification import verify_network  # noqa: E402
 METHODS = ("exhaustive", "sat", "local", "bounds", "auto")
 
 
+#: Examples with more input units than this are left out (every mutant is decided exhaustively).
+MAX_INPUTS = 16
+
+
 def circuits() -> list[tuple[str, Reference]]:
-    """The bundled examples and a few generated netlists (at most 14 inputs each)."""
-    out = [(p.name, load_source(str(p))) for p in sorted((ROOT / "circuits").glob("*.rules"))]
+    """The bundled examples and a few generated netlists whose truth tables are small enough
+    to decide every mutant exactly (at most ``MAX_INPUTS`` input units; larger examples, such
+    as the typed refinement scenario, are left out)."""
+    out = []
+    for p in sorted((ROOT / "circuits").glob("*.rules")):
+        source = load_source(str(p))
+        if len(compile_source(source).network.inputs) <= MAX_INPUTS:
+            out.append((p.name, source))
     for name, text in (("adder3.bench", gc.adder(3)), ("comparator4.bench", gc.comparator(4)),
                        ("multiplier3.bench", gc.multiplier(3)), ("parity7.bench", gc.parity(7))):
         out.append((name, source_from_text(text, name)))
