@@ -33,8 +33,8 @@ from thresholdc.compiler import compile_rules  # noqa: E402
 from thresholdc.errors import VerificationUndecided  # noqa: E402
 from thresholdc.logic.source import source_from_text  # noqa: E402
 from thresholdc.network import to_relu  # noqa: E402
+from thresholdc.verification import verify_trained  # noqa: E402
 from thresholdc.verification.bounds import verify_bounds  # noqa: E402
-from thresholdc.verification.retention import verify_trained  # noqa: E402
 
 ROOT = pathlib.Path(__file__).resolve().parents[1]
 

@@ -19,9 +19,9 @@ from thresholdc.errors import UsageError
 from thresholdc.ir.network import Neuron
 from thresholdc.logic import RuleSource
 from thresholdc.logic.source import source_from_text
+from thresholdc.verification import retained_definitions, verify_network, verify_trained
 from thresholdc.verification.definitions import definition_units
 from thresholdc.verification.domain import boolean_or_typed_domain, network_rows
-from thresholdc.verification.retention import retained_definitions, verify_trained
 
 tl = load_trained_like()
 
@@ -103,3 +103,29 @@ def test_named_subset_and_unknown_name():
         Neuron("hot", n.layer, n.inputs, n.weights, n.bias + 1.0, n.activation, n.role,
                n.origin) if n.name == "hot" else n for n in net.neurons))
     assert retained_definitions(broken, source_from_text(text))["hot"].verdict == "different"
+
+
+def test_auto_sends_a_relu_network_on_a_large_typed_domain_to_the_milp():
+    # 12 categorical inputs of 4 values: 4^12 = 16,777,216 valid assignments, too many to
+    # enumerate; the exact ReLU form is no step network, so typed SAT does not apply.
+    names = [f"c{i}" for i in range(12)]
+    text = ("input " + ", ".join(f"{n}: {{a, b, c, d}}" for n in names) + "\n"
+            "hot = atleast(2, c0 == a, c1 == b, c2 in {a, c})\n"
+            "y = hot and not (c3 == d)\n")
+    wrong = text.replace("c3 == d", "c3 == c")
+    net = compile_rules(text, activation="relu")
+    same = verify_network(net, source_from_text(text, "t.rules"))
+    assert same.method.startswith("milp") and same.result == "equal"
+    differs = verify_network(net, source_from_text(wrong, "t.rules"))
+    assert differs.method.startswith("milp") and differs.result == "different"
+    row = differs.outputs[0].counterexamples[0].assignment
+    assert row["c3"] in ("c", "d")  # the planted difference is at c3, in the user's values
+    # the counterexample is real: the rules and the network disagree on it
+    assert {o.verdict for o in differs.outputs} == {"different"}
+
+
+def test_milp_is_a_method_of_its_own():
+    text = "input k: {a, b, c}\ny = k == a\n"
+    net = compile_rules(text, activation="relu")
+    report = verify_network(net, source_from_text(text, "k.rules"), method="milp")
+    assert report.result == "equal" and report.method.startswith("milp")

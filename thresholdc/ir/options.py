@@ -36,7 +36,7 @@ __all__ = [
 ]
 
 #: The verification methods of a compile (``none``: do not verify).
-VERIFY_METHODS = ("auto", "exhaustive", "local", "sat", "bounds", "none")
+VERIFY_METHODS = ("auto", "exhaustive", "local", "sat", "bounds", "milp", "none")
 #: The tolerance of a sigmoid or tanh compile given neither a gain nor a tolerance.
 DEFAULT_TOLERANCE = 0.01
 

@@ -8,9 +8,10 @@ from .domain import boolean_or_typed_domain, check_names, network_rows
 from .exhaustive import DEFAULT_MAX_INPUTS, verify_exhaustive
 from .local import verify_local
 from .report import Counterexample, OutputReport, Report, combined_result, undecided_outputs
-from .retention import retained_definitions, verify_trained
+from .retention import retained_definitions
 from .sat import verify_sat
 from .sat.typed import verify_typed_sat
+from .trained import verify_trained
 from .typed import verify_typed
 
 __all__ = [

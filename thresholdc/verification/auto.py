@@ -1,4 +1,5 @@
-"""Choosing a verification method: ``auto``, ``exhaustive``, ``local``, ``sat`` or ``bounds``.
+"""Choosing a verification method: ``auto``, ``exhaustive``, ``local``, ``sat``, ``bounds``
+or ``milp``.
 
 ``auto``'s rule is a work bound, not an input count alone: it checks every assignment when
 there are at most ``max_inputs`` inputs *and* the table is small, 2^inputs × (neurons + 1)
@@ -6,8 +7,12 @@ unit evaluations at most :data:`EXHAUSTIVE_WORK` (2^23; e.g. 20 inputs with at m
 neurons).  Otherwise, for a step network, it runs ``local`` (each neuron against its
 recorded gate cone, plus the rules-to-gates step for rule files); every output that local
 left undecided goes to a ``sat`` miter in the rest of the time budget; and, within
-``max_inputs``, the exhaustive check decides whatever is still open.  Typed sources and soft
-networks above the bound go to their own methods (``verify_typed``, ``verify_bounds``).
+``max_inputs``, the exhaustive check decides whatever is still open.  Typed sources go to their
+own methods: a small valid domain is enumerated (``verify_typed``); above that a step network
+gets the typed SAT miter, and any other (trained, soft, ReLU) network ``milp``
+(:func:`~thresholdc.verification.trained.verify_trained`: a MILP, then linear-relaxation
+branch-and-bound for sigmoid/tanh).  Soft networks with Boolean inputs above the bound go to
+``verify_bounds``.
 
 Each output keeps the first decision a method made (``equal`` is a proof, ``different`` a
 re-simulated counterexample; an exact count from a later exhaustive run replaces a count of
@@ -41,6 +46,7 @@ from .report import OutputReport, Report, undecided_outputs
 from .sat.encode import check_step_network
 from .sat.method import verify_sat
 from .sat.typed import typed_sat_problem, verify_typed_sat
+from .trained import verify_trained
 from .typed import verify_typed
 
 __all__ = ["verify_network", "merge_reports", "METHODS"]
@@ -119,6 +125,8 @@ def verify_network(
         return verify_sat(net, source, time_limit=time_limit)
     if method == "bounds":
         return verify_bounds(net, source, time_limit=time_limit)
+    if method == "milp":
+        return verify_trained(net, source, time_limit=time_limit)
     if is_typed_source(source):  # valid one-hot assignments, real cells or bands
         return _typed(net, source, max_inputs, time_limit)
     n = len(source.inputs)
@@ -182,11 +190,14 @@ def _typed(net: Network, source: Any, max_inputs: int, time_limit: float) -> Rep
         problem = typed_sat_problem(net, source)
     except VerificationUndecided:
         pass
-    if problem is None:
-        return verify_typed(net, source, max_inputs=max_inputs, time_limit=time_limit)
     domain = typed_domain(net, source)
-    if domain.size <= (1 << max_inputs) and domain.size * (len(net.neurons) + 1) <= \
-            EXHAUSTIVE_WORK:
+    small = domain.size <= (1 << max_inputs) and domain.size * (len(net.neurons) + 1) <= \
+        EXHAUSTIVE_WORK
+    if problem is None and not small:
+        # a trained or soft network on a large typed domain: the complete MILP (then, for
+        # sigmoid or tanh, linear-relaxation branch-and-bound), never the banded check
+        return verify_trained(net, source, time_limit=time_limit)
+    if problem is None or small:
         return verify_typed(net, source, max_inputs=max_inputs, time_limit=time_limit)
     t0 = time.perf_counter()
     reports = [verify_typed_sat(net, source, time_limit=time_limit)]

@@ -1,125 +1,25 @@
-"""Retention: which outputs and which definitions of a rule file a trained network still
-computes, decided output by output.
+"""Retention: which definitions of a rule file a trained network still computes, decided
+definition by definition.
 
-:func:`verify_trained` picks the method by the network's activations:
-
-* step, ReLU and linear neurons only: the MILP (:mod:`thresholdc.verification.milp`), exact up to
-  HiGHS's floating-point verdicts;
-* sigmoid or tanh: first the MILP with sound piecewise-linear envelopes of the activations
-  (three quarters of the time), then, for the outputs still open, the relaxation
-  branch-and-bound (:mod:`thresholdc.verification.relax`) in the rest.
-
-:func:`retained_definitions` asks the same question of every definition that has a unit of
-its own in the network (:func:`thresholdc.verification.definitions.definition_units`: the
-neuron named after it): that unit read against the decision threshold is compared with the
-definition's rules, over the same domain, through
-:func:`~thresholdc.verification.definitions.verify_definitions` with this module's methods
-as its backend.
-
->>> from thresholdc.compiler import compile_rules
->>> from thresholdc.logic.source import source_from_text
->>> text = "input c: {red, green, blue}, a\\nhot = c == red\\ny = hot and a\\n"
->>> net = compile_rules(text, activation="sigmoid", layered=True)
->>> report = verify_trained(net, source_from_text(text))
->>> report.result, [o.verdict for o in report.outputs]
-('equal', ['equal'])
+:func:`retained_definitions` asks of every definition that has a unit of its own in the
+network (:func:`thresholdc.verification.definitions.definition_units`: the neuron named after
+it) whether that unit, read against the decision threshold, computes the definition's rules
+over the same domain, through
+:func:`~thresholdc.verification.definitions.verify_definitions` with
+:func:`~thresholdc.verification.trained.verify_trained` as its backend (the per-output check of
+trained networks).
 """
 
 from __future__ import annotations
 
-import time
-from dataclasses import replace
 from typing import Any
 
 from ..ir.network import Network
-from ..logic import RuleSource
 from .definitions import as_definitions, verify_definitions
-from .domain import check_names, typed_domain
-from .milp import milp_domain, run_milp
-from .relax import DEFAULT_MAX_NODES, run_relax
-from .report import OutputReport, Report
+from .report import OutputReport
+from .trained import verify_trained
 
-__all__ = ["verify_trained", "retained_definitions"]
-
-_EXACT = {"step", "relu", "linear"}
-_MILP_SHARE = 0.75
-
-
-def _restrict(network: Network, source: Any, names: list[str]) -> tuple[Network, Any]:
-    """The network and the rules with only the outputs ``names``."""
-    outs = tuple(o for o in network.outputs if o.name in names)
-    program = replace(source.program, outputs=tuple(o.name for o in outs))
-    return replace(network, outputs=outs), RuleSource(source.file, source.text, program)
-
-
-def verify_trained(
-    network: Network,
-    source: Any,
-    *,
-    max_nodes: int = DEFAULT_MAX_NODES,
-    time_limit: float = 60.0,
-    progress: bool | None = None,
-) -> Report:
-    """Decide per output whether a trained (or soft) ``network`` computes ``source``'s rules.
-
-    Parameters
-    ----------
-    network : Network
-        Any activations among step, relu, linear, sigmoid, tanh; typed or Boolean inputs.
-    source : RuleSource
-        The rule file (same input units and output names).
-    max_nodes : int
-        Boxes of the relaxation branch-and-bound (soft networks).
-    time_limit : float
-        Seconds for the whole check.
-    progress : bool or None
-        Progress bars on a terminal (None: as the command line set them).
-
-    Returns
-    -------
-    Report
-        Method ``milp`` or ``milp+relax``; per output ``equal`` (proven),
-        ``different`` (re-checked counterexamples in the user's column names and values) or
-        ``undecided`` with the bound reached.
-
-    Examples
-    --------
-    >>> from thresholdc.compiler import compile_rules
-    >>> from thresholdc.logic.source import source_from_text
-    >>> net = compile_rules("input k: {a, b, c}\\ny = k == a\\n")
-    >>> r = verify_trained(net, source_from_text("input k: {a, b, c}\\ny = k == b\\n"))
-    >>> r.outputs[0].verdict, sorted(c.assignment["k"] for c in r.outputs[0].counterexamples)
-    ('different', ['a', 'b'])
-    """
-    t0 = time.perf_counter()
-    check_names(network, source)
-    kinds = {n.activation for n in network.neurons}
-    if kinds <= _EXACT:
-        report = run_milp(network, source, milp_domain(network, source),
-                          time_limit=time_limit, progress=progress)
-        report.seconds = time.perf_counter() - t0
-        return report
-    first = run_milp(network, source, milp_domain(network, source),
-                     time_limit=time_limit * _MILP_SHARE, progress=progress)
-    open_names = [o.name for o in first.outputs if o.verdict == "undecided"]
-    left = time_limit - (time.perf_counter() - t0)
-    if not open_names or left <= 0:
-        first.seconds = time.perf_counter() - t0
-        return first
-    net2, src2 = _restrict(network, source, open_names)
-    second = run_relax(net2, src2, typed_domain(net2, src2), max_nodes=max_nodes,
-                       time_limit=left, progress=progress)
-    by_name = {o.name: o for o in second.outputs}
-    outputs = []
-    for o in first.outputs:
-        o2 = by_name.get(o.name)
-        if o2 is not None and o2.verdict == "undecided" and o.bound:
-            o2 = replace(o2, bound=f"milp: {o.bound}; relax: {o2.bound}")
-        outputs.append(o2 if o2 is not None else o)
-    notes = list(dict.fromkeys(first.notes + second.notes))
-    return Report.of("milp+relax", first.assignments, outputs,
-                  proofs=first.proofs + second.proofs, notes=notes,
-                  seconds=time.perf_counter() - t0)
+__all__ = ["retained_definitions"]
 
 
 def _trained_backend(**limits: Any) -> Any:
