@@ -3,25 +3,15 @@ the degradations, and one fold of refinement from a damaged rule file."""
 
 from __future__ import annotations
 
-import importlib.util
 import itertools
-import pathlib
 
 import numpy as np
 import pytest
 
+from tests.benchmark_modules import load_benchmark
 from thresholdc.logic.reference import evaluate_definitions
 
-
-def load_bench():
-    path = pathlib.Path(__file__).resolve().parents[2] / "benchmarks" / "refine_bench.py"
-    spec = importlib.util.spec_from_file_location("refine_bench", path)
-    mod = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(mod)
-    return mod
-
-
-bench = load_bench()
+bench = load_benchmark("refine_bench")
 TRUE = bench.true_source()
 
 

@@ -6,12 +6,10 @@ from __future__ import annotations
 
 import importlib.util
 import io
-from pathlib import Path
 
-_PATH = Path(__file__).resolve().parents[2] / "benchmarks" / "mutate_verify.py"
-_spec = importlib.util.spec_from_file_location("mutate_verify", _PATH)
-mv = importlib.util.module_from_spec(_spec)
-_spec.loader.exec_module(mv)
+from tests.benchmark_modules import load_benchmark
+
+mv = load_benchmark("mutate_verify")
 
 METHODS = tuple(m for m in mv.METHODS
                 if m != "sat" or importlib.util.find_spec("pysat") is not None)

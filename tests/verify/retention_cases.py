@@ -10,23 +10,18 @@ network as a short fine-tuning would.
 
 from __future__ import annotations
 
-import importlib.util
 import itertools
-import pathlib
 
 import numpy as np
 
+from tests.benchmark_modules import load_benchmark
 from thresholdc.logic.source import source_from_text
 from thresholdc.verification.domain import boolean_or_typed_domain, network_rows
 
 
 def load_trained_like():
     """benchmarks/trained_like.py as a module."""
-    path = pathlib.Path(__file__).resolve().parents[2] / "benchmarks" / "trained_like.py"
-    spec = importlib.util.spec_from_file_location("trained_like", path)
-    mod = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(mod)
-    return mod
+    return load_benchmark("trained_like")
 
 
 VALUES = ["a", "b", "c", "d"]

@@ -12,20 +12,14 @@
 
 from __future__ import annotations
 
-import importlib.util
-import pathlib
-
+from tests.benchmark_modules import load_benchmark
 from thresholdc.ir.network import Network, Neuron, Output
 from thresholdc.network.layering import assign_layers
 
 
 def load_gen_circuits():
     """The benchmark circuit generator module (stdlib only), loaded from its file."""
-    path = pathlib.Path(__file__).resolve().parents[2] / "benchmarks" / "gen_circuits.py"
-    spec = importlib.util.spec_from_file_location("gen_circuits", path)
-    mod = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(mod)
-    return mod
+    return load_benchmark("gen_circuits")
 
 
 def gate_for_gate(graph) -> Network:
