@@ -137,7 +137,7 @@ def main() -> None:
     print(f"fixed weight w = {OMEGA:g} (Towell & Shavlik 1994, from memory) against certified "
           f"gains at EPS = {EPS} (ours);")
     print("error = the worst |output - truth| over all inputs (measured with the evaluator);")
-    print("bound = the certified deviation propagated for that setting (issue 4 section 1);")
+    print("bound = the certified deviation propagated for that setting;")
     print("reads = whether every output is still read right (error < 0.5); certify s = our")
     print("time to derive and certify the gains, margins enumerated up to 20 inputs.")
     table("chain of ANDs: AND_k reads AND_{k-1} and p-1 fresh inputs", and_chain, fanins,

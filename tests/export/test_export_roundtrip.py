@@ -1,4 +1,4 @@
-"""Compiled networks through every export, and the retention round trip of issue 5 §4:
+"""Compiled networks through every export, and the retention round trip:
 compile → export → change the weights outside → import → verify, with the verdict both ways."""
 
 from __future__ import annotations

@@ -28,7 +28,7 @@ def test_and_pair_and_output_unit() -> None:
                   (Output("y", "y"),))
     r = to_relu(net)
     pos, neg, out = r.neurons
-    # step(z) = ReLU(z + 1/2) - ReLU(z - 1/2) on |z| >= 1/2 (issue 4 §2)
+    # step(z) = ReLU(z + 1/2) - ReLU(z - 1/2) on |z| >= 1/2
     assert (pos.weights, pos.bias, pos.activation) == ((1.0, 1.0), -1.0, "relu")
     assert (neg.weights, neg.bias, neg.activation) == ((1.0, 1.0), -2.0, "relu")
     assert (out.inputs, out.weights, out.bias, out.activation) == (

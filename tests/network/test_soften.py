@@ -306,7 +306,7 @@ def test_tanh_bipolar_sign_agreement(eps: float, seed: int) -> None:
 
 
 def test_tanh_gain_formula_for_one_neuron() -> None:
-    # 1 - tanh(g * m) = EPS with m = 0.5: g = atanh(1 - EPS) / 0.5 (issue 4 §3).
+    # 1 - tanh(g * m) = EPS with m = 0.5: g = atanh(1 - EPS) / 0.5.
     net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
     soft = apply_activation(net, activation="tanh", encoding="bipolar", tolerance=0.01)
     g = soft.meta["certificate"]["neurons"]["n"]["gain"]

@@ -187,7 +187,7 @@ def test_soft_real_neuron_is_within_tolerance_at_one_scale(scale):
     step = compile_rules(text)
     real = [n for n in soft.neurons if "temp" in n.inputs]
     assert len(real) == 1
-    # The gain is at least ln(1/eps - 1)/scale (issue 5: within eps at distance >= scale).
+    # The gain is at least ln(1/eps - 1)/scale (within eps at distance >= scale).
     assert abs(real[0].weights[0]) * scale >= math.log(1 / eps - 1) - 1e-9
     xs = [30.5 - scale, 30.5 + scale, -40.0, 60.0, 30.5 + 3 * scale]
     points = [{"temp": x, "door": d} for x in xs for d in (0, 1)]

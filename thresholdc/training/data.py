@@ -1,6 +1,6 @@
 """Data files: a CSV table turned into input units and output labels for a network.
 
-The first row names the columns.  A network's ``features`` (issue 5 §1) say how a column becomes
+The first row names the columns.  A network's ``features`` say how a column becomes
 input units: a ``bool`` column is one 0/1 unit (``0``/``1``/``true``/``false``, any case,
 spaces trimmed), a ``categorical`` column becomes one-hot units (values match the declared
 values as exact strings after trimming), a ``real`` column is one unit carrying the number.

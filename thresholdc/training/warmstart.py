@@ -1,6 +1,6 @@
 """Where training starts: the compiled rules with certified sigmoid gains, made dense.
 
-The recipe (issue 5 §3):
+The recipe:
 
 1. The compiled step network gets certified sigmoid gains in its strict layered form
    (:func:`thresholdc.network.soften.apply_activation` with ``layered=True``), so before any

@@ -1,4 +1,4 @@
-"""Check the certificate of a soft (sigmoid or tanh) network (issue 4 §1).
+"""Check the certificate of a soft (sigmoid or tanh) network: its certified error bound.
 
 A soft network stores, in ``meta.certificate``, each neuron's pre-gain margin, its gain and its
 certified deviation bound (see :mod:`thresholdc.network.soften`).  :func:`check_certificate`
