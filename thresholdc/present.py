@@ -33,6 +33,11 @@ def _integral(values: list[float], gain: float, half_bias: float) -> bool:
     return ok and abs(b - round(b)) <= 1e-4 * max(1.0, abs(b))
 
 
+def _mapping(value: Any) -> dict[str, Any]:
+    """``value`` if it is a JSON object, else an empty one."""
+    return value if isinstance(value, dict) else {}
+
+
 def degain(network: Any) -> dict[str, float]:
     """Neuron name -> gain g for every soft neuron whose stored weights are integers times g
     and whose bias is a multiple of g/2 (as the compiler writes them).
@@ -46,11 +51,10 @@ def degain(network: Any) -> dict[str, float]:
     >>> degain(Network(("a", "b"), (n,), (Output("y", "y"),)))
     {'y': 8.0}
     """
-    meta = getattr(network, "meta", None) or {}
-    cert = meta.get("certificate") if isinstance(meta.get("certificate"), dict) else {}
-    per = cert.get("neurons", {}) if isinstance(cert, dict) else {}
+    meta = _mapping(getattr(network, "meta", None))  # meta is free-form in a network file
+    per = _mapping(_mapping(meta.get("certificate")).get("neurons"))
     soft = [u for u in network.neurons if u.activation != "step" and u.weights]
-    common = (meta.get("options") or {}).get("gain")
+    common = _mapping(meta.get("options")).get("gain")
     if not isinstance(common, (int, float)) or common <= 0:
         smallest = [abs(float(w)) for u in soft for w in u.weights if w != 0]
         common = min(smallest) if smallest else None
@@ -60,7 +64,7 @@ def degain(network: Any) -> dict[str, float]:
     out: dict[str, float] = {}
     for u in soft:
         weights = [float(w) for w in u.weights]
-        for g in ((per.get(u.name) or {}).get("gain"), common):
+        for g in (_mapping(per.get(u.name)).get("gain"), common):
             if isinstance(g, (int, float)) and g > 0 and _integral(weights, float(g),
                                                                   float(u.bias)):
                 if float(g) != 1.0:

@@ -50,6 +50,24 @@ def test_fixed_gain_without_certificate_is_found_by_division(tmp_path, capsys):
     assert (n["gain"], n["integer_weights"], n["integer_bias"]) == (8.0, [1, -2], -1.5)
 
 
+
+@pytest.mark.parametrize("meta", [
+    {"certificate": {"neurons": {"y": 3}}},  # a neuron's entry that is not an object
+    {"certificate": {"neurons": [1, 2]}},
+    {"certificate": {"neurons": {"y": {"gain": "high"}}}},
+])
+def test_free_form_meta_is_read_defensively(tmp_path, capsys, meta):
+    # meta is free-form in a network file: odd shapes there must not break inspect (found by
+    # the fuzz campaign: an int where an object was expected was an internal error, exit 3)
+    net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (8.0, -16.0), -12.0,
+                                      activation="sigmoid"),), (Output("y", "y"),), meta=meta)
+    path = tmp_path / "m.json"
+    save_any(net, str(path))
+    code, out = _run(capsys, "inspect", path, "--json")
+    assert code == 0
+    n = json.loads(out)["layers"][0]["neurons"][0]
+    assert (n["gain"], n["integer_weights"]) == (8.0, [1, -2])  # the common gain still fits
+
 def _wide():
     names = tuple(f"input_number_{k}" for k in range(40))
     weights = tuple(round((k + 1) ** 1.5 / 1000, 6) * (-1) ** k for k in range(40))

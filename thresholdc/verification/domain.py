@@ -189,7 +189,7 @@ def boolean_or_typed_domain(
             values = tuple(v.values or ())
             d.discrete.append(Discrete(
                 v.name, "categorical", tuple(f"{v.name}={x}" for x in values),
-                np.eye(len(values)), values,
+                np.eye(len(values), dtype=np.int8), values,  # one-hot rows, compact
             ))
         elif real_points is not None and v.name in real_points:
             pts = np.asarray(real_points[v.name], dtype=float)
