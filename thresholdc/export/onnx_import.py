@@ -366,6 +366,10 @@ def from_onnx(model: onnx.ModelProto, like: Network | None = None, *,
     out = reader.run()
     meta = _metadata(model)
     units = meta.get("neurons") if isinstance(meta.get("neurons"), list) else None
+    if units is not None and not all(
+            isinstance(u, dict) and isinstance(u.get("name"), str) for u in units):
+        raise NetworkFileError("the thresholdc metadata of this ONNX model lists neurons "
+                               "without a name", file=file)
     inputs, outputs = meta.get("inputs"), meta.get("outputs")
     if like is None and inputs is None:
         raise UsageError("this ONNX model has no thresholdc metadata; give the "
