@@ -119,7 +119,9 @@ def test_numbers_out_of_range_are_one_rule_error(text):
 def test_campaign_findings_stay_fixed():
     # cases the long campaign found (benchmarks/fuzz_campaign.py --seed 1): a bias of 1e308 that
     # overflowed when doubled, ONNX metadata that is not UTF-8, a source line holding \x1d;
-    # (--seed 3, 4) a free-form meta read by inspect, ONNX metadata neurons without a name
+    # (--seed 3, 4, 5) a free-form meta read by inspect, ONNX metadata neurons without a name,
+    # an ONNX node without an output
     for family, seed in [("network", 1000000620), ("onnx", 1000002723), ("onnx", 2000047179),
-                         ("onnx", 2000067048), ("network", 3000005067), ("onnx", 4000064158)]:
+                         ("onnx", 2000067048), ("network", 3000005067), ("onnx", 4000064158),
+                         ("onnx", 5000072060)]:
         assert run_case(make_case(family, seed)) == [], (family, seed)

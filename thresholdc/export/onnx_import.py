@@ -154,6 +154,9 @@ class _Reader:
         """Interpret one node."""
         op = node.op_type
         attrs = {a.name: onnx.helper.get_attribute_value(a) for a in node.attribute}
+        if len(node.output) != 1:
+            raise self.fail(f"{op} node {node.name!r} must have exactly one output, "
+                            f"not {len(node.output)}")
         out = node.output[0]
         if op == "Constant":
             value = attrs.get("value")
