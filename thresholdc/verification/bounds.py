@@ -35,7 +35,6 @@ Rules of the algorithm
 
 from __future__ import annotations
 
-import itertools
 import sys
 import time
 from dataclasses import dataclass
@@ -45,7 +44,15 @@ import numpy as np
 
 from ..ir import activations as act
 from ..ir.network import Network
-from .domain import Domain, check_names, network_rows, typed_domain
+from .domain import (
+    Domain,
+    check_names,
+    halve_choices,
+    halve_widest,
+    network_rows,
+    root_boxes,
+    typed_domain,
+)
 from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
 from .ternary import rules_ternary
 
@@ -406,35 +413,20 @@ class _Search:
         for k in np.unique(choice[choice >= 0]).tolist():
             sub = b.take(choice == k)
             off, n = int(self.bd.offsets[k]), self.domain.discrete[k].size
-            m = sub.M[:, off:off + n]
-            half = m.sum(axis=1, keepdims=True) // 2
-            left = m & (np.cumsum(m, axis=1) <= half)
-            for part in (left, m & ~left):
-                M = sub.M.copy()
-                M[:, off:off + n] = part
+            for M in halve_choices(sub.M, off, n):
                 parts.append(_Batch(M, sub.lo, sub.hi, sub.resolved))
         cont = choice < 0
         if cont.any():
             sub = b.take(cont)
-            width = (sub.hi - sub.lo) / self.cont_scale
-            j = width.argmax(axis=1)
-            r = np.arange(len(sub))
-            mid = (sub.lo[r, j] + sub.hi[r, j]) / 2
-            lo2, hi2 = sub.lo.copy(), sub.hi.copy()
-            hi2[r, j] = mid
-            lo2[r, j] = mid
-            parts.append(_Batch(sub.M, sub.lo, hi2, sub.resolved))
-            parts.append(_Batch(sub.M, lo2, sub.hi, sub.resolved))
+            for lo, hi in halve_widest(sub.lo, sub.hi, self.cont_scale):
+                parts.append(_Batch(sub.M, lo, hi, sub.resolved))
         return _Batch.join(parts) if parts else None
 
     # ---------------------------------------------------------------- the search
     def roots(self) -> _Batch:
         """One box per combination of continuous pieces, every discrete choice allowed."""
-        pieces = [f.pieces for f in self.domain.continuous]
-        combos = list(itertools.product(*pieces)) if pieces else [()]
-        n = len(combos)
-        lo = np.array([[p[0] for p in c] for c in combos], dtype=float).reshape(n, len(pieces))
-        hi = np.array([[p[1] for p in c] for c in combos], dtype=float).reshape(n, len(pieces))
+        lo, hi = root_boxes(self.domain)
+        n = len(lo)
         M = np.ones((n, self.bd.n_choices), dtype=bool)
         return _Batch(M, lo, hi, np.zeros((n, len(self.net.outputs)), dtype=bool))
 

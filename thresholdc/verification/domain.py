@@ -33,6 +33,7 @@ from ..ir.network import Network
 from ..logic import feature_scale, real_thresholds
 
 __all__ = [
+    "root_boxes", "halve_choices", "halve_widest",
     "Discrete", "Continuous", "Domain", "boolean_or_typed_domain", "cell_points",
     "check_names", "typed_domain", "network_cuts", "is_typed_source",
 ]
@@ -315,3 +316,57 @@ def typed_domain(net: Network, source: Any) -> Domain:
     else:
         d.notes.append("soft network: real inputs checked over their declared ranges")
     return d
+
+
+# ------------------------------------------------------- boxes of the branch-and-bound searches
+def root_boxes(domain: Domain) -> tuple[np.ndarray, np.ndarray]:
+    """``(lo, hi)``: one real box per combination of the continuous inputs' pieces
+    (shape ``(boxes, continuous inputs)``; one empty box when there are none).
+
+    >>> root_boxes(Domain(()))[0].shape
+    (1, 0)
+    """
+    pieces = [f.pieces for f in domain.continuous]
+    combos = list(itertools.product(*pieces)) if pieces else [()]
+    n = len(combos)
+    lo = np.array([[p[0] for p in c] for c in combos], dtype=float).reshape(n, len(pieces))
+    hi = np.array([[p[1] for p in c] for c in combos], dtype=float).reshape(n, len(pieces))
+    return lo, hi
+
+
+def halve_choices(M: np.ndarray, off: int, n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Split the allowed choices ``M[:, off:off + n]`` of one discrete input in two halves
+    (the first half of each row's allowed values, and the rest).
+
+    >>> a, b = halve_choices(np.array([[True, True, True]]), 0, 3)
+    >>> a.tolist(), b.tolist()
+    ([[True, False, False]], [[False, True, True]])
+    """
+    m = M[:, off:off + n]
+    half = m.sum(axis=1, keepdims=True) // 2
+    left = m & (np.cumsum(m, axis=1) <= half)
+    parts = []
+    for part in (left, m & ~left):
+        M2 = M.copy()
+        M2[:, off:off + n] = part
+        parts.append(M2)
+    return parts[0], parts[1]
+
+
+def halve_widest(lo: np.ndarray, hi: np.ndarray, scale: np.ndarray
+                 ) -> tuple[tuple[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]]:
+    """Split every real box at the middle of its widest side (widths divided by ``scale``):
+    ``((lo, hi_lower_half), (lo_upper_half, hi))``.
+
+    >>> (a, b), (c, d) = halve_widest(np.array([[0.0, 0.0]]), np.array([[1.0, 4.0]]),
+    ...                               np.ones(2))
+    >>> b.tolist(), c.tolist()
+    ([[1.0, 2.0]], [[0.0, 2.0]])
+    """
+    j = ((hi - lo) / scale).argmax(axis=1)
+    r = np.arange(len(lo))
+    mid = (lo[r, j] + hi[r, j]) / 2
+    lo2, hi2 = lo.copy(), hi.copy()
+    hi2[r, j] = mid
+    lo2[r, j] = mid
+    return (lo, hi2), (lo2, hi)

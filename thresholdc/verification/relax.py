@@ -41,7 +41,6 @@ Rules of the search
 
 from __future__ import annotations
 
-import itertools
 import time
 from dataclasses import dataclass
 from typing import Any
@@ -51,7 +50,15 @@ import numpy as np
 from .. import progress as progress_bars
 from ..ir import program as ast
 from ..ir.network import Network
-from .domain import Domain, check_names, network_rows, typed_domain
+from .domain import (
+    Domain,
+    check_names,
+    halve_choices,
+    halve_widest,
+    network_rows,
+    root_boxes,
+    typed_domain,
+)
 from .linear_bounds import LinearBounder
 from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
 from .ternary import rules_ternary
@@ -300,34 +307,19 @@ class _Search:
             for k in np.unique(pick[pick >= 0]).tolist():
                 sub = b.take(pick == k)
                 off, n = int(self.offsets[k]), self.domain.discrete[k].size
-                m = sub.M[:, off:off + n]
-                half = m.sum(axis=1, keepdims=True) // 2
-                left = m & (np.cumsum(m, axis=1) <= half)
-                for part in (left, m & ~left):
-                    M = sub.M.copy()
-                    M[:, off:off + n] = part
+                for M in halve_choices(sub.M, off, n):
                     parts.append(_Boxes(M, sub.lo, sub.hi, sub.resolved, sub.gap))
         cont = ~free
         if cont.any() and self.domain.continuous:
             sub = b.take(cont)
-            width = (sub.hi - sub.lo) / self.cont_scale
-            j = width.argmax(axis=1)
-            r = np.arange(len(sub))
-            mid = (sub.lo[r, j] + sub.hi[r, j]) / 2
-            lo2, hi2 = sub.lo.copy(), sub.hi.copy()
-            hi2[r, j] = mid
-            lo2[r, j] = mid
-            parts.append(_Boxes(sub.M, sub.lo, hi2, sub.resolved, sub.gap))
-            parts.append(_Boxes(sub.M, lo2, sub.hi, sub.resolved, sub.gap))
+            for lo, hi in halve_widest(sub.lo, sub.hi, self.cont_scale):
+                parts.append(_Boxes(sub.M, lo, hi, sub.resolved, sub.gap))
         return _Boxes.join(parts) if parts else None
 
     # ---------------------------------------------------------------- the search
     def roots(self) -> _Boxes:
-        pieces = [f.pieces for f in self.domain.continuous]
-        combos = list(itertools.product(*pieces)) if pieces else [()]
-        n = len(combos)
-        lo = np.array([[p[0] for p in c] for c in combos], dtype=float).reshape(n, len(pieces))
-        hi = np.array([[p[1] for p in c] for c in combos], dtype=float).reshape(n, len(pieces))
+        lo, hi = root_boxes(self.domain)
+        n = len(lo)
         M = np.ones((n, self.lb.n_choices), dtype=bool)
         return _Boxes(M, lo, hi, np.zeros((n, self.K), dtype=bool),
                       np.full((n, self.K), np.inf))
