@@ -109,6 +109,7 @@ class _Builder:
                            np.array([[max(p[1] for p in f.pieces) for f in domain.continuous]]))
         self.zlo, self.zhi = root.zlo[0], root.zhi[0]
         self.strict = False
+        self.bridge_share = _BRIDGE_SECONDS
         self.bridges: list | None = None
         self.breaks: dict[int, list[float]] = {}
         for j, n in enumerate(net.neurons):
@@ -191,7 +192,7 @@ class _Builder:
         later model by :meth:`_bridge_rows` (variable numbers change as pieces are added)."""
         out: list = []
         rules = info["rules"]
-        budget = time.perf_counter() + _BRIDGE_SECONDS
+        budget = time.perf_counter() + min(_BRIDGE_SECONDS, self.bridge_share)
         for j, n in enumerate(self.net.neurons):
             r = rules.get(n.origin) if n.origin is not None else None
             if r is None or not r[0] or time.perf_counter() > budget:
@@ -201,7 +202,8 @@ class _Builder:
             for value, sign in ((1, 1.0), (0, -1.0)):
                 mark = m.mark()
                 m.row(r[0], r[1], value, value)
-                sol = m.solve(time_limit=2.0, objective={z: sign}, relaxed=True)
+                sol = m.solve(time_limit=min(2.0, budget - time.perf_counter()),
+                              objective={z: sign}, relaxed=True)
                 m.undo(mark)
                 if sol.status != "feasible" or sol.dual_bound is None:  # optimum only
                     found.append(None)
@@ -347,6 +349,7 @@ def run_milp(
     """The MILP check over an explicit domain (see :func:`verify_milp`)."""
     t0 = time.perf_counter()
     builder = _Builder(net, source, domain)
+    builder.bridge_share = time_limit / 4  # the bridge LPs never take the whole budget
     out_index = [list(source.outputs).index(o.name) for o in net.outputs]
     thr = net.decision_threshold
     discrete_only = not domain.continuous
@@ -430,11 +433,14 @@ def run_milp(
                 if examples[k]:
                     continue
                 if limits is not None:
-                    bound[k] = f"rules = {want}: {limits}"
+                    why = f"rules = {want}: {limits}"
                 elif boundary:
-                    bound[k] = (f"rules = {want}: not decided within {MARGIN:g} of the "
-                                "thresholds (points found there were rejected by "
-                                "re-checking)")
+                    why = (f"rules = {want}: not decided within {MARGIN:g} of the "
+                           "thresholds (points found there were rejected by re-checking)")
+                else:
+                    why = ""
+                if why:  # both directions keep their bound (the first one no longer lost)
+                    bound[k] = why if bound[k] is None else f"{bound[k]}; {why}"
                 else:
                     proven += 1
             if examples[k]:

@@ -36,6 +36,10 @@ sharing code with the lowering to gates:
 
 from __future__ import annotations
 
+import contextlib
+import os
+import sys
+from collections.abc import Iterator
 from dataclasses import dataclass
 from typing import Any
 
@@ -128,8 +132,9 @@ class Model:
         for v, w in (objective or {}).items():
             cost[v] = w
         integrality = np.zeros(n) if relaxed else np.array(self.integer)
-        res = optimize.milp(cost, integrality=integrality, bounds=optimize.Bounds(
-            np.array(self.lb), np.array(self.ub)), constraints=cons, options=options)
+        with _quiet_solver():
+            res = optimize.milp(cost, integrality=integrality, bounds=optimize.Bounds(
+                np.array(self.lb), np.array(self.ub)), constraints=cons, options=options)
         nodes = getattr(res, "mip_node_count", None)
         dual = getattr(res, "mip_dual_bound", None)
         if relaxed and res.status == 0:
@@ -140,6 +145,41 @@ class Model:
             return Solution("feasible" if res.status == 0 else "limit-feasible",
                             np.asarray(res.x), nodes, res.message, dual)
         return Solution("limit", None, nodes, str(res.message))
+
+
+@contextlib.contextmanager
+def _quiet_solver() -> Iterator[None]:
+    """File descriptors 1 and 2 sent to the null device while HiGHS runs.
+
+    ``scipy.optimize.milp`` passes no ``output_flag``/``log_to_console`` to HiGHS (its only
+    switch, ``disp``, is off already), yet HiGHS's MIP solver writes a few debug lines straight
+    to the C streams (``HighsMipSolverData::transformNewIntegerFeasibleSolution
+    tmpSolver.run();`` on standard output, seen with scipy 1.17.1); nothing it reports is lost,
+    as the status and message come back in the result.  ``THRESHOLDC_DEBUG=1`` keeps them.
+    """
+    if os.environ.get("THRESHOLDC_DEBUG"):
+        yield
+        return
+    saved: list[tuple[int, int]] = []
+    try:
+        for stream, fd in ((sys.stdout, 1), (sys.stderr, 2)):
+            if stream is not None:
+                stream.flush()
+            saved.append((fd, os.dup(fd)))
+    except (OSError, ValueError):  # no such descriptor (an embedded interpreter)
+        for _, copy in saved:
+            os.close(copy)
+        yield
+        return
+    try:
+        with open(os.devnull, "wb") as null:
+            for fd, _ in saved:
+                os.dup2(null.fileno(), fd)
+        yield
+    finally:
+        for fd, copy in saved:
+            os.dup2(copy, fd)
+            os.close(copy)
 
 
 # ---------------------------------------------------------------- affine helpers

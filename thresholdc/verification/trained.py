@@ -1,6 +1,8 @@
 """Verification of trained (or soft) networks with any activations: :func:`verify_trained`.
 
-The method is picked by the network's activations:
+First a quick seeded search (:mod:`thresholdc.verification.sampling`: skewed draws of valid
+inputs, a few seconds at most) settles the outputs it finds a counterexample for as
+``different``; the rest go to a complete method, picked by the network's activations:
 
 * step, ReLU and linear neurons only: the MILP (:mod:`thresholdc.verification.milp`), exact up to
   HiGHS's floating-point verdicts;
@@ -28,12 +30,15 @@ from ..logic import RuleSource
 from .domain import check_names, typed_domain
 from .milp import milp_domain, run_milp
 from .relax import DEFAULT_MAX_NODES, run_relax
-from .report import Report
+from .report import OutputReport, Report
+from .sampling import sample_counterexamples
 
 __all__ = ["verify_trained"]
 
 _EXACT = {"step", "relu", "linear"}
 _MILP_SHARE = 0.75
+#: The sampling stage's share of the time limit (and at most this many seconds).
+_SAMPLE_SHARE, _SAMPLE_SECONDS = 0.1, 5.0
 
 
 def _restrict(network: Network, source: Any, names: list[str]) -> tuple[Network, Any]:
@@ -69,7 +74,8 @@ def verify_trained(
     Returns
     -------
     Report
-        Method ``milp`` or ``milp+relax``; per output ``equal`` (proven),
+        Method ``milp`` or ``milp+relax`` (prefixed ``sample+`` when sampling found
+        counterexamples, or just ``sample`` when it settled every output); per output ``equal`` (proven),
         ``different`` (re-checked counterexamples in the user's column names and values) or
         ``undecided`` with the bound reached.
 
@@ -84,6 +90,37 @@ def verify_trained(
     """
     t0 = time.perf_counter()
     check_names(network, source)
+    found = sample_counterexamples(
+        network, source, milp_domain(network, source),
+        time_limit=min(_SAMPLE_SECONDS, _SAMPLE_SHARE * time_limit))
+    sampled = {o.name: OutputReport.differs(o.name, ex)
+               for o, ex in zip(network.outputs, found) if ex}
+    open_names = [o.name for o in network.outputs if o.name not in sampled]
+    if not open_names:
+        report = Report.of("sample", milp_domain(network, source).size,
+                           [sampled[o.name] for o in network.outputs],
+                           notes=["counterexamples found by seeded sampling of valid inputs, "
+                                  "re-checked on the network and the reference evaluator"])
+        report.seconds = time.perf_counter() - t0
+        return report
+    net1, src1 = (network, source) if not sampled else _restrict(network, source, open_names)
+    left = time_limit - (time.perf_counter() - t0)
+    rest = _complete(net1, src1, max_nodes=max_nodes, time_limit=left, progress=progress)
+    if not sampled:
+        rest.seconds = time.perf_counter() - t0
+        return rest
+    by_name = {o.name: o for o in rest.outputs}
+    outputs = [sampled.get(o.name) or by_name[o.name] for o in network.outputs]
+    return Report.of("sample+" + rest.method, rest.assignments, outputs, proofs=rest.proofs,
+                     notes=["sample: counterexamples of " + ", ".join(sampled) + " found by "
+                            "seeded sampling of valid inputs"] + rest.notes,
+                     seconds=time.perf_counter() - t0)
+
+
+def _complete(network: Network, source: Any, *, max_nodes: int, time_limit: float,
+              progress: bool | None) -> Report:
+    """The MILP, then for sigmoid/tanh the relaxation branch-and-bound on what is open."""
+    t0 = time.perf_counter()
     kinds = {n.activation for n in network.neurons}
     if kinds <= _EXACT:
         report = run_milp(network, source, milp_domain(network, source),
@@ -109,5 +146,5 @@ def verify_trained(
         outputs.append(o2 if o2 is not None else o)
     notes = list(dict.fromkeys(first.notes + second.notes))
     return Report.of("milp+relax", first.assignments, outputs,
-                  proofs=first.proofs + second.proofs, notes=notes,
-                  seconds=time.perf_counter() - t0)
+                     proofs=first.proofs + second.proofs, notes=notes,
+                     seconds=time.perf_counter() - t0)
