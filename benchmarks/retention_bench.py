@@ -10,9 +10,10 @@ benchmarks/trained_like.py, deterministic):
 * ``tool shed``: a 10-input categorical rule set small enough for the old method.
 
 From one run it prints, per network, the per-output verdicts and time of
-:func:`thresholdc.verification.retention.verify_trained` (MILP / relaxation branch-and-bound), the
+:func:`thresholdc.verification.trained.verify_trained` (sampling, then MILP / relaxation
+branch-and-bound), of the same without its sampling stage (today's method before it), the
 result and time of :func:`thresholdc.verification.bounds.verify_bounds` (interval branch-and-bound,
-stopped at ``--limit`` seconds), and the ratio old / new.  A method that stops at its limit
+stopped at ``--limit`` seconds), and the ratios.  A method that stops at its limit
 with an output still undecided is printed as "> limit" seconds (its stop time is not a finish
 time), and a ratio against it as "> N×" (or "< N×" when ours is the one left open).
 Timings are wall-clock on a shared machine; not a test.
@@ -99,8 +100,9 @@ def main() -> None:
     ap.add_argument("--budget", type=float, default=60.0, help="seconds for verify_trained")
     ap.add_argument("--only", default="", help="run only the networks whose name has this text")
     args = ap.parse_args()
-    print(f"{'network':40} {'hid':>3}  {'verify_trained (ours)':44} {'s':>7}  "
-          f"{'verify_bounds (old)':44} {'s':>7}  {'old/new':>9}")
+    print(f"{'network':38} {'hid':>3}  {'verify_trained (ours)':40} {'s':>7}  "
+          f"{'without sampling (today)':40} {'s':>7} {'today/ours':>10}  "
+          f"{'verify_bounds (old)':34} {'s':>7} {'old/ours':>9}")
     for name, net, text in cases():
         if args.only not in name:
             continue
@@ -110,15 +112,22 @@ def main() -> None:
         rep = verify_trained(net, src, time_limit=args.budget, progress=False)
         ours = time.perf_counter() - t0
         t0 = time.perf_counter()
+        today = verify_trained(net, src, time_limit=args.budget, progress=False, sample=False)
+        today_s = time.perf_counter() - t0
+        t0 = time.perf_counter()
         old = verify_bounds(net, src, time_limit=args.limit)
         theirs = time.perf_counter() - t0
-        print(f"{name:40} {hidden:3d}  {rep.method + ': ' + _verdicts(rep):44} "
-              f"{_time(rep, ours, args.budget):>7}  {'bounds: ' + _verdicts(old):44} "
-              f"{_time(old, theirs, args.limit):>7}  "
+        print(f"{name:38} {hidden:3d}  {rep.method + ': ' + _verdicts(rep):40} "
+              f"{_time(rep, ours, args.budget):>7}  "
+              f"{today.method + ': ' + _verdicts(today):40} "
+              f"{_time(today, today_s, args.budget):>7} "
+              f"{_ratio(today, today_s, args.budget, rep, ours, args.budget):>10}  "
+              f"{_verdicts(old):34} {_time(old, theirs, args.limit):>7} "
               f"{_ratio(old, theirs, args.limit, rep, ours, args.budget):>9}", flush=True)
-        for a, b in zip(rep.outputs, old.outputs):  # decided verdicts must agree
-            if "undecided" not in (a.verdict, b.verdict):
-                assert a.verdict == b.verdict, (name, a.name, a.verdict, b.verdict)
+        for other in (today, old):  # decided verdicts must agree
+            for a, b in zip(rep.outputs, other.outputs):
+                if "undecided" not in (a.verdict, b.verdict):
+                    assert a.verdict == b.verdict, (name, a.name, a.verdict, b.verdict)
 
 
 if __name__ == "__main__":

@@ -55,6 +55,7 @@ def verify_trained(
     max_nodes: int = DEFAULT_MAX_NODES,
     time_limit: float = 60.0,
     progress: bool | None = None,
+    sample: bool = True,
 ) -> Report:
     """Decide per output whether a trained (or soft) ``network`` computes ``source``'s rules.
 
@@ -70,14 +71,17 @@ def verify_trained(
         Seconds for the whole check.
     progress : bool or None
         Progress bars on a terminal (None: as the command line set them).
+    sample : bool
+        Run the sampling stage first (False: the complete methods alone, as before it was
+        added; the retention benchmark compares both).
 
     Returns
     -------
     Report
         Method ``milp`` or ``milp+relax`` (prefixed ``sample+`` when sampling found
-        counterexamples, or just ``sample`` when it settled every output); per output ``equal`` (proven),
-        ``different`` (re-checked counterexamples in the user's column names and values) or
-        ``undecided`` with the bound reached.
+        counterexamples, or just ``sample`` when it settled every output); per output
+        ``equal`` (proven), ``different`` (re-checked counterexamples in the user's column
+        names and values) or ``undecided`` with the bound reached.
 
     Examples
     --------
@@ -90,6 +94,9 @@ def verify_trained(
     """
     t0 = time.perf_counter()
     check_names(network, source)
+    if not sample:
+        return _complete(network, source, max_nodes=max_nodes, time_limit=time_limit,
+                         progress=progress)
     found = sample_counterexamples(
         network, source, milp_domain(network, source),
         time_limit=min(_SAMPLE_SECONDS, _SAMPLE_SHARE * time_limit))
