@@ -52,3 +52,18 @@ def test_a_single_wrong_assignment_is_left_to_the_milp():
     (o,) = report.outputs
     assert o.verdict == "different" and not report.method.startswith("sample")
     assert [c.assignment for c in o.counterexamples] == [point]
+
+
+def test_real_inputs_are_drawn_within_the_checked_pieces():
+    # Greenhouse vent (an invented scenario): the network opens above 30 degrees, the
+    # rules above 20; a soft network is checked outside the bands of ± scale.
+    net = compile_rules("input t: real in [0, 50] scale 1\ny = t > 30\n", activation="sigmoid")
+    src = source_from_text("input t: real in [0, 50] scale 1\ny = t > 20\n")
+    domain = typed_domain(net, src)
+    (found,) = sample_counterexamples(net, src, domain, rows=2000)
+    assert found
+    pieces = domain.continuous[0].pieces
+    for c in found:
+        t = c.assignment["t"]
+        assert any(a <= t <= b for a, b in pieces) and 21 <= t <= 29, t
+        assert c.expected is True and c.actual < 0.5

@@ -44,7 +44,8 @@ def register(subparsers: Any) -> None:
     p.add_argument("--max-inputs", type=int, default=24, metavar="N",
                    help="largest number of inputs checked exhaustively (default 24)")
     p.add_argument("--time-limit", type=float, default=60.0, metavar="S",
-                   help="time budget of the SAT check in seconds (default 60)")
+                   help="time budget of the check in seconds (SAT, MILP, branch-and-bound; "
+                   "default 60)")
     p.add_argument("--like", metavar="NET.json",
                    help="the compiled network a .npz/.onnx came from (unit names, features)")
     p.add_argument("--definitions", action="store_true",

@@ -28,6 +28,7 @@ from typing import Any
 
 import numpy as np
 
+from .. import progress as progress_bars
 from ..ir.network import Network
 from .domain import Domain, network_rows
 from .report import MAX_COUNTEREXAMPLES, Counterexample
@@ -57,13 +58,13 @@ def _draw(domain: Domain, rows: int, batch: int, rng: np.random.Generator
         cols.append(np.where(rng.random(rows) < p, pref, other))
     choice = (np.stack(cols, axis=1) if cols else np.zeros((rows, 0), dtype=np.int64))
     reals = np.zeros((rows, len(domain.continuous)))
-    for k, f in enumerate(domain.continuous):
-        widths = np.array([b - a for a, b in f.pieces], dtype=float)
-        total = widths.sum()
+    for k, c in enumerate(domain.continuous):
+        ends = np.asarray(c.pieces, dtype=float).reshape(-1, 2)
+        widths = ends[:, 1] - ends[:, 0]
+        total = float(widths.sum())
         probs = widths / total if total > 0 else np.full(len(widths), 1.0 / len(widths))
-        piece = rng.choice(len(f.pieces), rows, p=probs)
-        lo = np.array([a for a, _ in f.pieces])[piece]
-        hi = np.array([b for _, b in f.pieces])[piece]
+        piece = rng.choice(len(ends), rows, p=probs)
+        lo, hi = ends[piece, 0], ends[piece, 1]
         reals[:, k] = lo + rng.random(rows) * (hi - lo)
     return choice.astype(np.int64), reals
 
@@ -71,10 +72,12 @@ def _draw(domain: Domain, rows: int, batch: int, rng: np.random.Generator
 def sample_counterexamples(
     net: Network, source: Any, domain: Domain, *, rows: int = DEFAULT_ROWS,
     time_limit: float = 5.0, seed: int = 0, max_examples: int = MAX_COUNTEREXAMPLES,
+    progress: bool | None = None,
 ) -> list[list[Counterexample]]:
     """Counterexamples per output of ``net`` (in the network's output order) among ``rows``
     seeded draws of valid inputs (see the module docstring); an empty list where none was
-    found.  Stops early at ``time_limit`` seconds or when every output has ``max_examples``.
+    found.  Stops early at ``time_limit`` seconds or when every output has ``max_examples``;
+    ``progress`` shows a bar on a terminal (None: as the command line set it).
 
     >>> from thresholdc.compiler import compile_rules
     >>> from thresholdc.logic.source import source_from_text
@@ -93,31 +96,36 @@ def sample_counterexamples(
     seen: list[set[tuple]] = [set() for _ in net.outputs]
     batch = 0
     drawn = 0
-    while drawn < rows and time.perf_counter() - t0 < time_limit:
-        n = min(_BATCH, rows - drawn)
-        choice, reals = _draw(domain, n, batch, rng)
-        batch += 1
-        drawn += n
-        X = domain.unit_rows(choice, reals if domain.continuous else None)
-        Xn = network_rows(net, domain, X)
-        actual = net.decide(Xn)
-        expected = np.asarray(source.evaluate(X), dtype=bool)[:, out_index]
-        wrong = actual != expected
-        if not wrong.any():
-            continue
-        values = net.evaluate(Xn)
-        for k in np.nonzero(wrong.any(axis=0))[0].tolist():
-            for r in np.nonzero(wrong[:, k])[0].tolist():
-                if len(found[k]) >= max_examples:
-                    break
-                key = (tuple(choice[r].tolist()), tuple(reals[r].tolist()))
-                if key in seen[k]:
-                    continue
-                seen[k].add(key)
-                v = float(values[r, k])
-                found[k].append(Counterexample(
-                    domain.assignment(choice[r], reals[r] if domain.continuous else None),
-                    net.outputs[k].name, bool(expected[r, k]), v, abs(v - thr)))
-        if all(len(f) >= max_examples for f in found):
-            break
+    bar = progress_bars.bar(rows, "sampling", unit="row", show=progress)
+    try:
+        while drawn < rows and time.perf_counter() - t0 < time_limit:
+            n = min(_BATCH, rows - drawn)
+            choice, reals = _draw(domain, n, batch, rng)
+            batch += 1
+            drawn += n
+            bar.update(n)
+            X = domain.unit_rows(choice, reals if domain.continuous else None)
+            Xn = network_rows(net, domain, X)
+            actual = net.decide(Xn)
+            expected = np.asarray(source.evaluate(X), dtype=bool)[:, out_index]
+            wrong = actual != expected
+            if not wrong.any():
+                continue
+            values = net.evaluate(Xn)
+            for k in np.nonzero(wrong.any(axis=0))[0].tolist():
+                for r in np.nonzero(wrong[:, k])[0].tolist():
+                    if len(found[k]) >= max_examples:
+                        break
+                    key = (tuple(choice[r].tolist()), tuple(reals[r].tolist()))
+                    if key in seen[k]:
+                        continue
+                    seen[k].add(key)
+                    v = float(values[r, k])
+                    found[k].append(Counterexample(
+                        domain.assignment(choice[r], reals[r] if domain.continuous else None),
+                        net.outputs[k].name, bool(expected[r, k]), v, abs(v - thr)))
+            if all(len(f) >= max_examples for f in found):
+                break
+    finally:
+        bar.close()
     return found

@@ -99,7 +99,7 @@ def verify_trained(
                          progress=progress)
     found = sample_counterexamples(
         network, source, milp_domain(network, source),
-        time_limit=min(_SAMPLE_SECONDS, _SAMPLE_SHARE * time_limit))
+        time_limit=min(_SAMPLE_SECONDS, _SAMPLE_SHARE * time_limit), progress=progress)
     sampled = {o.name: OutputReport.differs(o.name, ex)
                for o, ex in zip(network.outputs, found) if ex}
     open_names = [o.name for o in network.outputs if o.name not in sampled]
