@@ -90,7 +90,7 @@ class _Reader:
         self.file = file
         graph = model.graph
         self.consts: dict[str, np.ndarray] = {
-            t.name: _array(numpy_helper.to_array(t)) for t in graph.initializer
+            t.name: self.tensor(t, f"initializer {t.name!r}") for t in graph.initializer
         }
         inputs = [i for i in graph.input if i.name not in self.consts]
         if len(inputs) != 1 or len(graph.output) != 1:
@@ -109,6 +109,15 @@ class _Reader:
         self.width = self.n_inputs
         self.groups: list[_Group] = []
         self.nodes = list(graph.node)
+
+    def tensor(self, proto: onnx.TensorProto, what: str) -> np.ndarray:
+        """The array of a stored tensor, or an error when its data do not fit its shape or
+        type (a damaged file)."""
+        try:
+            return _array(numpy_helper.to_array(proto))
+        except Exception as exc:  # noqa: BLE001 - onnx raises many kinds on damaged tensors
+            raise self.fail(f"{what}: its data do not match its shape or type "
+                            f"({type(exc).__name__})") from None
 
     def fail(self, message: str) -> UsageError:
         """A UsageError about this model."""
@@ -162,7 +171,7 @@ class _Reader:
             value = attrs.get("value")
             if value is None:
                 raise self.fail(f"Constant node {node.name!r} must use the 'value' attribute")
-            self.consts[out] = _array(numpy_helper.to_array(value))
+            self.consts[out] = self.tensor(value, f"Constant node {node.name!r}")
             return
         if all(i in self.consts for i in node.input if i) and op in ("Identity", "Cast"):
             self.consts[out] = self.consts[node.input[0]]

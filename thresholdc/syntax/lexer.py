@@ -25,7 +25,7 @@ from lark.lexer import Lexer
 
 from ..errors import RuleError
 
-__all__ = ["RuleLexer", "KEYWORDS", "last_tokens", "open_brackets"]
+__all__ = ["RuleLexer", "KEYWORDS", "last_tokens", "open_brackets", "source_lines"]
 
 #: Reserved words (DESIGN.md section 3), mapped to their terminal in ``grammar.lark``.
 KEYWORDS: dict[str, str] = {
@@ -87,15 +87,27 @@ _CLOSE = frozenset({"RPAR", "RSQB", "RBRACE"})
 # Longer symbols first, so that "<->" is not read as "<" "-" ">".
 _SYMBOL_RE = "|".join(re.escape(s) for s in sorted(_SYMBOLS, key=len, reverse=True))
 _TOKEN_RE = re.compile(
-    r"(?P<WS>[ \t\f\r\ufeff]+)"
-    r"|(?P<NL>\n)"
-    r"|(?P<COMMENT>\#[^\n]*)"
+    r"(?P<WS>[ \t\f\ufeff]+)"
+    r"|(?P<NL>\r\n|\r|\n)"  # CRLF, a bare CR (old Mac files) and LF each end a line
+    r"|(?P<COMMENT>\#[^\r\n]*)"
     r"|(?P<NAME>[A-Za-z_][A-Za-z0-9_]*)"
     r"|(?P<NUMBER>(?:[0-9]+\.[0-9]*|\.[0-9]+|[0-9]+)(?:[eE][+-]?[0-9]+)?)"
     rf"|(?P<SYMBOL>{_SYMBOL_RE})"
     r"|(?P<BAD>.)",
     re.DOTALL,
 )
+
+_LINE_END_RE = re.compile(r"\r\n|\r|\n")
+
+
+def source_lines(text: str) -> list[str]:
+    """The lines of ``text`` as the lexer counts them: CRLF, a bare CR and LF each end one.
+
+    >>> source_lines("a\\r\\nb\\rc\\nd")
+    ['a', 'b', 'c', 'd']
+    """
+    return _LINE_END_RE.split(text)
+
 
 _STATE = threading.local()
 

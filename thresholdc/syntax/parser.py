@@ -19,7 +19,7 @@ from lark.exceptions import UnexpectedCharacters, UnexpectedInput, UnexpectedTok
 from ..errors import RuleError, Span
 from ..ir.program import Program
 from .checks import check_program
-from .lexer import KEYWORDS, RuleLexer, last_tokens, lexed_text, open_brackets
+from .lexer import KEYWORDS, RuleLexer, last_tokens, lexed_text, open_brackets, source_lines
 from .transform import RuleBuilder
 
 __all__ = ["parse", "KEYWORDS"]
@@ -103,9 +103,9 @@ def _located(err: RuleError, file: str, text: str) -> RuleError:
     """The error with its file and source line filled in."""
     err.file = file
     if err.line is not None and err.source_line is None:
-        lines = text.split("\n")
+        lines = source_lines(text)
         if 1 <= err.line <= len(lines):
-            err.source_line = lines[err.line - 1].rstrip("\r")
+            err.source_line = lines[err.line - 1]
     return err
 
 
@@ -189,7 +189,7 @@ def _hint(tok: Token, prev: Token | None, expected: set[str]) -> str:
 def _continues(line: int) -> bool:
     """True when the line after ``line`` looks like the rest of a statement (not blank, not a
     new statement), so a missing bracket is the likely mistake."""
-    lines = lexed_text().split("\n")
+    lines = source_lines(lexed_text())
     if line >= len(lines):
         return False
     nxt = lines[line].split("#", 1)[0]

@@ -51,6 +51,8 @@ __all__ = [
 ]
 
 _TRUE = ("1", "true")
+# Data rows are turned into arrays of cells this many at a time (bounds the lists held).
+_CHUNK_ROWS = 65_536
 _FALSE = ("0", "false")
 
 
@@ -158,43 +160,68 @@ def read_table(path: str) -> Table:
     """
     text = _read_text(path)
     digest = hashlib.sha256(text.encode("utf-8")).hexdigest()
-    reader = csv.reader(text.splitlines(keepends=True))
+    split = text.splitlines(keepends=True)
+    del text  # the lines hold it now
+    reader = csv.reader(split)
     header: list[str] | None = None
+    names: tuple[str, ...] = ()
     rows: list[list[str]] = []
     lines: list[int] = []
+    filled = [0]
+    store: list[np.ndarray] = []  # one array of at most len(split) rows, filled chunk by chunk
     start = 1
+
+    def flush() -> None:
+        # a chunk of rows becomes one array of trimmed cells and its lists are freed, so the
+        # memory held is about the cells' own size, not that of a list per row
+        widths = np.fromiter(map(len, rows), dtype=np.int64, count=len(rows))
+        ragged = np.flatnonzero(widths != len(names))
+        if ragged.size:
+            r = int(ragged[0])
+            raise DataError(f"row has {widths[r]} fields but the header has {len(names)}",
+                            file=path, line=lines[r])
+        chunk = np.char.strip(np.array(rows, dtype=str).reshape(len(rows), len(names)))
+        if not store:
+            store.append(np.empty((len(split), len(names)), dtype=chunk.dtype))
+        elif chunk.dtype.itemsize > store[0].dtype.itemsize:
+            store[0] = store[0].astype(chunk.dtype)  # a longer cell than any before
+        store[0][filled[0]:filled[0] + len(rows)] = chunk
+        filled[0] += len(rows)
+        rows.clear()
+
     try:
         for record in reader:
             if record and not (len(record) == 1 and not record[0].strip()):
                 if header is None:
                     header = record
+                    names = _header_names(header, path)
                 else:
                     rows.append(record)
                     lines.append(start)
+                    if len(rows) == _CHUNK_ROWS:
+                        flush()
             start = reader.line_num + 1
     except csv.Error as exc:
         raise DataError(f"cannot read the table: {exc}", file=path, line=start) from None
     if header is None:
         raise DataError("empty file", file=path, line=1)
+    if rows:
+        flush()
+    if not store:
+        raise DataError("no data rows", file=path, line=2)
+    cells = store[0][: filled[0]]
+    return Table(path, names, cells, np.asarray(lines, dtype=np.int64), digest)
+
+
+def _header_names(header: list[str], path: str) -> tuple[str, ...]:
+    """The trimmed column names, or a DataError for an empty or repeated one."""
     names = tuple(h.strip() for h in header)
     for k, name in enumerate(names):
         if not name:
             raise DataError(f"column {k + 1} of the header has no name", file=path, line=1)
         if name in names[:k]:
             raise DataError(f"column {name!r} appears twice in the header", file=path, line=1)
-    if not rows:
-        raise DataError("no data rows", file=path, line=2)
-    widths = np.fromiter(map(len, rows), dtype=np.int64, count=len(rows))
-    ragged = np.flatnonzero(widths != len(names))
-    if ragged.size:
-        r = int(ragged[0])
-        raise DataError(
-            f"row has {widths[r]} fields but the header has {len(names)}",
-            file=path,
-            line=lines[r],
-        )
-    cells = np.char.strip(np.array(rows, dtype=str).reshape(len(rows), len(names)))
-    return Table(path, names, cells, np.asarray(lines, dtype=np.int64), digest)
+    return names
 
 
 def _header_hint(table: Table, missing: Sequence[str]) -> str:
