@@ -31,8 +31,8 @@ sigmoid, tanh and relu are the ONNX operators of those names; linear is the ``Ge
 The model's ``metadata_props`` hold, as JSON text: ``inputs``, ``outputs`` (names),
 ``output_sources``, ``output_origins`` (the rule definition each output carries), ``encoding``,
 ``features`` (when the network has typed inputs), ``neurons`` (name, role, origin of every unit
-the graph creates, in creation order) and ``form`` (``dense``, ``general`` or ``sparse``).  There is no
-timestamp and node names are fixed, so the same network gives the same bytes.
+the graph creates, in creation order) and ``form`` (``dense``, ``general`` or ``sparse``).
+There is no timestamp and node names are fixed, so the same network gives the same bytes.
 
 >>> from thresholdc.ir.network import Network, Neuron, Output
 >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),), (Output("y", "y"),))
@@ -197,7 +197,8 @@ def _build_sparse(net: Network, g: _Graph) -> list[dict[str, Any]]:
     units = []
 
     def gather(tag: str, reads: dict[int, set[int]]) -> tuple[str, dict[tuple[int, int], int]]:
-        parts, pos = [], {}
+        parts: list[str] = []
+        pos: dict[tuple[int, int], int] = {}
         for t in sorted(reads):
             idx = sorted(reads[t])
             if idx == list(range(tensors[t][1])):
