@@ -5,8 +5,9 @@ with the network path) are run on the same rows, ``chunk`` rows at a time, so th
 table is never in memory.  Row ``k`` sets source input ``i`` to ``(k >> i) & 1``.
 
 Per output the report counts disagreements exactly, keeps up to five counterexamples, and the
-smallest margin: for a step output neuron its smallest |pre-activation|, for a soft one the
-smallest |value − decision threshold|, for an output read straight from an input unit 0.5.
+smallest margin (its smallest |pre-activation|, whatever the activation; 0.5 for an output read
+straight from an input unit; see :mod:`thresholdc.verification.report`), and for a soft output
+the smallest |value − decision threshold| as ``min_value_distance``.
 It also checks the compiler's guarantee that every step neuron has |z| ≥ 0.5 and adds a note
 naming the neurons that break it (the verdict is still on what the network computes).
 
@@ -39,7 +40,7 @@ from ..ir.network import Network
 from ..lazy import lazy_module
 from .domain import check_names
 from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
-from .typed import verify_typed
+from .typed import soft_outputs, value_distances, verify_typed
 
 sparse = lazy_module("scipy.sparse")
 
@@ -61,17 +62,14 @@ def _output_margins(net: Network, X: np.ndarray) -> tuple[np.ndarray, np.ndarray
     Z, V = net.run_units(X)
     base = len(net.inputs)
     index = net.unit_index()
-    thr = net.decision_threshold
     rows = [index[o.source] for o in net.outputs]
     values = V[rows].T.astype(float)
     margins = np.empty_like(values)
     for k, r in enumerate(rows):
         if r < base:
             margins[:, k] = 0.5
-        elif net.neurons[r - base].activation == "step":
-            margins[:, k] = np.abs(Z[r - base])
         else:
-            margins[:, k] = np.abs(values[:, k] - thr)
+            margins[:, k] = np.abs(Z[r - base])
     step = [j for j, n in enumerate(net.neurons) if n.activation == "step"]
     zmin = np.abs(Z[step]).min(axis=1).astype(float) if step and len(X) else np.zeros(0)
     return values, margins, zmin
@@ -167,6 +165,8 @@ def verify_exhaustive(
     thr = net.decision_threshold
     bad = np.zeros(len(net.outputs), dtype=np.int64)
     min_margin = np.full(len(net.outputs), np.inf)
+    min_dist = np.full(len(net.outputs), np.inf)
+    soft = soft_outputs(net)
     zmin = None
     examples: list[list[Counterexample]] = [[] for _ in net.outputs]
     plan = net.bit_plan
@@ -189,6 +189,7 @@ def verify_exhaustive(
         diff = actual != expected
         bad += diff.sum(axis=0)
         min_margin = np.minimum(min_margin, margins.min(axis=0, initial=np.inf))
+        min_dist = np.minimum(min_dist, value_distances(values, soft, thr))
         zmin = zm if zmin is None else np.minimum(zmin, zm)
         for k in np.nonzero(diff.any(axis=0))[0]:
             room = MAX_COUNTEREXAMPLES - len(examples[k])
@@ -210,6 +211,7 @@ def verify_exhaustive(
             int(bad[k]),
             examples[k],
             None if not np.isfinite(min_margin[k]) else float(min_margin[k]),
+            None if not np.isfinite(min_dist[k]) else float(min_dist[k]),
         )
         for k, o in enumerate(net.outputs)
     ]
