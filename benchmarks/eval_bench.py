@@ -8,11 +8,16 @@ Without files it uses generated circuits (benchmarks/gen_circuits.py): a 16x16 m
 a 64-bit adder.  Memory is the peak of Python allocations (tracemalloc) during the call;
 times are CPU seconds of this process (``time.process_time``), since the machine is shared and
 both evaluators run on one thread.
+
+A second table gives exhaustive verification (``verify_exhaustive``, every assignment, against
+the reference evaluator) on the float path it used before beside the bit path, in rows/s, on
+netlists of at most 20 inputs (``--verify-inputs``): a 8x8 multiplier and a 10-bit adder.
 """
 
 from __future__ import annotations
 
 import argparse
+import dataclasses
 import pathlib
 import sys
 import time
@@ -25,6 +30,7 @@ import gen_circuits  # noqa: E402
 
 from thresholdc.compiler import compile_source  # noqa: E402
 from thresholdc.logic import source_from_text  # noqa: E402
+from thresholdc.verification.exhaustive import verify_exhaustive  # noqa: E402
 
 
 def _measure(fn, X):
@@ -59,6 +65,29 @@ def bench(name: str, text: str, rows: int) -> None:
           f" {t_old / t_new:7.1f}x {m_old / 2**20:9.1f} {m_new / 2**20:9.1f}")
 
 
+def _float_only(net):
+    """A copy of ``net`` whose bit plan is switched off (the float path, as before)."""
+    copy = dataclasses.replace(net)
+    copy.__dict__["_bit_plan"] = None  # the cached property's slot
+    return copy
+
+
+def bench_verify(name: str, text: str) -> None:
+    src = source_from_text(text, name)
+    net = compile_source(src, verify="none").network
+    rows = 1 << len(net.inputs)
+    old_net = _float_only(net)
+    t = time.process_time()
+    old = verify_exhaustive(old_net, src)
+    t_old = time.process_time() - t
+    t = time.process_time()
+    new = verify_exhaustive(net, src)
+    t_new = time.process_time() - t
+    assert old.to_dict()["outputs"] == new.to_dict()["outputs"]
+    print(f"{name:14s} {len(net.neurons):6d} {rows:8d} {rows / t_old:12.0f} {rows / t_new:12.0f}"
+          f" {t_old / t_new:7.1f}x  {new.result}")
+
+
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("files", nargs="*")
@@ -72,6 +101,12 @@ def main() -> None:
           f"{'bits rows/s':>12s} {'ratio':>8s} {'float MB':>9s} {'bits MB':>9s}")
     for name, text in cases:
         bench(name, text, args.rows)
+    print("\nexhaustive verification (verify_exhaustive, reference evaluator included)")
+    print(f"{'circuit':14s} {'neurons':>6s} {'rows':>8s} {'float rows/s':>12s} "
+          f"{'bits rows/s':>12s} {'ratio':>8s}  result")
+    for name, text in [("mult8.bench", gen_circuits.multiplier(8)),
+                       ("add10.bench", gen_circuits.adder(10))]:
+        bench_verify(name, text)
 
 
 if __name__ == "__main__":

@@ -7,6 +7,7 @@ import json
 
 import numpy as np
 
+import thresholdc
 from thresholdc.cli import main
 from thresholdc.commands import table
 
@@ -115,3 +116,40 @@ def test_an_error_while_evaluating_leaves_no_partial_table(tmp_path, capsys, mon
         code, out, err = run(capsys, "table", src, *extra)
         assert code == 2 and out == ""
         assert err == f"thresholdc: error: {src}: cannot evaluate\n"
+
+
+def test_a_network_file_gives_the_table_of_its_rules(tmp_path, capsys, monkeypatch):
+    # the network's decisions (bit-sliced for a step network) against the rules' reference
+    # evaluator, row by row over several chunks; a broken network differs where it should
+    monkeypatch.setattr(table, "_CHUNK", 300)
+    text = ("input a, b, c, d, e, f, g, h, i, j\nu = atleast(3, a, b, c, d, e)\n"
+            "y = u xor (f and not g)\nz = (h or i) and not j or u\n")
+    rules = write(tmp_path, "t.rules", text)
+    net = thresholdc.compile_rules(text)
+    assert net.bit_plan is not None
+    path = str(tmp_path / "t.json")
+    net.save(path)
+    code, from_rules, _ = run(capsys, "table", rules, "--limit", "0", "--json")
+    assert code == 0
+    code, from_net, _ = run(capsys, "table", path, "--limit", "0", "--json")
+    assert code == 0 and from_net == from_rules
+    # the float evaluator of the same network gives the same rows
+    rows = np.array(json.loads(from_net)["rows"])
+    _, V = net.run_units(rows[:, :10].astype(float))
+    np.testing.assert_array_equal(rows[:, 10:], (V[net._output_rows] > 0.5).T)
+    bad = net.neurons[-1]
+    broken = type(net)(net.inputs, net.neurons[:-1] + (type(bad)(
+        bad.name, bad.layer, bad.inputs, bad.weights, bad.bias + 1.0, bad.activation,
+        bad.role, bad.origin),), net.outputs)
+    broken.save(path)
+    code, out, _ = run(capsys, "table", path, "--limit", "0", "--json")
+    assert code == 0 and out != from_rules
+
+
+def test_a_network_with_typed_inputs_is_refused(tmp_path, capsys):
+    net = thresholdc.compile_rules("input c: {red, blue}\ny = c in {red}\n")
+    path = str(tmp_path / "c.json")
+    net.save(path)
+    code, out, err = run(capsys, "table", path)
+    assert code == 2 and out == ""
+    assert "typed inputs" in err and len(err.splitlines()) == 1

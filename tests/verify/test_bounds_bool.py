@@ -154,7 +154,7 @@ def test_report_layout():
     assert data["result"] == "different" and data["method"] == "bounds"
     for o in data["outputs"]:
         assert list(o) == ["name", "verdict", "agrees", "disagreements", "found",
-                           "counterexamples", "min_margin", "bound"]
+                           "counterexamples", "min_margin", "min_value_distance", "bound"]
     bad = data["outputs"][1]
     assert not bad["agrees"] and 1 <= len(bad["counterexamples"]) <= 5
     assert bad["verdict"] == "different" and bad["disagreements"] == bad["found"] >= 1

@@ -1,4 +1,6 @@
-"""``thresholdc table SOURCE``: the truth table of every output, from the reference evaluator.
+"""``thresholdc table SOURCE``: the truth table of every output, from the reference evaluator
+of a rule file or netlist, or from a network file's decisions (``.json``, ``.npz``, ``.onnx``:
+``Network.decide``, bit-sliced and chunked for step networks).
 
 Rows are made, evaluated and printed a chunk at a time, so memory stays bounded whatever the
 number of rows; each chunk is formatted with numpy (no Python loop over rows).  The rules of
@@ -6,7 +8,8 @@ the table:
 
 - one column per declared input: a Boolean input takes 0 then 1, a categorical input its values
   in declaration order; rows count up with the first input as the most significant digit;
-- a real input has no finite set of values, so a table of it is refused (exit 2);
+- a real input has no finite set of values, so a table of it is refused (exit 2); so is a
+  network with typed inputs (its rule file gives the table by feature);
 - at most ``MAX_TABLE_ROWS`` rows are printed in one table (``--limit`` picks fewer).
 """
 
@@ -15,18 +18,21 @@ from __future__ import annotations
 import argparse
 import json
 import math
+import os
 import sys
 from typing import Any
 
 import numpy as np
 
 from ..errors import UsageError
+from ..export import SUFFIXES, load_any
+from ..ir.network import Network
 from ..ir.reference import Reference
 from ..logic import evaluate as evaluate_rules
 from ..logic import load_source
 from .common import add_parser, warn
 
-__all__ = ["register", "run", "table_rows", "MAX_TABLE_ROWS"]
+__all__ = ["register", "run", "table_rows", "network_table", "MAX_TABLE_ROWS", "NetworkTable"]
 
 #: The most rows one table prints (``--limit 0`` beyond this is refused with a clear message).
 MAX_TABLE_ROWS = 1 << 24
@@ -40,16 +46,55 @@ def register(subparsers: Any) -> None:
         help="print the truth table of a rule file or netlist",
         description=(
             "Print the truth table of every output, computed from the rules directly (no "
-            "network involved). Rows count up with the first input as the highest bit; a "
+            "network involved), or of a network file (.json, .npz, .onnx) from the network's "
+            "decisions. Rows count up with the first input as the highest bit; a "
             "categorical input takes its values in declaration order. At most "
             f"{MAX_TABLE_ROWS} rows are printed."
         ),
         example="thresholdc table circuits/greenhouse.rules --limit 16",
     )
-    p.add_argument("source", metavar="SOURCE", help="rule file, .bench or .blif netlist")
+    p.add_argument("source", metavar="SOURCE",
+                   help="rule file, .bench or .blif netlist, or a network file")
     p.add_argument("--limit", type=int, default=1024, metavar="N",
                    help="print at most N rows (default 1024; 0 for all)")
     p.add_argument("--json", action="store_true", help="print the table as JSON")
+
+
+class NetworkTable:
+    """A network file read as a table source: Boolean input units, its outputs' decisions.
+
+    >>> from thresholdc.ir.network import Network, Neuron, Output
+    >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),),
+    ...               (Output("y", "y"),))
+    >>> NetworkTable(net, "n.json").evaluate(np.array([[1, 1], [0, 1]])).ravel().tolist()
+    [1, 0]
+    """
+
+    program = None
+
+    def __init__(self, net: Network, file: str) -> None:
+        if net.features is not None and any(f.get("kind") != "bool" for f in net.features):
+            raise UsageError("this network has typed inputs (categorical or real): give its "
+                             "rule file for a table by feature", file=file)
+        self.net = net
+        self.file = file
+        self.inputs = net.inputs
+        self.outputs = net.output_names
+
+    def evaluate(self, X: np.ndarray) -> np.ndarray:
+        """0/1 decisions ``(rows, outputs)`` for 0/1 rows of the input units (vectorised;
+        step networks go through the bit-sliced path of :meth:`Network.decide`)."""
+        Xn = X.astype(float)
+        if self.net.encoding == "bipolar":
+            Xn = 2.0 * Xn - 1.0
+        return self.net.decide(Xn).astype(np.uint8)
+
+
+def network_table(path: str) -> NetworkTable | None:
+    """The table source of a network file, or ``None`` when ``path`` is not one (by suffix)."""
+    if os.path.splitext(path)[1].lower() not in SUFFIXES:
+        return None
+    return NetworkTable(load_any(path), path)
 
 
 def _columns(source: Reference) -> tuple[list[str], list[list[str]], list[bool]]:
@@ -150,7 +195,7 @@ def _render(columns: list[np.ndarray], indices: list[np.ndarray], rows: int) -> 
 def run(args: argparse.Namespace) -> int:
     if args.limit < 0:
         raise UsageError(f"--limit must be 0 or more. Got {args.limit} instead.")
-    source = load_source(args.source)
+    source: Any = network_table(args.source) or load_source(args.source)
     names, values, boolean = _columns(source)
     outputs = list(source.outputs)
     radices = [len(v) for v in values]

@@ -136,12 +136,17 @@ def output_table(report: Report, label: str = "output") -> str:
     if not exact_only:
         head.append("counterexamples found")
     head.append("min margin")
+    soft = any(o.min_value_distance is not None for o in report.outputs)
+    if soft:  # soft outputs: how far their values stay from the decision threshold
+        head.append("min value distance")
     rows = []
     for o in report.outputs:
         row: list[Any] = [o.name, o.verdict, o.disagreements if o.exact else "-"]
         if not exact_only:
             row.append(o.found if o.verdict != "undecided" else "-")
         row.append("-" if o.min_margin is None else fmt_num(o.min_margin))
+        if soft:
+            row.append("-" if o.min_value_distance is None else fmt_num(o.min_value_distance))
         rows.append(tuple(row))
     return format_table(tuple(head), rows, right=set(range(2, len(head))))
 

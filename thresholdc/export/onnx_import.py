@@ -3,7 +3,9 @@
 Supported graphs have one input (batch × input units) and one output, and are built from
 ``Gemm`` or ``MatMul`` + ``Add`` (as PyTorch's exporter writes ``nn.Linear``), ``Sigmoid``,
 ``Tanh``, ``Relu``, a step as ``Greater`` + ``Cast`` (or ``Where(…, 1, −1)``), plus ``Gather``
-and ``Concat`` on the column axis, ``Identity`` and ``Flatten``.
+and ``Concat`` on the column axis, ``Identity`` and ``Flatten``; and the unit-major layout of
+our sparse export: ``Transpose`` of a unit matrix, then ``Gather``/``Concat`` on axis 0 and
+``MatMul(W, G)`` with biases of shape (units, 1).
 
 Rules of the reading (a small symbolic interpreter over the nodes in graph order): every tensor
 is a *constant* (an initializer or a ``Constant`` node), a *unit matrix* (its columns are known
@@ -40,7 +42,7 @@ from .dense import imported_meta, network_from_layers, unique_name
 __all__ = ["from_onnx", "load_onnx", "SUPPORTED_OPS"]
 
 SUPPORTED_OPS = ("Gemm", "MatMul", "Add", "Sum", "Sigmoid", "Tanh", "Relu", "Greater", "Cast",
-                 "Where", "Gather", "Concat", "Identity", "Flatten", "Constant")
+                 "Where", "Gather", "Concat", "Identity", "Flatten", "Constant", "Transpose")
 _ACT = {"Sigmoid": "sigmoid", "Tanh": "tanh", "Relu": "relu"}
 
 
@@ -51,9 +53,11 @@ def _array(array: np.ndarray) -> np.ndarray:
 
 @dataclass
 class _Units:
-    """A tensor whose columns are known units (indices into the unit table)."""
+    """A tensor whose columns are known units (indices into the unit table); ``t``: the
+    transposed, unit-major layout (its rows are the units)."""
 
     cols: list[int]
+    t: bool = False
 
 
 @dataclass
@@ -63,6 +67,7 @@ class _Affine:
     cols: list[int]
     W: np.ndarray
     b: np.ndarray
+    t: bool = False
 
 
 @dataclass
@@ -148,7 +153,7 @@ class _Reader:
         self.groups.append(group)
         n = value.W.shape[0]
         self.width += n
-        return _Units(list(range(group.first, group.first + n)))
+        return _Units(list(range(group.first, group.first + n)), value.t)
 
     # ------------------------------------------------------------------ nodes
     def run(self) -> _Units:
@@ -157,7 +162,11 @@ class _Reader:
             self.step(node)
         if self.output not in self.values:
             raise self.fail(f"the output {self.output!r} is not computed from the input")
-        return self.units(self.output, self.nodes[-1] if self.nodes else onnx.NodeProto())
+        out = self.units(self.output, self.nodes[-1] if self.nodes else onnx.NodeProto())
+        if out.t:
+            raise self.fail(f"the output {self.output!r} is unit-major (batch second); "
+                            "transpose it back")
+        return out
 
     def step(self, node: onnx.NodeProto) -> None:
         """Interpret one node."""
@@ -197,7 +206,18 @@ class _Reader:
         self.values[out] = self.affine(node, x, W, b)
 
     def op_MatMul(self, node: onnx.NodeProto, attrs: dict[str, Any], out: str) -> None:
+        if node.input[0] in self.consts:  # W @ G on unit-major rows
+            G = self.units(node.input[1], node)
+            if not G.t:
+                raise self.fail(f"MatMul node {node.name!r} multiplies a constant by a "
+                                "batch-major tensor")
+            W = self.const(node.input[0], node)
+            value = self.affine(node, _Units(G.cols), W, np.zeros(W.shape[0] if W.ndim else 0))
+            self.values[out] = _Affine(value.cols, value.W, value.b, True)
+            return
         x = self.units(node.input[0], node)
+        if x.t:
+            raise self.fail(f"MatMul node {node.name!r} reads a unit-major tensor first")
         W = self.const(node.input[1], node).T
         self.values[out] = self.affine(node, x, W, np.zeros(W.shape[0]))
 
@@ -229,7 +249,9 @@ class _Reader:
         for part in (a, b):
             for j, c in enumerate(part.cols):
                 W[:, at[c]] += part.W[:, j]
-        return _Affine(cols, W, a.b + b.b)
+        if a.t != b.t:
+            raise self.fail(f"{node.op_type} node {node.name!r} adds tensors of two layouts")
+        return _Affine(cols, W, a.b + b.b, a.t)
 
     def op_Add(self, node: onnx.NodeProto, attrs: dict[str, Any], out: str) -> None:
         a, c = node.input[0], node.input[1]
@@ -246,12 +268,13 @@ class _Reader:
         if bias.size not in (1, value.W.shape[0]):
             raise self.fail(f"Add node {node.name!r}: a bias of {bias.size} values for "
                             f"{value.W.shape[0]} units")
-        self.values[out] = _Affine(value.cols, value.W, value.b + bias)
+        self.values[out] = _Affine(value.cols, value.W, value.b + bias, value.t)
 
     def _activation(self, node: onnx.NodeProto, out: str) -> None:
         value = self.values.get(node.input[0])
         if isinstance(value, _Units):  # an activation straight on units: an identity layer
-            value = _Affine(value.cols, np.eye(len(value.cols)), np.zeros(len(value.cols)))
+            value = _Affine(value.cols, np.eye(len(value.cols)), np.zeros(len(value.cols)),
+                            value.t)
         if not isinstance(value, _Affine):
             raise self.fail(f"{node.op_type} node {node.name!r} must follow Gemm or MatMul")
         self.values[out] = self.activate(value, _ACT[node.op_type])
@@ -265,10 +288,10 @@ class _Reader:
     def op_Greater(self, node: onnx.NodeProto, attrs: dict[str, Any], out: str) -> None:
         value = self.values.get(node.input[0])
         c = self.const(node.input[1], node).reshape(-1)
-        if not isinstance(value, _Affine) or c.size != 1:
+        if not isinstance(value, _Affine) or c.size not in (1, value.W.shape[0]):
             raise self.fail(f"Greater node {node.name!r} must compare a Gemm or MatMul "
-                            "result with one constant (a step)")
-        self.values[out] = _Compare(_Affine(value.cols, value.W, value.b - float(c[0])))
+                            "result with one constant or one per unit (a step)")
+        self.values[out] = _Compare(_Affine(value.cols, value.W, value.b - c, value.t))
 
     def op_Cast(self, node: onnx.NodeProto, attrs: dict[str, Any], out: str) -> None:
         value = self.values.get(node.input[0])
@@ -291,18 +314,31 @@ class _Reader:
     def op_Gather(self, node: onnx.NodeProto, attrs: dict[str, Any], out: str) -> None:
         x = self.units(node.input[0], node)
         idx = self.const(node.input[1], node)
-        if attrs.get("axis", 0) not in (1, -1) or idx.ndim != 1:
-            raise self.fail(f"Gather node {node.name!r} must pick columns (axis 1) "
-                            "with a 1-D list of indices")
-        self.values[out] = _Units([x.cols[int(i)] for i in idx])
+        axis = attrs.get("axis", 0)
+        ok = axis in (0, -2) if x.t else axis in (1, -1)
+        if not ok or idx.ndim != 1 or idx.dtype.kind not in "iu":
+            raise self.fail(f"Gather node {node.name!r} must pick units (axis 1, or axis 0 "
+                            "after a Transpose) with a 1-D list of integer indices")
+        if idx.size and (idx.min() < -len(x.cols) or idx.max() >= len(x.cols)):
+            raise self.fail(f"Gather node {node.name!r} has an index out of range")
+        self.values[out] = _Units([x.cols[int(i)] for i in idx], x.t)
 
     def op_Concat(self, node: onnx.NodeProto, attrs: dict[str, Any], out: str) -> None:
-        if attrs.get("axis") not in (1, -1):
-            raise self.fail(f"Concat node {node.name!r} must join columns (axis 1)")
+        parts = [self.units(name, node) for name in node.input]
+        t = bool(parts) and parts[0].t
+        if attrs.get("axis") not in ((0, -2) if t else (1, -1)) or any(p.t != t for p in parts):
+            raise self.fail(f"Concat node {node.name!r} must join units (axis 1, or axis 0 "
+                            "after a Transpose)")
         cols: list[int] = []
-        for name in node.input:
-            cols += self.units(name, node).cols
-        self.values[out] = _Units(cols)
+        for p in parts:
+            cols += p.cols
+        self.values[out] = _Units(cols, t)
+
+    def op_Transpose(self, node: onnx.NodeProto, attrs: dict[str, Any], out: str) -> None:
+        if list(attrs.get("perm", [1, 0])) != [1, 0]:
+            raise self.fail(f"Transpose node {node.name!r} must swap the two axes")
+        x = self.units(node.input[0], node)
+        self.values[out] = _Units(x.cols, not x.t)
 
     def op_Identity(self, node: onnx.NodeProto, attrs: dict[str, Any], out: str) -> None:
         self.values[out] = self.values.get(node.input[0])
@@ -319,7 +355,7 @@ def _selection(value: _Affine) -> _Units | None:
         return None
     if not (np.all((value.W == 0) | (value.W == 1)) and np.all(value.W.sum(axis=1) == 1)):
         return None
-    return _Units([value.cols[int(j)] for j in np.argmax(value.W, axis=1)])
+    return _Units([value.cols[int(j)] for j in np.argmax(value.W, axis=1)], value.t)
 
 
 def _metadata(model: onnx.ModelProto) -> dict[str, Any]:

@@ -1,7 +1,13 @@
-"""PyTorch export and import (optional extra ``torch``): an ``nn.Sequential`` MLP.
+"""PyTorch export and import (optional extra ``torch``): an ``nn.Sequential`` MLP, or a sparse
+module for netlist-sized networks.
 
 :func:`to_torch` gives ``Linear, activation, Linear, activation, …`` for the dense layered form
 of :mod:`thresholdc.export.dense` (the last ``Linear`` has one row per output, in output order).
+From ``SPARSE_FROM`` neurons (``form="auto"``; or with ``form="sparse"``) it gives a
+:class:`SparseNet` instead, the layout of the sparse ONNX form: unit-major tensors, each group
+(a layer's neurons of one activation) ``index_select``s only the rows it reads from each
+earlier group's output (index buffers), multiplies them by its own small dense weight block (a
+parameter of just those columns) and applies its activation; no relays.
 A step is the small module :class:`Step` (``(x > 0)`` as float; ``±1`` in the bipolar encoding).
 Its forward pass is the exact step; its backward pass is a straight-through estimator (the
 gradient of the clipped identity: 1 where |x| ≤ 1, else 0), so ``loss.backward()`` works on a
@@ -30,10 +36,14 @@ import torch
 from torch import nn
 
 from ..errors import UsageError
-from ..ir.network import Network
-from .dense import Layer, dense_form, network_from_layers
+from ..ir.network import Network, Neuron, Output
+from .dense import Layer, dense_form, imported_meta, network_from_layers
 
-__all__ = ["Step", "to_torch", "from_torch"]
+__all__ = ["Step", "SparseNet", "to_torch", "from_torch", "FORMS", "SPARSE_FROM"]
+
+FORMS = ("auto", "dense", "sparse")
+#: From this many neurons ``to_torch(form="auto")`` builds a :class:`SparseNet`.
+SPARSE_FROM = 64
 
 
 class Step(nn.Module):
@@ -73,20 +83,160 @@ def _activation_module(name: str, bipolar: bool) -> nn.Module | None:
     return {"sigmoid": nn.Sigmoid, "tanh": nn.Tanh, "relu": nn.ReLU}[name]()
 
 
-def to_torch(network: Network, *, dtype: torch.dtype = torch.float32) -> nn.Sequential:
-    """The network as an ``nn.Sequential`` of ``Linear`` and activation modules.
+class SparseNet(nn.Module):
+    """A network as unit-major groups with index buffers (see the module docstring).
+
+    ``forward(x)`` takes ``(batch, input units)`` and returns ``(batch, outputs)``.
+    ``sources[k]`` lists, per group ``k``, the earlier tensors it reads (0 = the inputs, ``j``
+    = group ``j - 1``) with the buffer of rows taken from each; ``weight[k]`` (group × rows
+    read) and ``bias[k]`` (group × 1) are parameters; ``names[k]`` the neuron names.
+
+    >>> from thresholdc.ir.network import Network, Neuron, Output
+    >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (1, 1), -1.5),),
+    ...               (Output("y", "y"),))
+    >>> model = to_torch(net, form="sparse")
+    >>> model(torch.tensor([[1.0, 1.0], [0.0, 1.0]])).tolist()
+    [[1.0], [0.0]]
+    """
+
+    def __init__(self, network: Network, dtype: torch.dtype = torch.float32) -> None:
+        super().__init__()
+        bipolar = network.encoding == "bipolar"
+        where = {name: (0, j) for j, name in enumerate(network.inputs)}
+        sizes = [len(network.inputs)]
+        self.sources: list[list[tuple[int, str | None]]] = []
+        self.names: list[list[str]] = []
+        self.activations: list[str] = []
+        self.weight = nn.ParameterList()
+        self.bias = nn.ParameterList()
+        self.acts = nn.ModuleList()
+        for L in range(1, network.depth + 1):
+            layer = [n for n in network.neurons if n.layer == L]
+            for f in dict.fromkeys(n.activation for n in layer):
+                group = [n for n in layer if n.activation == f]
+                k = len(self.names)
+                reads: dict[int, set[int]] = {}
+                for n in group:
+                    for i in n.inputs:
+                        t, j = where[i]
+                        reads.setdefault(t, set()).add(j)
+                if not reads:  # constant neurons: a zero weight on input row 0
+                    reads[0] = {0}
+                pos, srcs = self._gather(f"g{k}", reads, sizes)
+                W = torch.zeros((len(group), len(pos)), dtype=dtype)
+                for r, n in enumerate(group):
+                    for i, w in zip(n.inputs, n.weights, strict=True):
+                        W[r, pos[where[i]]] += float(w)
+                self.weight.append(nn.Parameter(W))
+                self.bias.append(nn.Parameter(torch.tensor([[float(n.bias)] for n in group],
+                                                           dtype=dtype)))
+                module = _activation_module(f, bipolar)
+                self.acts.append(module if module is not None else nn.Identity())
+                self.sources.append(srcs)
+                self.names.append([n.name for n in group])
+                self.activations.append(f)
+                for r, n in enumerate(group):
+                    where[n.name] = (k + 1, r)
+                sizes.append(len(group))
+        reads = {}
+        for o in network.outputs:
+            t, j = where[o.source]
+            reads.setdefault(t, set()).add(j)
+        pos, self.out_sources = self._gather("out", reads, sizes)
+        self.register_buffer("out_order", torch.tensor(
+            [pos[where[o.source]] for o in network.outputs], dtype=torch.long))
+        self.n_inputs = len(network.inputs)
+
+    def _gather(self, tag: str, reads: dict[int, set[int]], sizes: list[int]
+                ) -> tuple[dict[tuple[int, int], int], list[tuple[int, str | None]]]:
+        """Index buffers for the rows read from each tensor; ``None``: all rows, in order."""
+        pos: dict[tuple[int, int], int] = {}
+        srcs: list[tuple[int, str | None]] = []
+        for t in sorted(reads):
+            idx = sorted(reads[t])
+            name = None
+            if idx != list(range(sizes[t])):
+                name = f"{tag}_i{t}"
+                self.register_buffer(name, torch.tensor(idx, dtype=torch.long))
+            for j in idx:
+                pos[(t, j)] = len(pos)
+            srcs.append((t, name))
+        return pos, srcs
+
+    def _read(self, values: list[torch.Tensor], srcs: list[tuple[int, str | None]]
+              ) -> torch.Tensor:
+        parts = [values[t] if name is None else values[t].index_select(0, self.get_buffer(name))
+                 for t, name in srcs]
+        return parts[0] if len(parts) == 1 else torch.cat(parts, 0)
+
+    def forward(self, x: torch.Tensor) -> torch.Tensor:
+        values = [x.t()]
+        for srcs, W, b, f in zip(self.sources, self.weight, self.bias, self.acts, strict=True):
+            values.append(f(torch.addmm(b, W, self._read(values, srcs))))
+        order = self.get_buffer("out_order")
+        return self._read(values, self.out_sources).index_select(0, order).t()
+
+    def to_network(self, like: Network) -> Network:
+        """The module's current parameters as a :class:`Network` named after ``like`` (zero
+        weights dropped)."""
+        table = list(like.inputs)
+        sizes = [len(like.inputs)]
+        firsts = [0]
+        layer = {name: 0 for name in like.inputs}
+        info = {n.name: n for n in like.neurons}
+        neurons = []
+        for srcs, W, b, names, f in zip(self.sources, self.weight, self.bias, self.names,
+                                        self.activations, strict=True):
+            cols = self._columns(srcs, sizes, firsts)
+            Wn = W.detach().to(torch.float64).cpu().numpy()
+            bn = b.detach().to(torch.float64).cpu().numpy().reshape(-1)
+            firsts.append(len(table))
+            for r, name in enumerate(names):
+                keep = [(table[c], float(w)) for c, w in zip(cols, Wn[r], strict=True) if w]
+                lay = 1 + max((layer[i] for i, _ in keep), default=0)
+                old = info.get(name)
+                neurons.append(Neuron(name, lay, tuple(i for i, _ in keep),
+                                      tuple(w for _, w in keep), float(bn[r]), f,
+                                      old.role if old else "extra",
+                                      old.origin if old else None))
+                layer[name] = lay
+            table.extend(names)
+            sizes.append(len(names))
+        cols = self._columns(self.out_sources, sizes, firsts)
+        picked = [table[cols[int(k)]] for k in self.get_buffer("out_order").tolist()]
+        outs = tuple(Output(o, s) for o, s in zip(like.output_names, picked, strict=True))
+        return Network(like.inputs, tuple(neurons), outs, imported_meta(like), like.encoding,
+                       like.features)
+
+    def _columns(self, srcs: list[tuple[int, str | None]], sizes: list[int],
+                 firsts: list[int]) -> list[int]:
+        """Unit-table positions of the rows a group reads."""
+        cols: list[int] = []
+        for t, name in srcs:
+            idx = range(sizes[t]) if name is None else self.get_buffer(name).tolist()
+            cols += [firsts[t] + int(j) for j in idx]
+        return cols
+
+
+def to_torch(network: Network, *, dtype: torch.dtype = torch.float32,
+             form: str = "auto") -> nn.Module:
+    """The network as an ``nn.Sequential`` of ``Linear`` and activation modules, or as a
+    :class:`SparseNet` for netlist-sized networks.
 
     Parameters
     ----------
     network : Network
-        Any network; a non-strict one is put in strict layered form first.
+        Any network; a non-strict one is put in strict layered form first (dense form).
     dtype : torch.dtype
         The parameters' dtype (float32 by default, exact for integer weights and
         half-integer biases).
+    form : str
+        ``auto`` (a :class:`SparseNet` from ``SPARSE_FROM`` neurons, else the dense
+        ``Sequential``), ``dense`` or ``sparse``.
 
     Returns
     -------
-    torch.nn.Sequential
+    torch.nn.Module
         Input ``(batch, input units)``, output ``(batch, outputs)`` in output order.
 
     >>> from thresholdc.ir.network import Network, Neuron, Output
@@ -94,6 +244,17 @@ def to_torch(network: Network, *, dtype: torch.dtype = torch.float32) -> nn.Sequ
     >>> [type(m).__name__ for m in to_torch(net)]
     ['Linear', 'Sigmoid']
     """
+    if form not in FORMS:
+        raise UsageError(f"the torch form must be one of {', '.join(FORMS)}. Got {form!r} "
+                         "instead.")
+    sparse_ok = bool(network.inputs) and bool(network.outputs)
+    if sparse_ok and (form == "sparse" or (form == "auto"
+                                           and len(network.neurons) >= SPARSE_FROM)):
+        return SparseNet(network, dtype)
+    return _sequential(network, dtype)
+
+
+def _sequential(network: Network, dtype: torch.dtype) -> nn.Sequential:
     form = dense_form(network)
     modules: list[nn.Module] = []
     for W, b, f in form.layers:
@@ -179,4 +340,6 @@ def from_torch(module: nn.Module, like: Network) -> Network:
     >>> from_torch(to_torch(net), like=net).neurons[0].weights
     (-2.0,)
     """
+    if isinstance(module, SparseNet):
+        return module.to_network(like)
     return network_from_layers(layers_of(module), like=like)

@@ -28,7 +28,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["BitPlan", "MEMORY_BUDGET", "chunk_rows"]
+__all__ = ["BitPlan", "MEMORY_BUDGET", "chunk_rows", "unpack"]
 
 #: Bytes a chunk of rows may use for the unit values (bit planes or floats), whatever the
 #: number of rows.
@@ -172,7 +172,17 @@ class BitPlan:
             out[start:start + step] = self._decide_chunk(X[start:start + step])
         return out
 
-    def _decide_chunk(self, X: np.ndarray) -> np.ndarray:
+    def units(self, X: np.ndarray) -> np.ndarray:
+        """Bit planes of every unit (inputs first, then neurons) for one chunk of 0/1 rows,
+        ``(units, ceil(rows / 64))`` uint64; bit ``r % 64`` of word ``r // 64`` is row ``r``.
+
+        Holds ``units × rows / 8`` bytes: the caller keeps the chunk within its budget
+        (:func:`chunk_rows` with ``bytes_per_value = 2 / 8``).
+
+        >>> p = BitPlan.build(("a",), [("n", 1, ("a",), (-1,), 0.5)], ["n"])
+        >>> unpack(p.units(np.array([[0], [1], [1]])), 3).tolist()
+        [[0, 1, 1], [1, 0, 0]]
+        """
         rows = X.shape[0]
         words = -(-rows // 64)
         packed = np.zeros((self.n_inputs, words * 8), dtype=np.uint8)
@@ -183,8 +193,21 @@ class BitPlan:
         for groups in self.layers:
             for g in groups:
                 values[g.targets] = _threshold(values, g)
-        out = np.ascontiguousarray(values[self.outputs].view(np.uint8).T)
-        return np.unpackbits(out, axis=0, count=rows, bitorder="little").view(bool)
+        return values
+
+    def _decide_chunk(self, X: np.ndarray) -> np.ndarray:
+        values = self.units(X)
+        return unpack(values[self.outputs], X.shape[0]).T.view(bool)
+
+
+def unpack(planes: np.ndarray, rows: int) -> np.ndarray:
+    """0/1 values ``(units, rows)`` uint8 from bit planes ``(units, words)`` uint64.
+
+    >>> unpack(np.array([[5]], dtype=np.uint64), 3).tolist()
+    [[1, 0, 1]]
+    """
+    planes = np.ascontiguousarray(planes)
+    return np.unpackbits(planes.view(np.uint8), axis=1, count=rows, bitorder="little")
 
 
 _ONES = np.uint64(0xFFFFFFFFFFFFFFFF)

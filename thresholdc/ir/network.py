@@ -302,6 +302,17 @@ class Network:
                 return None
         return plan
 
+    @property
+    def bit_plan(self) -> BitPlan | None:
+        """The bit-sliced plan of a binary step network with half-integer parameters (what
+        :meth:`decide` uses on 0/1 rows), else ``None``.
+
+        >>> net = Network(("a",), (Neuron("n", 1, ("a",), (-1,), 0.5),), (Output("n", "n"),))
+        >>> net.bit_plan.n_units
+        2
+        """
+        return self._bit_plan
+
     @cached_property
     def _bit_plan(self) -> BitPlan | None:
         if self.encoding != "binary" or not self._exact_in_float32:

@@ -4,7 +4,7 @@ Where the rule domain is small enough (Boolean and categorical inputs, at most
 :data:`MAX_ENUMERATED` assignments) every assignment is evaluated and the worst
 ``|output − rule value|`` is exact.  Otherwise the branch-and-bound verifier
 (:func:`thresholdc.verification.bounds.verify_bounds`) bounds it: on agreement the worst error is
-at most ``0.5 − min_margin`` (for real inputs: outside a band of ± scale around each rule
+at most ``0.5 − min_value_distance`` (for real inputs: outside a band of ± scale around each rule
 threshold, as that verifier states).  A start whose worst error is below 0.5 decides every
 rule as written.
 
@@ -91,6 +91,9 @@ def start_tolerance(net: Network, source: Any, *, time_limit: float = 1.0) -> di
     if not report.equal:  # some output left open by a limit
         return {"method": "bounds", "worst_error": None, "decides_rules": None,
                 "note": "not bounded within the time given"}
-    worst = {o.name: 0.5 - float(o.min_margin or 0.0) for o in report.outputs}
+    # the output values' distance from 0.5 (a step output's value is 0 or 1: distance 0.5)
+    worst = {o.name: 0.5 - float(o.min_value_distance if o.min_value_distance is not None
+                                 else 0.5 if o.min_margin is not None else 0.0)
+             for o in report.outputs}
     return {"method": "bounds", "worst_error": max(worst.values(), default=0.0),
             "outputs": worst, "decides_rules": True}

@@ -21,7 +21,8 @@ Rules of the algorithm
       box's centre has been checked for a counterexample.  A box that is a single point is
       always decided, so on a finite domain the search is complete.
     * ``min_margin`` is a certified lower bound of the margin over each decided box: ``|z|``
-      of a step output neuron, ``|value − threshold|`` of a soft one.
+      of the output neuron (its pre-activation, whatever the activation); for a soft output
+      ``min_value_distance`` is one of ``|value − threshold|``.
     * ``max_nodes`` boxes or ``time_limit`` seconds stop the search: a disagreement already
       found gives ``different``; each output still open in some box is ``undecided`` with the
       limit as its bound, and an output settled on every box keeps its verdict.
@@ -247,10 +248,7 @@ def _output_intervals(bd: _Bounder, M: np.ndarray, lo: np.ndarray, hi: np.ndarra
         if o.source in pos:
             j = pos[o.source]
             vlo[:, k], vhi[:, k] = alo[:, j], ahi[:, j]
-            if net.neurons[j].activation == "step":
-                mlo[:, k], mhi[:, k] = zlo[:, j], zhi[:, j]
-            else:
-                mlo[:, k], mhi[:, k] = alo[:, j] - thr, ahi[:, j] - thr
+            mlo[:, k], mhi[:, k] = zlo[:, j], zhi[:, j]
         else:
             c = col[o.source]
             vlo[:, k], vhi[:, k] = ulo[:, c], uhi[:, c]
@@ -292,6 +290,9 @@ class _Search:
         self.unknown = np.zeros(K, dtype=bool)
         self.open = np.zeros(K, dtype=bool)
         self.min_margin = np.full(K, np.inf)
+        self.min_dist = np.full(K, np.inf)
+        act = {n.name: n.activation for n in net.neurons}
+        self.soft = [act.get(o.source, "step") != "step" for o in net.outputs]
         self.examples: list[list[Counterexample]] = [[] for _ in range(K)]
         self.nodes = 0
         # Split order of discrete features: most total |weight| on their units first.
@@ -361,6 +362,9 @@ class _Search:
             col = decided[:, k]
             margin = np.where(net_one[:, k], mlo[:, k], -mhi[:, k])[col]
             self.min_margin[k] = min(self.min_margin[k], float(margin.min()))
+            if self.soft[k]:
+                dist = np.where(net_one[:, k], vlo[:, k] - thr, thr - vhi[:, k])[col]
+                self.min_dist[k] = min(self.min_dist[k], float(dist.min()))
             bad_rows = np.nonzero(wrong[:, k])[0]
             if bad_rows.size:
                 self.bad[k] += int(counts[bad_rows].sum())
@@ -485,14 +489,15 @@ def run_bounds(
     for k, o in enumerate(net.outputs):
         margin = (None if not np.isfinite(search.min_margin[k])
                   else float(search.min_margin[k]))
+        dist = None if not np.isfinite(search.min_dist[k]) else float(search.min_dist[k])
         settled = not search.open[k] and not search.unknown[k]
         if search.bad[k]:
             exact = settled and not domain.continuous  # every box of k counted whole
             outputs.append(OutputReport.differs(
                 o.name, search.examples[k], disagreements=search.bad[k] if exact else None,
-                found=search.bad[k], min_margin=margin))
+                found=search.bad[k], min_margin=margin, value_distance=dist))
         elif settled:
-            outputs.append(OutputReport.proven(o.name, margin))
+            outputs.append(OutputReport.proven(o.name, margin, value_distance=dist))
         else:
             outputs.append(OutputReport.undecided(o.name, thin if search.unknown[k]
                                                   else stopped))

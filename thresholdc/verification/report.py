@@ -17,11 +17,22 @@ is different, else ``undecided``; the constructor checks this.  ``Report.to_dict
     {"result": "equal" | "different" | "undecided", "method": …, "assignments": N,
      "outputs": [{"name": …, "verdict": …, "agrees": bool, "disagreements": int | null,
                   "found": int, "counterexamples": [up to 5 assignments],
-                  "min_margin": …, "bound": str | null}], …}
+                  "min_margin": …, "min_value_distance": … | null, "bound": str | null}],
+     …}
 
-``agrees`` is kept for older readers: true only for a proven ``equal``.  ``min_margin`` is
-the smallest |value − decision threshold|-style margin the method saw on that output
-(pre-activation of the output neuron for step networks), or None.
+``agrees`` is kept for older readers: true only for a proven ``equal``.
+
+**Margin** has one meaning everywhere (reports, counterexamples, ``verify``, ``inspect``,
+the HTML report, the API): the distance of the output unit's *pre-activation* from its
+decision point, ``|z|`` with ``z = Σ w·x + b`` as the network stores it (the output reads
+true when ``z > 0``), whatever the activation.  For a step network compiled from rules that is
+in units of the integer weights (the compiler guarantees ``|z| ≥ 0.5``); a soft network's
+weights hold its gain, so its ``z`` is the gain times that.  An output that reads an input
+unit directly has margin 0.5 (a 0/1 value's distance from 0.5).  ``min_margin`` is the
+smallest margin the method saw (a certified lower bound for branch-and-bound), or None.
+For a soft (sigmoid, tanh, ReLU, linear) output, ``min_value_distance`` is the smallest
+``|value − decision threshold|`` of its *output value*, the quantity an error budget on the
+outputs bounds (None for step outputs, where it is always 0.5).
 
 >>> r = Report("equal", "exhaustive", 4, [OutputReport.proven("y", 0.5)])
 >>> r.equal, r.outputs[0].agrees, r.to_dict()["outputs"][0]["verdict"]
@@ -80,6 +91,7 @@ class OutputReport:
     counterexamples: list[Counterexample] = field(default_factory=list)
     min_margin: float | None = None
     bound: str | None = None
+    min_value_distance: float | None = None
 
     def __post_init__(self) -> None:
         if self.verdict not in VERDICTS:
@@ -107,9 +119,10 @@ class OutputReport:
         return self.disagreements is not None
 
     @classmethod
-    def proven(cls, name: str, min_margin: float | None = None) -> OutputReport:
+    def proven(cls, name: str, min_margin: float | None = None, *,
+               value_distance: float | None = None) -> OutputReport:
         """A proven-equal output."""
-        return cls(name, "equal", 0, 0, [], min_margin)
+        return cls(name, "equal", 0, 0, [], min_margin, None, value_distance)
 
     @classmethod
     def differs(
@@ -120,6 +133,7 @@ class OutputReport:
         disagreements: int | None = None,
         found: int | None = None,
         min_margin: float | None = None,
+        value_distance: float | None = None,
     ) -> OutputReport:
         """A different output: up to :data:`MAX_COUNTEREXAMPLES` are kept; ``found`` defaults
         to the exact count, else the number of counterexamples given."""
@@ -127,7 +141,7 @@ class OutputReport:
         if found is None:
             found = disagreements if disagreements is not None else len(examples)
         return cls(name, "different", disagreements, found, examples[:MAX_COUNTEREXAMPLES],
-                   min_margin)
+                   min_margin, None, value_distance)
 
     @classmethod
     def undecided(cls, name: str, bound: str) -> OutputReport:
@@ -141,12 +155,13 @@ class OutputReport:
         disagreements: int,
         counterexamples: Sequence[Counterexample],
         min_margin: float | None = None,
+        value_distance: float | None = None,
     ) -> OutputReport:
         """The verdict of a method that counted every disagreement exactly."""
         if disagreements == 0:
-            return cls.proven(name, min_margin)
+            return cls.proven(name, min_margin, value_distance=value_distance)
         return cls.differs(name, counterexamples, disagreements=disagreements,
-                           min_margin=min_margin)
+                           min_margin=min_margin, value_distance=value_distance)
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -157,6 +172,7 @@ class OutputReport:
             "found": self.found,
             "counterexamples": [c.assignment for c in self.counterexamples],
             "min_margin": self.min_margin,
+            "min_value_distance": self.min_value_distance,
             "bound": self.bound,
         }
 

@@ -46,20 +46,32 @@ __all__ = ["verify_typed"]
 _CHUNK = 1 << 16
 
 
+def soft_outputs(net: Network) -> np.ndarray:
+    """Which outputs read a neuron that is not a step (their values have a distance)."""
+    act = {n.name: n.activation for n in net.neurons}
+    return np.array([act.get(o.source, "step") != "step" for o in net.outputs], dtype=bool)
+
+
+def value_distances(values: np.ndarray, soft: np.ndarray, thr: float) -> np.ndarray:
+    """Per output, the smallest ``|value − thr|`` over the rows (inf for step outputs)."""
+    if not soft.any() or not len(values):
+        return np.full(values.shape[1], np.inf)
+    d = np.abs(values - thr).min(axis=0)
+    return np.where(soft, d, np.inf)
+
+
 def _margins(net: Network, Xn: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Output values, per-output margins, and each step neuron's smallest |z| on these rows."""
     Z, A = net.forward(Xn)
     col = {u: i for i, u in enumerate(net.inputs)}
     pos = {n.name: j for j, n in enumerate(net.neurons)}
-    thr = net.decision_threshold
     values = np.empty((len(Xn), len(net.outputs)))
     margins = np.empty_like(values)
     for k, o in enumerate(net.outputs):
         if o.source in pos:
             j = pos[o.source]
             values[:, k] = A[:, j]
-            step = net.neurons[j].activation == "step"
-            margins[:, k] = np.abs(Z[:, j]) if step else np.abs(A[:, j] - thr)
+            margins[:, k] = np.abs(Z[:, j])  # the pre-activation, whatever the activation
         else:
             values[:, k] = Xn[:, col[o.source]]
             margins[:, k] = 0.5
@@ -74,6 +86,8 @@ def _enumerate(net: Network, source: Any, domain: Domain) -> Report:
     K = len(net.outputs)
     bad = np.zeros(K, dtype=np.int64)
     min_margin = np.full(K, np.inf)
+    min_dist = np.full(K, np.inf)
+    soft = soft_outputs(net)
     zmin = np.full(len(net.neurons), np.inf)
     examples: list[list[Counterexample]] = [[] for _ in range(K)]
     total = domain.size
@@ -87,6 +101,7 @@ def _enumerate(net: Network, source: Any, domain: Domain) -> Report:
         diff = (values > thr) != expected
         bad += diff.sum(axis=0)
         min_margin = np.minimum(min_margin, margins.min(axis=0, initial=np.inf))
+        min_dist = np.minimum(min_dist, value_distances(values, soft, thr))
         zmin = np.minimum(zmin, zm)
         for k in np.nonzero(diff.any(axis=0))[0]:
             room = MAX_COUNTEREXAMPLES - len(examples[k])
@@ -97,7 +112,8 @@ def _enumerate(net: Network, source: Any, domain: Domain) -> Report:
                 ))
     outputs = [
         OutputReport.counted(o.name, int(bad[k]), examples[k],
-                             None if not np.isfinite(min_margin[k]) else float(min_margin[k]))
+                             None if not np.isfinite(min_margin[k]) else float(min_margin[k]),
+                             None if not np.isfinite(min_dist[k]) else float(min_dist[k]))
         for k, o in enumerate(net.outputs)
     ]
     equal = bool((bad == 0).all())
