@@ -55,6 +55,7 @@ from ..ir.network import Network
 from ..network import atomic_write
 from ..version import __version__
 from .dense import dense_form
+from .sparse import SPARSE_FROM, sparse_form, sparse_ok
 
 __all__ = ["OPSET", "IR_VERSION", "INPUT", "OUTPUT", "FORMS", "SPARSE_FROM", "choose_form",
            "to_onnx", "onnx_bytes", "save_onnx"]
@@ -65,10 +66,6 @@ INPUT = "inputs"
 OUTPUT = "outputs"
 _OPS = {"sigmoid": "Sigmoid", "tanh": "Tanh", "relu": "Relu"}
 FORMS = ("auto", "dense", "general", "sparse")
-#: From this many neurons ``auto`` writes the sparse form (netlist-sized networks; on the
-#: 16x16 multiplier, 525 neurons, the sparse graph runs ~5x faster in onnxruntime than the
-#: dense chain; benchmarks/export_runtime.py).
-SPARSE_FROM = 64
 
 
 def _version() -> str:
@@ -191,68 +188,39 @@ def _build_general(net: Network, g: _Graph) -> list[dict[str, Any]]:
 
 def _build_sparse(net: Network, g: _Graph) -> list[dict[str, Any]]:
     """The unit-major graph with per-group gathers (see the module docstring)."""
-    x = g.node("Transpose", [INPUT], "inputs_T", perm=[1, 0])
-    tensors: list[tuple[str, int]] = [(x, len(net.inputs))]
-    where = {name: (0, j) for j, name in enumerate(net.inputs)}  # unit -> (tensor, row)
+    form = sparse_form(net)
+    tensors = [g.node("Transpose", [INPUT], "inputs_T", perm=[1, 0])]
     units = []
 
-    def gather(tag: str, reads: dict[int, set[int]]) -> tuple[str, dict[tuple[int, int], int]]:
-        parts: list[str] = []
-        pos: dict[tuple[int, int], int] = {}
-        for t in sorted(reads):
-            idx = sorted(reads[t])
-            if idx == list(range(tensors[t][1])):
-                name = tensors[t][0]
-            else:
-                name = g.node("Gather", [tensors[t][0], g.const(f"{tag}_i{t}", idx, np.int64)],
-                              f"{tag}_g{t}", axis=0)
-            for j in idx:
-                pos[(t, j)] = len(pos)
-            parts.append(name)
-        joined = parts[0] if len(parts) == 1 else g.node("Concat", parts, f"{tag}_G", axis=0)
-        return joined, pos
+    def gather(tag: str, reads: list[tuple[int, list[int] | None]]) -> str:
+        parts = [tensors[t] if idx is None else
+                 g.node("Gather", [tensors[t], g.const(f"{tag}_i{t}", idx, np.int64)],
+                        f"{tag}_g{t}", axis=0)
+                 for t, idx in reads]
+        return parts[0] if len(parts) == 1 else g.node("Concat", parts, f"{tag}_G", axis=0)
 
-    for L in range(1, net.depth + 1):
-        layer = [n for n in net.neurons if n.layer == L]
-        for a_index, f in enumerate(dict.fromkeys(n.activation for n in layer)):
-            tag = f"L{L}g{a_index + 1}"
-            group = [n for n in layer if n.activation == f]
-            reads: dict[int, set[int]] = {}
-            for n in group:
-                for i in n.inputs:
-                    t, j = where[i]
-                    reads.setdefault(t, set()).add(j)
-            if not reads:  # constant neurons: a zero weight on input row 0 gives the batch
-                reads[0] = {0}
-            G, pos = gather(tag, reads)
-            W = np.zeros((len(group), len(pos)))
-            for r, n in enumerate(group):
-                for i, w in zip(n.inputs, n.weights, strict=True):
-                    W[r, pos[where[i]]] += w
-            b = np.array([[n.bias] for n in group])
-            z = g.node("MatMul", [g.const(f"{tag}_W", W), G], f"{tag}_m")
-            if f == "step":
-                gt = g.node("Greater", [z, g.const(f"{tag}_t", -b)], f"{tag}_gt")
-                if g.bipolar:
-                    out = g.node("Where", [gt, g.scalar("one", 1.0),
-                                           g.scalar("minus_one", -1.0)], f"{tag}_a")
-                else:
-                    out = g.node("Cast", [gt], f"{tag}_a", to=TensorProto.FLOAT)
+    layer_of = [grp.neurons[0].layer for grp in form.groups]
+    for k, grp in enumerate(form.groups):
+        L, f = layer_of[k], grp.activation
+        tag = f"L{L}g{layer_of[:k].count(L) + 1}"
+        G = gather(tag, grp.reads)
+        z = g.node("MatMul", [g.const(f"{tag}_W", grp.W), G], f"{tag}_m")
+        if f == "step":
+            gt = g.node("Greater", [z, g.const(f"{tag}_t", -grp.b)], f"{tag}_gt")
+            if g.bipolar:
+                out = g.node("Where", [gt, g.scalar("one", 1.0),
+                                       g.scalar("minus_one", -1.0)], f"{tag}_a")
             else:
-                zb = g.node("Add", [z, g.const(f"{tag}_b", b)], f"{tag}_z")
-                out = zb if f == "linear" else g.node(_OPS[f], [zb], f"{tag}_a")
-            for r, n in enumerate(group):
-                where[n.name] = (len(tensors), r)
-                units.append({"name": n.name, "role": n.role, "origin": n.origin})
-            tensors.append((out, len(group)))
-    reads = {}
-    for o in net.outputs:
-        t, j = where[o.source]
-        reads.setdefault(t, set()).add(j)
-    G, pos = gather("out", reads)
-    order = [pos[where[o.source]] for o in net.outputs]
-    if order != list(range(len(pos))):
-        G = g.node("Gather", [G, g.const("out_order", order, np.int64)], "out_sel", axis=0)
+                out = g.node("Cast", [gt], f"{tag}_a", to=TensorProto.FLOAT)
+        else:
+            zb = g.node("Add", [z, g.const(f"{tag}_b", grp.b)], f"{tag}_z")
+            out = zb if f == "linear" else g.node(_OPS[f], [zb], f"{tag}_a")
+        units += [{"name": n.name, "role": n.role, "origin": n.origin} for n in grp.neurons]
+        tensors.append(out)
+    G = gather("out", form.out_reads)
+    if form.order != list(range(form.out_rows)):
+        G = g.node("Gather", [G, g.const("out_order", form.order, np.int64)], "out_sel",
+                   axis=0)
     g.node("Transpose", [G], OUTPUT, perm=[1, 0])
     return units
 
@@ -271,15 +239,14 @@ def choose_form(net: Network, form: str = "auto") -> str:
     if form not in FORMS:
         raise UsageError(f"the ONNX form must be one of {', '.join(FORMS)}. Got {form!r} "
                          "instead.")
-    sparse_ok = bool(net.inputs) and bool(net.outputs)
     if form == "auto":
-        if sparse_ok and len(net.neurons) >= SPARSE_FROM:
+        if sparse_ok(net) and len(net.neurons) >= SPARSE_FROM:
             return "sparse"
         return "dense" if _dense_ok(net) else "general"
     if form == "dense" and not _dense_ok(net):
         raise UsageError("the dense ONNX form needs a strict layered network with one "
                          "activation per layer (compile with --layered)")
-    if form == "sparse" and not sparse_ok:
+    if form == "sparse" and not sparse_ok(net):
         return "general"  # nothing to gather from or into
     return form
 

@@ -38,12 +38,11 @@ from torch import nn
 from ..errors import UsageError
 from ..ir.network import Network, Neuron, Output
 from .dense import Layer, dense_form, imported_meta, network_from_layers
+from .sparse import SPARSE_FROM, sparse_form, sparse_ok
 
 __all__ = ["Step", "SparseNet", "to_torch", "from_torch", "FORMS", "SPARSE_FROM"]
 
 FORMS = ("auto", "dense", "sparse")
-#: From this many neurons ``to_torch(form="auto")`` builds a :class:`SparseNet`.
-SPARSE_FROM = 64
 
 
 class Step(nn.Module):
@@ -102,66 +101,36 @@ class SparseNet(nn.Module):
     def __init__(self, network: Network, dtype: torch.dtype = torch.float32) -> None:
         super().__init__()
         bipolar = network.encoding == "bipolar"
-        where = {name: (0, j) for j, name in enumerate(network.inputs)}
-        sizes = [len(network.inputs)]
+        form = sparse_form(network)
         self.sources: list[list[tuple[int, str | None]]] = []
         self.names: list[list[str]] = []
         self.activations: list[str] = []
         self.weight = nn.ParameterList()
         self.bias = nn.ParameterList()
         self.acts = nn.ModuleList()
-        for L in range(1, network.depth + 1):
-            layer = [n for n in network.neurons if n.layer == L]
-            for f in dict.fromkeys(n.activation for n in layer):
-                group = [n for n in layer if n.activation == f]
-                k = len(self.names)
-                reads: dict[int, set[int]] = {}
-                for n in group:
-                    for i in n.inputs:
-                        t, j = where[i]
-                        reads.setdefault(t, set()).add(j)
-                if not reads:  # constant neurons: a zero weight on input row 0
-                    reads[0] = {0}
-                pos, srcs = self._gather(f"g{k}", reads, sizes)
-                W = torch.zeros((len(group), len(pos)), dtype=dtype)
-                for r, n in enumerate(group):
-                    for i, w in zip(n.inputs, n.weights, strict=True):
-                        W[r, pos[where[i]]] += float(w)
-                self.weight.append(nn.Parameter(W))
-                self.bias.append(nn.Parameter(torch.tensor([[float(n.bias)] for n in group],
-                                                           dtype=dtype)))
-                module = _activation_module(f, bipolar)
-                self.acts.append(module if module is not None else nn.Identity())
-                self.sources.append(srcs)
-                self.names.append([n.name for n in group])
-                self.activations.append(f)
-                for r, n in enumerate(group):
-                    where[n.name] = (k + 1, r)
-                sizes.append(len(group))
-        reads = {}
-        for o in network.outputs:
-            t, j = where[o.source]
-            reads.setdefault(t, set()).add(j)
-        pos, self.out_sources = self._gather("out", reads, sizes)
-        self.register_buffer("out_order", torch.tensor(
-            [pos[where[o.source]] for o in network.outputs], dtype=torch.long))
+        for k, grp in enumerate(form.groups):
+            self.weight.append(nn.Parameter(torch.tensor(grp.W, dtype=dtype)))
+            self.bias.append(nn.Parameter(torch.tensor(grp.b, dtype=dtype)))
+            module = _activation_module(grp.activation, bipolar)
+            self.acts.append(module if module is not None else nn.Identity())
+            self.sources.append(self._buffers_of(f"g{k}", grp.reads))
+            self.names.append([n.name for n in grp.neurons])
+            self.activations.append(grp.activation)
+        self.out_sources = self._buffers_of("out", form.out_reads)
+        self.register_buffer("out_order", torch.tensor(form.order, dtype=torch.long))
         self.n_inputs = len(network.inputs)
 
-    def _gather(self, tag: str, reads: dict[int, set[int]], sizes: list[int]
-                ) -> tuple[dict[tuple[int, int], int], list[tuple[int, str | None]]]:
-        """Index buffers for the rows read from each tensor; ``None``: all rows, in order."""
-        pos: dict[tuple[int, int], int] = {}
+    def _buffers_of(self, tag: str, reads: list[tuple[int, list[int] | None]]
+                    ) -> list[tuple[int, str | None]]:
+        """An index buffer for the rows read from each tensor; ``None``: all rows, in order."""
         srcs: list[tuple[int, str | None]] = []
-        for t in sorted(reads):
-            idx = sorted(reads[t])
+        for t, idx in reads:
             name = None
-            if idx != list(range(sizes[t])):
+            if idx is not None:
                 name = f"{tag}_i{t}"
                 self.register_buffer(name, torch.tensor(idx, dtype=torch.long))
-            for j in idx:
-                pos[(t, j)] = len(pos)
             srcs.append((t, name))
-        return pos, srcs
+        return srcs
 
     def _read(self, values: list[torch.Tensor], srcs: list[tuple[int, str | None]]
               ) -> torch.Tensor:
@@ -247,8 +216,7 @@ def to_torch(network: Network, *, dtype: torch.dtype = torch.float32,
     if form not in FORMS:
         raise UsageError(f"the torch form must be one of {', '.join(FORMS)}. Got {form!r} "
                          "instead.")
-    sparse_ok = bool(network.inputs) and bool(network.outputs)
-    if sparse_ok and (form == "sparse" or (form == "auto"
+    if sparse_ok(network) and (form == "sparse" or (form == "auto"
                                            and len(network.neurons) >= SPARSE_FROM)):
         return SparseNet(network, dtype)
     return _sequential(network, dtype)

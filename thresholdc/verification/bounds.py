@@ -52,6 +52,7 @@ from .domain import (
     halve_widest,
     network_rows,
     root_boxes,
+    soft_outputs,
     typed_domain,
 )
 from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
@@ -291,8 +292,7 @@ class _Search:
         self.open = np.zeros(K, dtype=bool)
         self.min_margin = np.full(K, np.inf)
         self.min_dist = np.full(K, np.inf)
-        act = {n.name: n.activation for n in net.neurons}
-        self.soft = [act.get(o.source, "step") != "step" for o in net.outputs]
+        self.soft = soft_outputs(net)
         self.examples: list[list[Counterexample]] = [[] for _ in range(K)]
         self.nodes = 0
         # Split order of discrete features: most total |weight| on their units first.

@@ -35,7 +35,8 @@ from ..logic import feature_scale, real_thresholds
 __all__ = [
     "root_boxes", "halve_choices", "halve_widest",
     "Discrete", "Continuous", "Domain", "boolean_or_typed_domain", "cell_points",
-    "check_names", "typed_domain", "network_cuts", "is_typed_source",
+    "check_names", "typed_domain", "network_cuts", "is_typed_source", "soft_outputs",
+    "value_distances",
 ]
 
 _MAX_CUT_INPUTS = 12
@@ -370,3 +371,17 @@ def halve_widest(lo: np.ndarray, hi: np.ndarray, scale: np.ndarray
     hi2[r, j] = mid
     lo2[r, j] = mid
     return (lo, hi2), (lo2, hi)
+
+
+def soft_outputs(net: Network) -> np.ndarray:
+    """Which outputs read a neuron that is not a step (their values have a distance)."""
+    act = {n.name: n.activation for n in net.neurons}
+    return np.array([act.get(o.source, "step") != "step" for o in net.outputs], dtype=bool)
+
+
+def value_distances(values: np.ndarray, soft: np.ndarray, thr: float) -> np.ndarray:
+    """Per output, the smallest ``|value − thr|`` over the rows (inf for step outputs)."""
+    if not soft.any() or not len(values):
+        return np.full(values.shape[1], np.inf)
+    d = np.abs(values - thr).min(axis=0)
+    return np.where(soft, d, np.inf)

@@ -38,9 +38,9 @@ from ..errors import VerificationUndecided
 from ..ir.bitslice import MEMORY_BUDGET, BitPlan, chunk_rows, unpack
 from ..ir.network import Network
 from ..lazy import lazy_module
-from .domain import check_names
+from .domain import check_names, soft_outputs, value_distances
 from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
-from .typed import soft_outputs, value_distances, verify_typed
+from .typed import verify_typed
 
 sparse = lazy_module("scipy.sparse")
 

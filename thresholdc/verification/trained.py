@@ -97,14 +97,15 @@ def verify_trained(
     if not sample:
         return _complete(network, source, max_nodes=max_nodes, time_limit=time_limit,
                          progress=progress)
+    domain = milp_domain(network, source)
     found = sample_counterexamples(
-        network, source, milp_domain(network, source),
+        network, source, domain,
         time_limit=min(_SAMPLE_SECONDS, _SAMPLE_SHARE * time_limit), progress=progress)
     sampled = {o.name: OutputReport.differs(o.name, ex)
                for o, ex in zip(network.outputs, found) if ex}
     open_names = [o.name for o in network.outputs if o.name not in sampled]
     if not open_names:
-        report = Report.of("sample", milp_domain(network, source).size,
+        report = Report.of("sample", domain.size,
                            [sampled[o.name] for o in network.outputs],
                            notes=["counterexamples found by seeded sampling of valid inputs, "
                                   "re-checked on the network and the reference evaluator"])

@@ -38,26 +38,19 @@ import numpy as np
 
 from ..ir.network import Network
 from .bounds import DEFAULT_MAX_NODES, run_bounds
-from .domain import Domain, check_names, network_rows, typed_domain
+from .domain import (
+    Domain,
+    check_names,
+    network_rows,
+    soft_outputs,
+    typed_domain,
+    value_distances,
+)
 from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
 
 __all__ = ["verify_typed"]
 
 _CHUNK = 1 << 16
-
-
-def soft_outputs(net: Network) -> np.ndarray:
-    """Which outputs read a neuron that is not a step (their values have a distance)."""
-    act = {n.name: n.activation for n in net.neurons}
-    return np.array([act.get(o.source, "step") != "step" for o in net.outputs], dtype=bool)
-
-
-def value_distances(values: np.ndarray, soft: np.ndarray, thr: float) -> np.ndarray:
-    """Per output, the smallest ``|value − thr|`` over the rows (inf for step outputs)."""
-    if not soft.any() or not len(values):
-        return np.full(values.shape[1], np.inf)
-    d = np.abs(values - thr).min(axis=0)
-    return np.where(soft, d, np.inf)
 
 
 def _margins(net: Network, Xn: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
