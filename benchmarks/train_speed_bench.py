@@ -14,9 +14,12 @@ The data: the depot scenario of ``training_scenario.py`` with 48 readings of 10 
 - ``torch lbfgs``: ``torch.optim.LBFGS`` full batch, as many iterations as ours.
 
 Goals (issue): auto ≤ 20 s on 2 cores, auto ≤ 4 × single.  Times are wall-clock on a shared
-machine: read the ratios.  PyTorch is imported lazily; its columns are skipped without it.
+machine: after one untimed warm-up of each, ``--rounds`` rounds run auto and single in turn
+(so a change of load hits both), and the medians and the median per-round ratio are printed,
+with the CPU seconds (this process and its workers) beside them.  PyTorch is imported
+lazily; its columns are skipped without it.
 
-    .venv/bin/python benchmarks/train_speed_bench.py [--rows 1000] [--workers 2]
+    PYTHONPATH=. python3 benchmarks/train_speed_bench.py [--rows 1000] [--workers 2] [--rounds 5]
 """
 
 from __future__ import annotations
@@ -33,7 +36,7 @@ sys.path.insert(0, os.path.dirname(__file__))
 from training_scenario import labels, rules_text, sample  # noqa: E402
 
 from thresholdc.logic import source_from_text  # noqa: E402
-from thresholdc.training import TrainOptions, rule_network, train  # noqa: E402
+from thresholdc.training import ANCHOR_GRID, TrainOptions, rule_network, train  # noqa: E402
 from thresholdc.training.mlp import Layout  # noqa: E402
 
 
@@ -101,12 +104,24 @@ def _torch_runs(start, X, y, lam, w, target_loss, lbfgs_iters):
     return out
 
 
+def _timed(fn):
+    """``fn()``, its wall-clock seconds and its CPU seconds (this process and its workers)."""
+    c0, t0 = os.times(), time.perf_counter()
+    out = fn()
+    t1, c1 = time.perf_counter(), os.times()
+    cpu = (c1.user + c1.system + c1.children_user + c1.children_system
+           - c0.user - c0.system - c0.children_user - c0.children_system)
+    return out, t1 - t0, cpu
+
+
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--rows", type=int, default=1000)
     ap.add_argument("--readings", type=int, default=48)
     ap.add_argument("--levels", type=int, default=10)
     ap.add_argument("--workers", type=int, default=2)
+    ap.add_argument("--rounds", type=int, default=5,
+                    help="timed rounds (each: auto and single, with and without the bound)")
     ap.add_argument("--seed", type=int, default=0)
     args = ap.parse_args()
     true = source_from_text(rules_text(args.readings, args.levels), "depot.rules")
@@ -116,30 +131,41 @@ def main() -> None:
     y = labels(true, X, 0.07, rng)
     net = rule_network(bad.program)
     print(f"{args.rows} rows x {X.shape[1]} one-hot units x {y.shape[1]} outputs; "
-          f"{args.workers} workers")
+          f"{args.workers} workers; {args.rounds} rounds after a warm-up, medians; "
+          f"load average {os.getloadavg()[0]:.1f}")
 
-    times = {}
-    for bound in (1.0, 0.0):  # with the start's tolerance bound (the default), and without
-        opts = TrainOptions(workers=args.workers, seed=args.seed, bound_time=bound)
-        t = time.perf_counter()
-        auto = train(net, X, y, rules=bad, options=opts)
-        t_auto = time.perf_counter() - t
-        t = time.perf_counter()
-        single = train(net, X, y, rules=bad,
-                       options=opts.with_(anchor=auto.anchor, weight=auto.weight))
-        times[bound] = (t_auto, time.perf_counter() - t)
+    base = TrainOptions(workers=args.workers, seed=args.seed)
+    auto = train(net, X, y, rules=bad, options=base.with_(bound_time=0.0))  # warm-up
+    fixed = base.with_(anchor=auto.anchor, weight=auto.weight)
+    if auto.search is not None and getattr(auto.search, "rules_alone", False):
+        fixed = base.with_(anchor=ANCHOR_GRID[0], weight=auto.weight)  # λ = ∞ is no fit
+    single = train(net, X, y, rules=bad, options=fixed.with_(bound_time=0.0))
+    times: dict[float, list[tuple[float, float, float, float]]] = {1.0: [], 0.0: []}
+    for _ in range(args.rounds):
+        for bound in (1.0, 0.0):  # with the start's tolerance bound (the default), without
+            auto, ta, ca = _timed(lambda b=bound: train(net, X, y, rules=bad,
+                                                        options=base.with_(bound_time=b)))
+            single, ts, cs = _timed(lambda b=bound: train(net, X, y, rules=bad,
+                                                          options=fixed.with_(bound_time=b)))
+            times[bound].append((ta, ts, ca, cs))
     iters = single.history[-1].epoch
-    print(f"  chosen ω = {auto.weight:g}, λ = {auto.anchor:g} from "
-          f"{len(auto.search.scores)} (ω, λ) pairs reached x {auto.options.folds} folds; "
-          f"single run: {iters} L-BFGS iterations, kept {single.best_epoch}")
-    for bound, (ta, ts) in times.items():
+    s = auto.search
+    assert s is not None
+    chosen = "rules alone" if getattr(s, "rules_alone", False) else f"λ = {auto.anchor:g}"
+    print(f"  chosen ω = {auto.weight:g}, {chosen} from {len(s.scores)} candidates reached x "
+          f"{auto.options.folds} folds; single run: {iters} L-BFGS iterations, kept "
+          f"{single.best_epoch}")
+    med = {b: np.median(np.array(v), axis=0) for b, v in times.items()}
+    ratio = {b: float(np.median([ta / ts for ta, ts, _, _ in v])) for b, v in times.items()}
+    for bound in (1.0, 0.0):
+        ta, ts, ca, cs = med[bound]
         what = "with the start's tolerance bound (1 s)" if bound else "fits only"
-        print(f"  {what:40s} auto {ta:6.2f} s  single {ts:6.2f} s  auto/single {ta / ts:5.2f}")
-    t_auto, t_single = times[1.0]
-    print(f"  goals: auto <= 20 s: {'yes' if t_auto <= 20 else 'no'};  auto/single <= 4: "
-          f"{'yes' if t_auto / t_single <= 4 else 'no'} (default), "
-          f"{'yes' if times[0.0][0] / times[0.0][1] <= 4 else 'no'} (fits only)")
-    t_single = times[0.0][1]
+        print(f"  {what:40s} auto {ta:6.2f} s  single {ts:6.2f} s  auto/single "
+              f"{ratio[bound]:5.2f}  (CPU {ca:5.2f} s / {cs:5.2f} s = {ca / max(cs, 1e-9):5.2f})")
+    print(f"  goals: auto <= 20 s: {'yes' if med[1.0][0] <= 20 else 'no'};  auto/single <= 4: "
+          f"{'yes' if ratio[1.0] <= 4 else 'no'} (default), "
+          f"{'yes' if ratio[0.0] <= 4 else 'no'} (fits only)")
+    t_single = float(med[0.0][1])
     runs = _torch_runs(single.start, X, y, single.anchor, single.weight,
                        single.history[single.best_epoch].loss, max(iters, 1))
     if runs is None:

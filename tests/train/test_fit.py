@@ -190,11 +190,14 @@ def test_auto_anchor_and_weight_report_their_choice():
     X, y = _data(rows=48, noise=0.05)
     r = train(RULES, X, y, epochs=8, seed=0, workers=1, init="certified")
     pairs = {(s["weight"], s["anchor"]) for s in r.search.scores}
-    assert (r.weight, r.anchor) in pairs and 1 <= len(pairs) <= len(ANCHOR_GRID)
-    assert {a for _, a in pairs} <= set(ANCHOR_GRID)
-    best = min(r.search.scores, key=lambda s: s["loss"])
-    assert best["loss"] == r.search.loss
-    assert r.network.meta["training"]["anchor"] == r.anchor
+    chosen = None if r.search.rules_alone else r.anchor  # None: the rules alone (λ = ∞)
+    assert (r.weight, chosen) in pairs and 2 <= len(pairs) <= len(ANCHOR_GRID) + 1
+    assert {a for _, a in pairs} <= set(ANCHOR_GRID) | {None}
+    trained = [s for s in r.search.scores if s["anchor"] is not None]
+    best = min(trained, key=lambda s: s["loss"])
+    assert r.search.loss == (best["loss"] if chosen is not None else
+                             min(s["loss"] for s in r.search.scores if s["anchor"] is None))
+    assert r.network.meta["training"]["anchor"] == chosen
 
 
 def test_trained_meta_records_options_not_certificate():

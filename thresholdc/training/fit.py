@@ -29,6 +29,7 @@ The steps, in order (every choice in :class:`~thresholdc.training.options.TrainO
 
 from __future__ import annotations
 
+import math
 import os
 from collections.abc import Sequence
 from dataclasses import dataclass, field, replace
@@ -45,7 +46,7 @@ from .lbfgs import Problem, fit, pack
 from .loop import Epoch
 from .options import ANCHOR_GRID, WEIGHT_GRID, TrainOptions
 from .scaling import from_standard, input_scaling, standardise
-from .search import Search, search, walk_path
+from .search import Search, final_path, search
 from .threads import one_blas_thread
 from .tolerance import start_tolerance
 from .warmstart import Start, prepare_start, soft_network
@@ -94,7 +95,7 @@ class TrainResult:
             "options": self.options.to_dict(),
             "init": self.init,
             "weight": self.weight,
-            "anchor": self.anchor,
+            "anchor": None if math.isinf(self.anchor) else self.anchor,
             "search": None if self.search is None else self.search.to_dict(),
             "start_tolerance": self.tolerance,
             "held_out": self.held_out,
@@ -320,15 +321,17 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
     held: dict[str, Any] | None = None
     if (len(grid) > 1 or len(weights) > 1) and len(X) >= 2 * opt.folds:
         found = search({w: problem(w) for w in weights}, grid=grid, folds=opt.folds,
-                       rng=streams[2], workers=opt.workers, progress=progress, **fit_options)
+                       rng=streams[2], workers=opt.workers, progress=progress,
+                       rules_alone=opt.anchor == "auto" and init != "random", **fit_options)
         w, lam = found.weight, found.anchor
         p, theta0 = problem(w)
-        runs = walk_path(p, theta0, found.grid, found.steps, seed=opt.seed, **fit_options)
-        history = tuple(e for k, r in enumerate(runs) for e in r.history[(k > 0):])
-        history = tuple(replace(e, epoch=i) for i, e in enumerate(history))
-        theta, best = runs[-1].theta, len(history) - 1
+        theta, history, best = final_path(p, theta0, found, seed=opt.seed, **fit_options)
         held = {"rows": "folds", "start_error": found.start_error, "error": found.error,
                 "start_loss": found.start_loss, "loss": found.loss}
+        if found.rules_alone:
+            notes.append("rules alone: no trained candidate beat the untrained start on the "
+                         "held-out folds by more than one standard error; the network is the "
+                         "start")
     else:
         if len(grid) > 1 or len(weights) > 1:
             notes.append(f"too few rows to cross-validate: λ = {grid[-2]}, ω = {weights[0]}")
@@ -368,7 +371,7 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
         "options": opt.to_dict(),
         "init": init,
         "weight": w,
-        "anchor": lam,
+        "anchor": None if math.isinf(lam) else lam,
         "loss": loss,
         "optimizer": optimizer,
         "outputs": ordered,
