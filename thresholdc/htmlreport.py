@@ -254,18 +254,121 @@ def _history(training: dict[str, Any]) -> tuple[list[float], dict[str, list[floa
     return None
 
 
-def _training(net: Network) -> str:
-    training = (net.meta or {}).get("training")
-    if not isinstance(training, dict):
-        return ""
-    out = ["<h2>Training</h2>"]
-    rows = [(k, training[k]) for k in ("epochs_run", "best_epoch", "loss", "training_accuracy",
-                                       "validation_accuracy", "rows", "validation_rows")
-            if k in training]
+def _num(x: Any, digits: int = 4) -> str:
+    """A recorded number for a table cell (``-`` when missing)."""
+    if x is None:
+        return "-"
+    return f"{x:.{digits}g}" if isinstance(x, float) else str(x)
+
+
+def _anchor_text(anchor: Any) -> str:
+    return "∞ (rules alone)" if anchor is None else _num(anchor)
+
+
+def _training_rows(training: dict[str, Any]) -> list[tuple[str, str]]:
+    """The run's choices and outcome, from the keys ``thresholdc train`` writes."""
+    rows: list[tuple[str, str]] = []
+    init = training.get("init")
+    if init is not None:
+        start = {"rules": "the rules' structure", "certified": "the compiled network, "
+                 "certified sigmoid gains", "random": "random weights"}.get(init, str(init))
+        if training.get("weight") is not None and init == "rules":
+            start += f", ω = {_num(training['weight'])}"
+        rows.append(("start", start))
+    if "anchor" in training and not isinstance(training["anchor"], dict):
+        rows.append(("anchor λ", _anchor_text(training["anchor"])))
+    for key, label in (("loss", "loss"), ("optimizer", "optimizer"), ("rows", "rows"),
+                       ("epochs_run", "iterations run"), ("best_epoch", "iteration kept"),
+                       ("training_accuracy", "training accuracy"),
+                       ("validation_accuracy", "validation accuracy"),
+                       ("validation_rows", "validation rows")):
+        if key in training and not isinstance(training[key], (dict, list)):
+            rows.append((label, _num(training[key])))
+    if training.get("outputs"):
+        rows.append(("outputs trained", ", ".join(map(str, training["outputs"]))))
+    if training.get("frozen"):
+        rows.append(("frozen", ", ".join(map(str, training["frozen"]))))
+    tol = training.get("start_tolerance")
+    if isinstance(tol, dict):
+        if tol.get("worst_error") is None:
+            text = "not bounded" if tol.get("decides_rules") is None else \
+                "the start disagrees with the rules"
+        else:
+            how = "exact" if tol.get("method") == "exhaustive" else "upper bound"
+            text = (f"{tol['worst_error']:.4f} ({how}); "
+                    + ("decides every rule" if tol.get("decides_rules") else
+                       "does not decide every rule"))
+        rows.append(("start tolerance (worst output error on the rule domain)", text))
+    held = training.get("held_out")
+    if isinstance(held, dict) and "error" in held:
+        where = "cross-validation folds" if held.get("rows") == "folds" else \
+            f"{held.get('rows')} held-out rows"
+        text = (f"{_num(held.get('start_error'))} → {_num(held.get('error'))} ({where}; loss "
+                f"{_num(held.get('start_loss'))} → {_num(held.get('loss'))})")
+        if held.get("worse"):
+            text += ": worse than the start"
+        rows.append(("held-out error, start → trained", text))
     options = training.get("options")
     if isinstance(options, dict):
         rows.append(("options", ", ".join(f"{k}={v}" for k, v in options.items())))
-    out.append(_table(("", ""), rows))
+    return rows
+
+
+def _search_section(search: dict[str, Any]) -> str:
+    """The cross-validation: every candidate's held-out scores, the chosen one marked, a
+    chart of held-out loss against λ per ω, and the final path."""
+    scores = [s for s in search.get("scores") or [] if isinstance(s, dict) and "loss" in s]
+    if not scores:
+        return ""
+    alone = bool(search.get("rules_alone"))
+    chosen = (search.get("weight"), None if alone else search.get("anchor"))
+    rows = []
+    for sc in scores:
+        mark = "chosen" if (sc.get("weight"), sc.get("anchor")) == chosen else ""
+        rows.append((_num(sc.get("weight")), _anchor_text(sc.get("anchor")),
+                     _num(sc.get("loss")), _num(sc.get("stderr"), 2), _num(sc.get("error")),
+                     _num(sc.get("iterations")), mark))
+    what = ("the rules alone (the untrained start): no trained candidate beat it by more "
+            "than one standard error" if alone else
+            f"ω = {_num(search.get('weight'))}, λ = {_num(search.get('anchor'))}")
+    out = [f"<p>λ and ω chosen by cross-validation: {_e(what)}. Held-out scores, mean over "
+           "the folds (candidates every fold reached):</p>",
+           _table(("ω", "λ", "held-out loss", "± s.e.", "held-out error", "iterations kept",
+                   ""), rows, numeric={0, 2, 3, 4, 5})]
+    grid = [g for g in search.get("grid") or [] if isinstance(g, (int, float))]
+    steps = search.get("path_iterations") or []
+    if grid and len(steps) == len(grid):
+        path = ", ".join(f"λ = {_num(g)}: {_num(n)}" for g, n in zip(grid, steps, strict=True))
+        out.append(f"<p>Final network: the same path on all rows, iterations per λ "
+                   f"({_e(path)}).</p>")
+    elif alone:
+        out.append("<p>Final network: the start itself, untrained.</p>")
+    lams = sorted({float(sc["anchor"]) for sc in scores if sc.get("anchor") is not None},
+                  reverse=True)
+    if len(lams) > 1:
+        series: dict[str, list[float]] = {}
+        for sc in scores:
+            if sc.get("anchor") is None:
+                continue
+            ys = series.setdefault(f"ω = {_num(sc['weight'])}", [float("nan")] * len(lams))
+            ys[lams.index(float(sc["anchor"]))] = float(sc["loss"])
+        out.append(_curve_svg(lams, series, "anchor λ", "held-out loss", logx=True))
+    return "".join(out)
+
+
+def _training(net: Network) -> str:
+    """What ``meta.training`` records: the choices and outcome, the search, the notes (and the
+    per-epoch curves and λ chart of files that recorded them in earlier layouts)."""
+    training = (net.meta or {}).get("training")
+    if not isinstance(training, dict):
+        return ""
+    out = ["<h2>Training</h2>", _table(("", ""), _training_rows(training))]
+    search = training.get("search")
+    if isinstance(search, dict):
+        out.append(_search_section(search))
+    notes = [n for n in training.get("notes") or [] if isinstance(n, str)]
+    if notes:
+        out.append("<p>Notes:</p><ul>" + "".join(f"<li>{_e(n)}</li>" for n in notes) + "</ul>")
     curves = _history(training)
     if curves and curves[1]:
         out.append("<p>Training curves (per epoch, as recorded in the file):</p>")
@@ -279,8 +382,6 @@ def _training(net: Network) -> str:
         out.append(_curve_svg([float(g["anchor"]) for g in grid],
                               {"held-out loss": [float(g["loss"]) for g in grid]},
                               "anchor λ", "loss", logx=True))
-    if not curves:
-        out.append('<p class="muted">No per-epoch history in the file.</p>')
     return "".join(out)
 
 

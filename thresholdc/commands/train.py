@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import math
 import os
 import sys
 from typing import Any
@@ -208,7 +209,11 @@ def render(args: argparse.Namespace, data: Any, result: TrainResult, before: dic
     """The training summary as text."""
     t = result.network.meta["training"]
     s = result.search
-    if s is not None:
+    if s is not None and s.rules_alone:
+        how = (f"rules alone, chosen by {result.options.folds}-fold cross-validation: no "
+               f"trained candidate beat the untrained start (held-out loss {s.loss:.4g}) by "
+               "more than one standard error; the network is the start")
+    elif s is not None:
         path = " -> ".join(fmt_num(x) for x in s.grid)
         how = (f"chosen by {result.options.folds}-fold cross-validation (held-out loss "
                f"{s.loss:.4g}); path λ = {path}")
@@ -223,10 +228,12 @@ def render(args: argparse.Namespace, data: Any, result: TrainResult, before: dic
     if tol:
         lines.append(tol)
     lines += [
-        f"  anchor       λ = {fmt_num(result.anchor)}, {how}",
+        f"  anchor       λ = {'∞' if math.isinf(result.anchor) else fmt_num(result.anchor)}, "
+        f"{how}",
         f"  optimizer    {t['optimizer']}, loss {t['loss']}",
         f"  kept         iteration {result.best_epoch} of {t['epochs_run']} ("
-        + ("early stopping carried over from the held-out folds)" if s is not None else
+        + ("the start: rules alone)" if s is not None and s.rules_alone else
+           "early stopping carried over from the held-out folds)" if s is not None else
            "best on the held-out rows)" if result.held_out else "last)"),
     ]
     h = result.held_out

@@ -328,10 +328,6 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
         theta, history, best = final_path(p, theta0, found, seed=opt.seed, **fit_options)
         held = {"rows": "folds", "start_error": found.start_error, "error": found.error,
                 "start_loss": found.start_loss, "loss": found.loss}
-        if found.rules_alone:
-            notes.append("rules alone: no trained candidate beat the untrained start on the "
-                         "held-out folds by more than one standard error; the network is the "
-                         "start")
     else:
         if len(grid) > 1 or len(weights) > 1:
             notes.append(f"too few rows to cross-validate: λ = {grid[-2]}, ω = {weights[0]}")

@@ -104,6 +104,9 @@ class Run:
     theta: np.ndarray
     best: int
     history: tuple[Epoch, ...]
+    #: ``(λ, objective value, gradient)`` at ``theta`` when the fit evaluated it (L-BFGS), so
+    #: the next fit of a λ path need not evaluate it again.
+    objective: tuple[float, float, np.ndarray] | None = None
 
 
 def _objective(p: Problem, lam: float) -> Callable[[np.ndarray], tuple[float, np.ndarray]]:
@@ -135,12 +138,16 @@ def fit(
     lr: float = 0.01,
     batch: int = 32,
     light: bool = False,
+    after: Run | None = None,
 ) -> Run:
     """Fit from ``theta0`` with anchor ``lam`` for at most ``iterations`` iterations (passes).
 
     ``held_out`` rows turn on early stopping; ``optimizer`` is ``lbfgs``, ``adam`` or ``sgd``
     (the last two draw their batches from ``rng``).  ``light`` skips the training rows'
-    accuracy in the history (NaN; the loss comes from the optimizer), for the search.
+    accuracy in the history (NaN; the loss comes from the optimizer, NaN at iteration 0),
+    for the search.
+    ``after``: the fit that ended at ``theta0`` on the same rows and held-out rows (the
+    previous λ of a path); its kept entry and objective there are reused, not recomputed.
     """
     p = problem
     k = lam / (p.unit * p.unit)
@@ -148,8 +155,9 @@ def fit(
     def entry(i: int, theta: np.ndarray, total: float | None = None) -> Epoch:
         d = (theta - p.target) * p.mask
         pen = 0.5 * k * float(d @ d)
-        if light and total is not None:
-            loss, acc = total - pen, float("nan")
+        if light and (total is not None or held_out is not None):
+            # no pass over the training rows: the loss from the optimizer (NaN at the start)
+            loss, acc = (float("nan") if total is None else total - pen), float("nan")
         else:
             loss, acc = p.evaluate(theta, p.X, p.T)
         if held_out is None:
@@ -170,11 +178,42 @@ def fit(
         return Run(pack(out.weights, out.biases), out.best_epoch, out.history)
 
     theta0 = np.array(theta0, dtype=float)
-    history = [entry(0, theta0)]
+    reuse = after is not None and np.array_equal(after.theta, theta0)
+    if reuse:
+        assert after is not None
+        kept = after.history[after.best]
+        d0 = (theta0 - p.target) * p.mask
+        history = [Epoch(0, kept.loss, 0.5 * k * float(d0 @ d0), kept.accuracy,
+                         kept.validation_loss, kept.validation_accuracy)]
+    else:
+        history = [entry(0, theta0)]
     best: list[Any] = [history[0].validation_loss, 0, theta0.copy()]
     if iterations == 0:
         return Run(theta0, 0, tuple(history))
     last = [theta0]
+    objective = _objective(p, lam)
+    seen: list[tuple[np.ndarray, float, np.ndarray]] = []  # the latest evaluations
+    if reuse and after is not None and after.objective is not None:
+        # the previous λ's objective at theta0, moved to this λ: the anchor term changes only
+        lam0, value0, grad0 = after.objective
+        k0 = lam0 / (p.unit * p.unit)
+        d0 = (theta0 - p.target) * p.mask
+        seen.append((theta0, value0 + 0.5 * (k - k0) * float(d0 @ d0), grad0 + (k - k0) * d0))
+
+    def at(theta: np.ndarray) -> tuple[float, float, np.ndarray] | None:
+        return next(((lam, v, g) for x, v, g in seen if np.array_equal(x, theta)), None)
+
+    at_best: list[Any] = [at(theta0)]
+
+    def f(theta: np.ndarray) -> tuple[float, np.ndarray]:
+        for x, value, grad in seen:
+            if np.array_equal(x, theta):
+                return value, grad.copy()
+        value, grad = objective(theta)
+        seen[:] = [*seen[-2:], (theta.copy(), value, grad.copy())]
+        if at_best[0] is None and best[1] == 0 and np.array_equal(theta, theta0):
+            at_best[0] = (lam, value, grad.copy())
+        return value, grad
 
     def watch(intermediate_result: Any) -> None:
         theta = np.array(intermediate_result.x, dtype=float)
@@ -185,11 +224,12 @@ def fit(
             return
         if e.validation_loss < best[0] - 1e-12:
             best[:] = [e.validation_loss, e.epoch, theta]
+            at_best[0] = at(theta)
         elif e.epoch - best[1] >= patience:
             raise StopIteration
 
-    optimize.minimize(_objective(p, lam), theta0, jac=True, method="L-BFGS-B", callback=watch,
+    optimize.minimize(f, theta0, jac=True, method="L-BFGS-B", callback=watch,
              options={"maxiter": iterations, "maxcor": 10, "gtol": 1e-6, "ftol": 1e-10})
     if held_out is None:
-        return Run(last[0], history[-1].epoch, tuple(history))
-    return Run(best[2], int(best[1]), tuple(history))
+        return Run(last[0], history[-1].epoch, tuple(history), at(last[0]))
+    return Run(best[2], int(best[1]), tuple(history), at_best[0])

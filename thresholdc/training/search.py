@@ -128,7 +128,8 @@ def walk_path(
     for i, lam in enumerate(grid):
         n = iterations if steps is None else int(steps[i])
         run = fit(problem, theta, lam=float(lam), iterations=n, held_out=held_out,
-                  rng=np.random.default_rng([seed, i]), **fit_options)
+                  rng=np.random.default_rng([seed, i]), after=runs[-1] if runs else None,
+                  **fit_options)
         runs.append(run)
         theta = run.theta
         if held_out is not None and give_up is not None:
@@ -180,10 +181,11 @@ class _Folds:
         test = self.parts[k]
         train = np.sort(np.concatenate([p for j, p in enumerate(self.parts) if j != k]))
         part, held = problem.rows(train), (problem.X[test], problem.T[test])
-        loss0, acc0 = part.evaluate(theta0, *held)
         runs = walk_path(part, theta0, self.grid, None, held_out=held, seed=self.seeds[k],
                          give_up=GIVE_UP, light=True, **self.fit_options)
-        out: list[Entry] = [(math.nan, loss0, 1.0 - acc0, 0)]
+        e0 = runs[0].history[0]  # the start, on the held-out part
+        assert e0.validation_loss is not None and e0.validation_accuracy is not None
+        out: list[Entry] = [(math.nan, e0.validation_loss, 1.0 - e0.validation_accuracy, 0)]
         for lam, run in zip(self.grid, runs, strict=False):
             e = run.history[run.best]
             assert e.validation_loss is not None and e.validation_accuracy is not None
