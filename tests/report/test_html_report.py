@@ -131,3 +131,92 @@ def test_report_renders_in_a_headless_browser(tmp_path, capsys):
     # the page drew something: not one flat colour
     assert np.unique(pixels.reshape(-1, pixels.shape[-1]), axis=0).shape[0] > 50
     shutil.rmtree(profile, ignore_errors=True)
+
+
+def _train_cli(tmp_path, rows, seed, truth):
+    """A network written by ``thresholdc train`` on rows labelled by ``truth``."""
+    import numpy as np
+    rules = tmp_path / "t.rules"
+    rules.write_text(RULES, encoding="utf-8")
+    rng = np.random.default_rng(seed)
+    X = rng.integers(0, 2, size=(rows, 3))
+    y = truth(X)
+    y = np.where(rng.random(y.shape) < 0.05, 1 - y, y)
+    lines = ["a,b,c,y,z"] + [",".join(map(str, [*x, *t])) for x, t in zip(X, y, strict=True)]
+    data = tmp_path / "d.csv"
+    data.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    out = tmp_path / "trained.json"
+    assert main(["train", str(rules), str(data), "-o", str(out), "--seed", "0",
+                 "--workers", "1"]) == 0
+    return out, rules
+
+
+def _training_part(page):
+    text = "".join(page.text)
+    return text[text.index("Training"):]
+
+
+def test_report_of_a_network_trained_today(tmp_path, capsys):
+    import json
+
+    import numpy as np
+
+    def truth(X):  # the data say y = a (the rules: a and not b)
+        return np.column_stack([X[:, 0], (X.sum(axis=1) >= 2)]).astype(int)
+
+    net_path, rules = _train_cli(tmp_path, 120, 0, truth)
+    meta = json.loads(net_path.read_text(encoding="utf-8"))["meta"]["training"]
+    out = tmp_path / "t.html"
+    assert main(["report", str(net_path), str(rules), "-o", str(out)]) == 0
+    page = _parse(out)
+    assert "Training" in page.h2
+    part = _training_part(page)
+    search = meta["search"]
+    # the recorded choice, every candidate's scores, the final path and the held-out errors
+    assert f"{meta['epochs_run']}" in page.cells and "chosen" in page.cells
+    assert page.cells.count("∞ (rules alone)") == sum(  # one candidate row per ω
+        1 for s in search["scores"] if s["anchor"] is None) + (meta["anchor"] is None)
+    for s in search["scores"]:
+        assert f"{s['loss']:.4g}" in page.cells
+    if search["rules_alone"]:
+        assert "Final network: the start itself" in part
+    else:
+        path = ", ".join(f"λ = {g:.4g}: {n}" for g, n in zip(search["grid"],
+                                                                search["path_iterations"],
+                                                                strict=True))
+        assert path in part
+    held = meta["held_out"]
+    assert f"{held['start_error']:.4g} → {held['error']:.4g}" in part
+    assert page.tags.count("svg") >= 2  # the drawing and the held-out loss per λ and ω
+    assert "No per-epoch history" not in part
+
+
+def test_report_says_when_the_rules_were_kept_alone(tmp_path, capsys):
+    import json
+
+    import numpy as np
+
+    def truth(X):  # exactly the rules
+        return np.column_stack([X[:, 0] * (1 - X[:, 1]), (X.sum(axis=1) >= 2)]).astype(int)
+
+    for seed in range(6):
+        net_path, rules = _train_cli(tmp_path, 24, seed, truth)
+        summary = capsys.readouterr().out
+        meta = json.loads(net_path.read_text(encoding="utf-8"))["meta"]["training"]
+        if meta["search"]["rules_alone"]:
+            break
+    else:
+        pytest.fail("no seed of six kept the rules alone")
+    assert meta["anchor"] is None and meta["epochs_run"] == 0
+    assert "λ = ∞, rules alone, chosen by 3-fold cross-validation" in summary
+    assert "kept         iteration 0 of 0 (the start: rules alone)" in summary
+    out = tmp_path / "t.html"
+    assert main(["report", str(net_path), str(rules), "-o", str(out)]) == 0
+    page = _parse(out)
+    part = _training_part(page)
+    assert "the rules alone (the untrained start)" in part
+    assert "Final network: the start itself, untrained." in part
+    i = page.cells.index("anchor λ")
+    assert page.cells[i + 1] == "∞ (rules alone)"
+    chosen = page.cells.index("chosen")
+    assert page.cells[chosen - 5] == "∞ (rules alone)"  # the chosen candidate's row

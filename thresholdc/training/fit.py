@@ -11,8 +11,9 @@ The steps, in order (every choice in :class:`~thresholdc.training.options.TrainO
 2. real inputs standardised by their declared range (:mod:`thresholdc.training.scaling`);
 3. the loss: cross-entropy for a sigmoid output layer, else mse;
 4. λ and ω: chosen by cross-validation along the λ path with early stopping on the held-out
-   folds (:mod:`thresholdc.training.search`), then the same path on all rows; or, both
-   fixed, one fit with early stopping on a held-out ``validation`` fraction;
+   folds (:mod:`thresholdc.training.search`), then the same path on all rows; the untrained
+   start ("rules alone", λ = ∞) is a candidate too; or, both fixed, one fit with early
+   stopping on a held-out ``validation`` fraction;
 5. full-batch L-BFGS where rows × units fit (else Adam), weights folded back to the user's
    units; the start's worst error on the rule domain and the held-out error before and after
    training are recorded in ``meta.training``.
@@ -68,7 +69,8 @@ class TrainResult:
     ``network`` is the trained network (the user's units), ``start`` the dense network
     training began from, ``history`` one :class:`~thresholdc.training.loop.Epoch` per
     iteration of the final fit (0 is the start), ``best_epoch`` the iteration kept,
-    ``search`` the cross-validation (None when λ and ω were fixed), ``tolerance`` the start's
+    ``search`` the cross-validation (None when λ and ω were fixed; ``anchor`` is ∞ when it
+    kept the rules alone, and ``network`` is then the start), ``tolerance`` the start's
     worst output error on the rule domain (None without rules), ``held_out`` the held-out
     error before and after training (None without held-out rows).
     """

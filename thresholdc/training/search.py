@@ -277,6 +277,8 @@ def _choose(paths: Mapping[tuple[float, int], list[Entry]], weights: Sequence[fl
             lam = None if i == 0 else grid[i - 1]
             loss = np.array([r[i][1] for r in rows])
             per_fold[(w, lam)] = list(loss)
+            if lam is None and not rules_alone:
+                continue  # the start is no candidate (its scores are start_loss/start_error)
             scores.append({
                 "weight": float(w), "anchor": lam, "loss": float(loss.mean()),
                 "stderr": float(loss.std(ddof=1) / np.sqrt(folds)),
@@ -285,16 +287,18 @@ def _choose(paths: Mapping[tuple[float, int], list[Entry]], weights: Sequence[fl
             })
     trained = [s for s in scores if s["anchor"] is not None]
     best = min(trained, key=lambda s: (round(s["loss"], 12), -s["anchor"], s["weight"]))
-    alone = min((s for s in scores if s["anchor"] is None),
-                key=lambda s: (round(s["loss"], 12), s["weight"]))
-    gap, se = _paired_gap(per_fold[(best["weight"], best["anchor"])],
-                          per_fold[(alone["weight"], None)])
-    w = best["weight"] if not rules_alone or -gap > se else alone["weight"]
-    start = next(s for s in scores if s["weight"] == w and s["anchor"] is None)
-    if rules_alone and -gap <= se:
-        return Search(w, RULES_ALONE, (), tuple(scores), (), start["loss"], start["error"],
-                      alone["loss"], alone["error"])
+    if rules_alone:
+        alone = min((s for s in scores if s["anchor"] is None),
+                    key=lambda s: (round(s["loss"], 12), s["weight"]))
+        gap, se = _paired_gap(per_fold[(alone["weight"], None)],
+                              per_fold[(best["weight"], best["anchor"])])
+        if gap <= se:  # training does not win by more than one standard error
+            return Search(alone["weight"], RULES_ALONE, (), tuple(scores), (), alone["loss"],
+                          alone["error"], alone["loss"], alone["error"])
+    w = best["weight"]
+    rows = [paths[(w, k)][0] for k in range(folds)]  # the chosen ω's start
     last = grid.index(best["anchor"])
     steps = tuple(int(s["iterations"]) for s in trained if s["weight"] == w)[: last + 1]
-    return Search(w, best["anchor"], grid[: last + 1], tuple(scores), steps, start["loss"],
-                  start["error"], best["loss"], best["error"])
+    return Search(w, best["anchor"], grid[: last + 1], tuple(scores), steps,
+                  float(np.mean([r[1] for r in rows])), float(np.mean([r[2] for r in rows])),
+                  best["loss"], best["error"])
