@@ -296,9 +296,9 @@ def _choose(paths: Mapping[tuple[float, int], list[Entry]], weights: Sequence[fl
             return Search(alone["weight"], RULES_ALONE, (), tuple(scores), (), alone["loss"],
                           alone["error"], alone["loss"], alone["error"])
     w = best["weight"]
-    rows = [paths[(w, k)][0] for k in range(folds)]  # the chosen ω's start
+    starts = [paths[(w, k)][0] for k in range(folds)]  # the chosen ω's start
     last = grid.index(best["anchor"])
     steps = tuple(int(s["iterations"]) for s in trained if s["weight"] == w)[: last + 1]
     return Search(w, best["anchor"], grid[: last + 1], tuple(scores), steps,
-                  float(np.mean([r[1] for r in rows])), float(np.mean([r[2] for r in rows])),
+                  float(np.mean([e[1] for e in starts])), float(np.mean([e[2] for e in starts])),
                   best["loss"], best["error"])
