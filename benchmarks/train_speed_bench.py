@@ -16,8 +16,9 @@ The data: the depot scenario of ``training_scenario.py`` with 48 readings of 10 
 Goals (issue): auto ≤ 20 s on 2 cores, auto ≤ 4 × single.  Times are wall-clock on a shared
 machine: after one untimed warm-up of each, ``--rounds`` rounds run auto and single in turn
 (so a change of load hits both), and the medians and the median per-round ratio are printed,
-with the CPU seconds (this process and its workers) beside them.  PyTorch is imported
-lazily; its columns are skipped without it.
+with the CPU seconds (this process and its workers) beside them, and the work in rows passed
+through the network (one process; the same on any machine).  PyTorch is imported lazily; its
+columns are skipped without it.
 
     PYTHONPATH=. python3 benchmarks/train_speed_bench.py [--rows 1000] [--workers 2] [--rounds 5]
 """
@@ -36,8 +37,36 @@ sys.path.insert(0, os.path.dirname(__file__))
 from training_scenario import labels, rules_text, sample  # noqa: E402
 
 from thresholdc.logic import source_from_text  # noqa: E402
-from thresholdc.training import ANCHOR_GRID, TrainOptions, rule_network, train  # noqa: E402
+from thresholdc.training import (  # noqa: E402
+    ANCHOR_GRID,
+    TrainOptions,
+    lbfgs,  # noqa: E402
+    rule_network,
+    train,
+)
 from thresholdc.training.mlp import Layout  # noqa: E402
+
+
+def _work(fn):
+    """``fn()`` and the rows it passed through the network in this process: by gradient
+    evaluations (forward and backward) and by evaluations alone (forward), as counted at
+    :mod:`thresholdc.training.lbfgs`'s calls.  Independent of the machine's load."""
+    counts = {"gradient": 0, "forward": 0}
+    grad, value = lbfgs.loss_and_grad, lbfgs.data_loss
+
+    def counted_grad(W, b, acts, X, *rest):
+        counts["gradient"] += X.shape[0]
+        return grad(W, b, acts, X, *rest)
+
+    def counted_value(W, b, acts, X, *rest):
+        counts["forward"] += X.shape[0]
+        return value(W, b, acts, X, *rest)
+
+    lbfgs.loss_and_grad, lbfgs.data_loss = counted_grad, counted_value
+    try:
+        return fn(), counts
+    finally:
+        lbfgs.loss_and_grad, lbfgs.data_loss = grad, value
 
 
 def _torch_runs(start, X, y, lam, w, target_loss, lbfgs_iters):
@@ -140,6 +169,10 @@ def main() -> None:
     if auto.search is not None and getattr(auto.search, "rules_alone", False):
         fixed = base.with_(anchor=ANCHOR_GRID[0], weight=auto.weight)  # λ = ∞ is no fit
     single = train(net, X, y, rules=bad, options=fixed.with_(bound_time=0.0))
+    _, work_auto = _work(lambda: train(net, X, y, rules=bad,
+                                       options=base.with_(bound_time=0.0, workers=1)))
+    _, work_single = _work(lambda: train(net, X, y, rules=bad,
+                                         options=fixed.with_(bound_time=0.0, workers=1)))
     times: dict[float, list[tuple[float, float, float, float]]] = {1.0: [], 0.0: []}
     for _ in range(args.rounds):
         for bound in (1.0, 0.0):  # with the start's tolerance bound (the default), without
@@ -162,6 +195,10 @@ def main() -> None:
         what = "with the start's tolerance bound (1 s)" if bound else "fits only"
         print(f"  {what:40s} auto {ta:6.2f} s  single {ts:6.2f} s  auto/single "
               f"{ratio[bound]:5.2f}  (CPU {ca:5.2f} s / {cs:5.2f} s = {ca / max(cs, 1e-9):5.2f})")
+    print(f"  {'work (rows through the network)':40s} auto {work_auto['gradient']:7d} by "
+          f"gradient + {work_auto['forward']:6d} forward;  single {work_single['gradient']:6d} "
+          f"+ {work_single['forward']:5d};  auto/single "
+          f"{work_auto['gradient'] / work_single['gradient']:5.2f} (gradient rows)")
     print(f"  goals: auto <= 20 s: {'yes' if med[1.0][0] <= 20 else 'no'};  auto/single <= 4: "
           f"{'yes' if ratio[1.0] <= 4 else 'no'} (default), "
           f"{'yes' if ratio[0.0] <= 4 else 'no'} (fits only)")

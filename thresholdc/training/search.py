@@ -46,6 +46,7 @@ from __future__ import annotations
 
 import concurrent.futures as cf
 import math
+import multiprocessing as mp
 import time
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, replace
@@ -56,7 +57,7 @@ import numpy as np
 from ..progress import bar as progress_bar
 from .lbfgs import Problem, Run, fit
 from .loop import Epoch
-from .threads import set_blas_threads
+from .threads import one_blas_thread, set_blas_threads
 
 __all__ = ["GIVE_UP", "POOL_AFTER", "RULES_ALONE", "Search", "search", "walk_path", "final_path"]
 
@@ -197,8 +198,9 @@ class _Folds:
 _WORKER: dict[str, _Folds] = {}
 
 
-def _start_worker(folds: _Folds) -> None:
-    set_blas_threads(1)
+def _start_worker(folds: _Folds, forked: bool) -> None:
+    if not forked:  # a forked worker keeps its parent's setting (one thread, see search)
+        set_blas_threads(1)
     _WORKER["folds"] = folds
 
 
@@ -246,8 +248,13 @@ def search(
             paths[keys[0]] = work.path(*keys[0])
             bar.update(1)
             if (time.perf_counter() - t) * (len(keys) - 1) > POOL_AFTER:
-                pool = cf.ProcessPoolExecutor(max_workers=min(workers, len(keys) - 1),
-                                              initializer=_start_worker, initargs=(work,))
+                context = mp.get_context()
+                with one_blas_thread():  # forked workers inherit it
+                    pool = cf.ProcessPoolExecutor(
+                        max_workers=min(workers, len(keys) - 1), mp_context=context,
+                        initializer=_start_worker,
+                        initargs=(work, context.get_start_method() == "fork"))
+                    pool.submit(int).result()  # the workers start (fork) here
         left = [key for key in keys if key not in paths]
         if pool is None:
             for key in left:
