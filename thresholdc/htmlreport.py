@@ -286,6 +286,12 @@ def _training_rows(training: dict[str, Any]) -> list[tuple[str, str]]:
             rows.append((label, _num(training[key])))
     if training.get("outputs"):
         rows.append(("outputs trained", ", ".join(map(str, training["outputs"]))))
+    data = training.get("data")
+    if isinstance(data, dict) and isinstance(data.get("labels"), dict):
+        labels = ", ".join(f"{o} ← column {c}" for o, c in data["labels"].items())
+        if data.get("positive") is not None:
+            labels += f" (true where the value is {data['positive']})"
+        rows.append(("labels", labels))
     if training.get("frozen"):
         rows.append(("frozen", ", ".join(map(str, training["frozen"]))))
     tol = training.get("start_tolerance")

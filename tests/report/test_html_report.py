@@ -187,6 +187,7 @@ def test_report_of_a_network_trained_today(tmp_path, capsys):
         assert path in part
     held = meta["held_out"]
     assert f"{held['start_error']:.4g} → {held['error']:.4g}" in part
+    assert "y ← column y, z ← column z" in page.cells
     assert page.tags.count("svg") >= 2  # the drawing and the held-out loss per λ and ω
     assert "No per-epoch history" not in part
 
