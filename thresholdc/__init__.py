@@ -166,14 +166,16 @@ __all__ = [
 ]
 
 
-def __getattr__(name: str) -> Any:
-    """Import the module behind a public name on first use and keep the name here."""
-    module = _LAZY.get(name)
-    if module is None:
-        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
-    value = getattr(importlib.import_module(f".{module}", __name__), name)
-    globals()[name] = value  # later reads skip this function
-    return value
+if not TYPE_CHECKING:  # hidden from type checkers, so that a misspelt name stays an error
+
+    def __getattr__(name: str) -> Any:
+        """Import the module behind a public name on first use and keep the name here."""
+        module = _LAZY.get(name)
+        if module is None:
+            raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+        value = getattr(importlib.import_module(f".{module}", __name__), name)
+        globals()[name] = value  # later reads skip this function
+        return value
 
 
 def __dir__() -> list[str]:
