@@ -1,10 +1,12 @@
 """The ``thresholdc`` command line: argument parsing and printing only.
 
 Each subcommand lives in :mod:`thresholdc.commands` as a module with ``register(subparsers)``
-and ``run(args) -> int``.  Exit codes: 0 success, 1 a check ran and failed, 2 bad input or usage,
-3 a bug in thresholdc (an internal error).  User errors
-(:class:`~thresholdc.errors.ThresholdcError`) are printed in the format of DESIGN.md §3 and
-never as a traceback.
+and ``run(args) -> int``; only the module of the command being run is imported (the top-level
+``--help`` lists the commands from their summaries), so start-up pays for one command.
+
+Exit codes: 0 success, 1 a check ran and failed, 2 bad input or usage, 3 a bug in thresholdc
+(an internal error).  User errors (:class:`~thresholdc.errors.ThresholdcError`) are printed
+in the format of DESIGN.md §3 and never as a traceback.
 """
 
 from __future__ import annotations
@@ -13,9 +15,10 @@ import argparse
 import importlib
 import os
 import sys
-from collections.abc import Sequence
+from collections.abc import Iterable, Sequence
 
 from . import __version__, progress
+from .commands import SUMMARY
 from .errors import InternalError, ThresholdcError, internal_message
 
 __all__ = ["main", "build_parser", "COMMANDS"]
@@ -24,8 +27,7 @@ __all__ = ["main", "build_parser", "COMMANDS"]
 # The exit code of a bug in thresholdc (0, 1 and 2 are DESIGN.md §5's).
 INTERNAL_ERROR = 3
 
-COMMANDS = ("compile", "verify", "inspect", "table", "export", "draw", "train", "score",
-            "diff", "report", "example")
+COMMANDS = tuple(SUMMARY)
 
 
 class _Parser(argparse.ArgumentParser):
@@ -36,8 +38,11 @@ class _Parser(argparse.ArgumentParser):
         raise SystemExit(2)
 
 
-def build_parser() -> argparse.ArgumentParser:
-    """The top-level parser with every available subcommand registered."""
+def build_parser(commands: Iterable[str] | None = None) -> argparse.ArgumentParser:
+    """The top-level parser: the commands named in ``commands`` (default: all) with their full
+    options, imported from :mod:`thresholdc.commands`; the others with their summary only
+    (enough for the top-level ``--help``; running one needs it registered in full)."""
+    full = set(COMMANDS if commands is None else commands)
     parser = _Parser(
         prog="thresholdc",
         description="Compile rule logic into verified threshold neural networks.",
@@ -47,6 +52,9 @@ def build_parser() -> argparse.ArgumentParser:
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     sub.required = True
     for name in COMMANDS:
+        if name not in full:
+            sub.add_parser(name, help=SUMMARY[name])
+            continue
         try:
             module = importlib.import_module(f".commands.{name}", __package__)
         except ModuleNotFoundError as exc:
@@ -58,15 +66,25 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
-_PARSER: list[argparse.ArgumentParser] = []
+#: Parsers by the one command registered in full (None: none, for the top-level --help), built
+#: once per process: in-process callers (tests, fuzzing) run ``main`` often.
+_PARSER: dict[str | None, argparse.ArgumentParser] = {}
+
+
+def _command(argv: Sequence[str]) -> str | None:
+    """The command ``argv`` names: its first word that is not an option (the top-level options
+    take no value), if that is a command."""
+    word = next((a for a in argv if not a.startswith("-")), None)
+    return word if word in SUMMARY else None
 
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; returns the exit code (also used by ``python -m thresholdc``)."""
-    if not _PARSER:  # built once per process: in-process callers (tests, fuzzing) run it often
-        _PARSER.append(build_parser())
-    parser = _PARSER[0]
-    args = parser.parse_args(argv)
+    argv = sys.argv[1:] if argv is None else list(argv)
+    name = _command(argv)
+    if name not in _PARSER:
+        _PARSER[name] = build_parser(() if name is None else (name,))
+    args = _PARSER[name].parse_args(argv)
     progress.enabled(not getattr(args, "json", False))
     try:
         return int(args.run(args))

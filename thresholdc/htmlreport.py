@@ -29,9 +29,9 @@ from . import export
 from .api import as_source, verify
 from .errors import UsageError, VerificationUndecided
 from .forcing import describe_assignment, inputs_that_matter
-from .ir.network import DISPLAY, Network
+from .ir.network import Network
 from .network import atomic_write
-from .present import count, degain
+from .present import DISPLAY, count, degain
 
 __all__ = ["report_html", "write_report", "network_card", "network_svg", "report_card"]
 

@@ -1,7 +1,8 @@
 """Presentation helpers shared by ``inspect``, the drawings and the HTML report.
 
 - :func:`count`: a number with its noun in the singular or plural;
-- :func:`degain`: a soft neuron's weights as integers times a gain, when they are.
+- :func:`degain`: a soft neuron's weights as integers times a gain, when they are;
+- :data:`DISPLAY`: the notebook renderers of networks and reports, by name.
 
 >>> count(1, "neuron"), count(2, "bias", "biases"), count(0, "link")
 ('1 neuron', '2 biases', '0 links')
@@ -11,7 +12,13 @@ from __future__ import annotations
 
 from typing import Any
 
-__all__ = ["count", "degain"]
+__all__ = ["count", "degain", "DISPLAY"]
+
+#: Notebook renderers by name (``network_html``, ``network_svg``, ``report_html``): the package
+#: ``__init__`` registers stand-ins that load :mod:`thresholdc.htmlreport` when first shown, and
+#: htmlreport puts its own functions here when imported (``ir`` and ``verification`` only look
+#: them up, so neither imports upward).
+DISPLAY: dict[str, Any] = {}
 
 
 def count(n: int, one: str, many: str | None = None) -> str:

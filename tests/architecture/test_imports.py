@@ -32,6 +32,9 @@ def _imports(path: pathlib.Path) -> list[tuple[str, ast.stmt, bool]]:
     name = _module_name(path)
     package = name if path.name == "__init__.py" else name.rpartition(".")[0]
     top = {id(node) for node in tree.body}
+    for node in tree.body:  # ``if TYPE_CHECKING:`` imports are module-level (never run)
+        if isinstance(node, ast.If) and getattr(node.test, "id", "") == "TYPE_CHECKING":
+            top |= {id(child) for child in node.body}
     found = []
     for node in ast.walk(tree):
         if isinstance(node, ast.Import):

@@ -9,17 +9,19 @@ from collections.abc import Sequence
 from typing import Any
 
 from ..present import count
+from . import SUMMARY
 
 __all__ = ["add_parser", "print_json", "format_table", "fmt_num", "warn", "count"]
 
 
 def add_parser(
-    subparsers: Any, name: str, *, help: str, description: str, example: str
+    subparsers: Any, name: str, *, description: str, example: str
 ) -> argparse.ArgumentParser:
-    """A subcommand parser with a description and an example in its epilog."""
+    """A subcommand parser with its summary (:data:`SUMMARY`), a description and an example in
+    its epilog."""
     return subparsers.add_parser(
         name,
-        help=help,
+        help=SUMMARY[name],
         description=description,
         epilog=f"example:\n  {example}",
         formatter_class=argparse.RawDescriptionHelpFormatter,

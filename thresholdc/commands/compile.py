@@ -19,7 +19,6 @@ def register(subparsers: Any) -> None:
     p = add_parser(
         subparsers,
         "compile",
-        help="compile a rule file or netlist into a verified threshold network",
         description=(
             "Compile a rule file (or an ISCAS .bench / BLIF netlist) into a threshold network, "
             "verify it against the source, write it, and print a summary. The suffix of -o "

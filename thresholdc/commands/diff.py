@@ -90,7 +90,6 @@ def register(subparsers: Any) -> None:
     p = add_parser(
         subparsers,
         "diff",
-        help="read a trained network back as rules and compare them with the rule file",
         description=(
             "For every definition of the rule file with a unit named after it, read the unit "
             "back as rule text (its inputs rounded to 0/1; the threshold function identified "

@@ -20,7 +20,6 @@ def register(subparsers: Any) -> None:
     p = add_parser(
         subparsers,
         "draw",
-        help="draw a network in layers (.png or .svg)",
         description=(
             "Draw a network: inputs on the left, one column per layer, outputs on the right; "
             "each neuron shows its name, the definition it serves and its bias, each link its "

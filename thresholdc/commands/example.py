@@ -19,7 +19,6 @@ def register(subparsers: Any) -> None:
     p = add_parser(
         subparsers,
         "example",
-        help="write an example netlist (.bench), e.g. mult16 or adder8",
         description=f"Write a generated example netlist in the ISCAS .bench format. {listing}. "
         "Inputs a0.., b0.. (x0.. for parity), least significant bit first.",
         example="thresholdc example mult16 -o mult16.bench",

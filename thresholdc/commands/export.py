@@ -15,7 +15,6 @@ def register(subparsers: Any) -> None:
     p = add_parser(
         subparsers,
         "export",
-        help="convert a saved network to another format (.json, .npz, .onnx)",
         description=(
             "Read a network (.json, or a dense MLP saved as .npz or .onnx) and write it in the "
             "format the suffix of -o names: .json (the network file), .npz (NumPy arrays of "

@@ -24,7 +24,6 @@ def register(subparsers: Any) -> None:
     p = add_parser(
         subparsers,
         "inspect",
-        help="show a network's neurons layer by layer, with totals",
         description=(
             "Print one table per layer: each neuron's bias, activation, role, the definition "
             "it came from, and its weights and inputs (largest |weight| first with --top or "

@@ -19,7 +19,6 @@ def register(subparsers: Any) -> None:
     p = add_parser(
         subparsers,
         "report",
-        help="write an HTML page: summary, layers, drawing, verification, training",
         description=(
             "Write one self-contained HTML file (inline CSS and SVG, nothing loaded from "
             "elsewhere) about a network: a summary, a table per layer, the drawing, the "

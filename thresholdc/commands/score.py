@@ -45,7 +45,6 @@ def register(subparsers: Any) -> None:
     p = add_parser(
         subparsers,
         "score",
-        help="accuracy, precision, recall and F1 of a network's outputs on labelled data",
         description=(
             "Read a CSV file with a header row (columns named after the network's inputs; "
             "any suffix), run the network on every row and compare each labelled output with "

@@ -43,7 +43,6 @@ def register(subparsers: Any) -> None:
     p = add_parser(
         subparsers,
         "table",
-        help="print the truth table of a rule file or netlist",
         description=(
             "Print the truth table of every output, computed from the rules directly (no "
             "network involved), or of a network file (.json, .npz, .onnx) from the network's "

@@ -44,7 +44,6 @@ def register(subparsers: Any) -> None:
     p = add_parser(
         subparsers,
         "train",
-        help="train a network on labelled data, starting from its rules",
         description=(
             "Train on a CSV file (see 'score' for the data format). Given a rule file (as "
             "NET, or with --rules), training starts from the rules' own structure: one "

@@ -24,7 +24,6 @@ def register(subparsers: Any) -> None:
     p = add_parser(
         subparsers,
         "verify",
-        help="check that a network computes its rules (exit 0 equal, 1 different)",
         description=(
             "Check that a network computes the rule file or netlist on every input. A soft "
             "network is read as 1 where its output exceeds 0.5 (0 for bipolar); a certificate "

@@ -31,6 +31,7 @@ import numpy as np
 
 from ..errors import NetworkFileError, UsageError
 from ..lazy import lazy_module
+from ..present import DISPLAY
 from . import activations as act
 from .bitslice import BitPlan, chunk_rows
 
@@ -106,10 +107,6 @@ class Output:
     def __repr__(self) -> str:
         return self.name if self.name == self.source else f"{self.name}<-{self.source}"
 
-
-#: Notebook renderers by name (``network_html``, ``network_svg``, ``report_html``), registered
-#: by :mod:`thresholdc.htmlreport` when the package is imported (ir imports nothing above it).
-DISPLAY: dict[str, Any] = {}
 
 
 @dataclass(frozen=True)

@@ -9,10 +9,14 @@ column and source line; lark's own exceptions never escape.
 from __future__ import annotations
 
 import gc
+import hashlib
+import os
 import re
+import sys
 from functools import lru_cache
 from importlib import resources
 
+import lark
 from lark import Lark, Token
 from lark.exceptions import UnexpectedCharacters, UnexpectedInput, UnexpectedToken
 
@@ -38,9 +42,34 @@ _OPERATORS = frozenset(
 _END = frozenset({"_NL", "$END"})
 
 
+def _cache_file(grammar: str) -> str | bool:
+    """Where lark keeps the analysed grammar between runs, or False for no cache.
+
+    The directory is ``$THRESHOLDC_CACHE_DIR`` (empty: no cache), else ``$XDG_CACHE_HOME`` or
+    ``~/.cache``, then ``thresholdc/``, created private to the user (lark unpickles the file,
+    so it never lives in a shared temporary directory).  The name carries a digest of the
+    grammar, lark's version and Python's, so versions side by side never read each other's.
+    Loading the cache takes a few milliseconds where building the LALR tables takes tens.
+    """
+    base = os.environ.get("THRESHOLDC_CACHE_DIR")
+    if base is None:
+        home = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
+        base = os.path.join(home, "thresholdc")
+    if not base:
+        return False
+    try:
+        os.makedirs(base, mode=0o700, exist_ok=True)
+    except OSError:
+        return False
+    key = f"{grammar}\0{lark.__version__}\0{sys.version_info[:2]}".encode()
+    return os.path.join(base, f"rules-grammar-{hashlib.sha256(key).hexdigest()[:16]}.lark")
+
+
 @lru_cache(maxsize=1)
 def _parser() -> Lark:
-    """The LALR parser, built once (the grammar is shipped inside the package)."""
+    """The LALR parser, built once per process (the grammar is shipped inside the package) and
+    its tables kept between processes in :func:`_cache_file` (lark checks the file against
+    the grammar and options and rebuilds it when it does not match or cannot be read)."""
     grammar = resources.files(__package__).joinpath("grammar.lark").read_text(encoding="utf-8")
     return Lark(
         grammar,
@@ -48,7 +77,7 @@ def _parser() -> Lark:
         lexer=RuleLexer,
         transformer=RuleBuilder(),
         maybe_placeholders=False,
-        cache=False,
+        cache=_cache_file(grammar),
     )
 
 

@@ -46,6 +46,7 @@ from ..ir.gates import GateGraph
 from ..ir.network import Network, Neuron, Output
 from ..ir.options import CompileOptions
 from ..network import assign_layers, fresh_name
+from ..progress import track
 from . import candidates, cuts
 from .cover import Cover
 from .hashing import Hashed, hash_gates
@@ -118,7 +119,7 @@ def collapse(
     N = len(h.op)
     chains = parity_chains(h, found)
     options: list[list[candidates.Option]] = [[] for _ in range(N)]
-    for v in range(1, N):
+    for v in track(range(1, N), "synthesis: candidates", unit="node"):
         if h.op[v] != "input":
             options[v] = candidates.node_options(h, v, found[v], support.get(v), limits, options)
             if v in chains:

@@ -25,6 +25,7 @@ Rules
 
 from __future__ import annotations
 
+from ..progress import track
 from .candidates import Option
 
 __all__ = ["Cover"]
@@ -189,7 +190,7 @@ class Cover:
 
     def _exact_pass(self) -> None:
         """One pass of exact-area improvement in topological order."""
-        for v in range(self.N):
+        for v in track(range(self.N), "synthesis: cover", unit="node"):
             opts = self.options[v]
             if not opts:
                 continue

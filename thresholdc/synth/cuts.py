@@ -35,6 +35,7 @@ from __future__ import annotations
 from functools import cache
 from typing import NamedTuple
 
+from ..progress import track
 from . import ttable
 from .hashing import Hashed
 
@@ -152,7 +153,7 @@ def enumerate_cuts(h: Hashed, k: int, *, limit: int = 24, keep: int = 10) -> lis
             got = flow_memo[mask] = sum(flow[x] for x in _bits(mask))
         return got
 
-    for v in range(1, N):
+    for v in track(range(1, N), "synthesis: cuts", unit="node"):
         op = h.op[v]
         fans = h.fanins[v]
         if fans:

@@ -29,6 +29,7 @@ from functools import lru_cache
 import numpy as np
 
 from ..lazy import lazy_module
+from ..progress import track
 from . import candidates, gadgets, ttable
 from .candidates import Limits, Option
 from .cuts import Cut
@@ -59,7 +60,7 @@ def add_helper_options(h: Hashed, found: list[list[Cut]], options: list[list[Opt
                 for i, w in zip(sup, cls[1]):
                     ws[i] = w
                 by_mask.setdefault(c.mask, []).append((v, c, tuple(ws), cls[2]))
-    for v in range(1, len(h.op)):
+    for v in track(range(1, len(h.op)), "synthesis: helper neurons", unit="node"):
         tried = 0
         for c in found[v]:
             n = len(c.leaves)

@@ -36,13 +36,13 @@ Rules of the algorithm
 
 from __future__ import annotations
 
-import sys
 import time
 from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 
+from .. import progress as progress_bars
 from ..ir import activations as act
 from ..ir.network import Network
 from .domain import (
@@ -434,7 +434,7 @@ class _Search:
         M = np.ones((n, self.bd.n_choices), dtype=bool)
         return _Batch(M, lo, hi, np.zeros((n, len(self.net.outputs)), dtype=bool))
 
-    def run(self, max_nodes: int, time_limit: float, progress: bool) -> bool:
+    def run(self, max_nodes: int, time_limit: float, progress: bool | None) -> bool:
         """Search until done (True) or a limit stops it (False)."""
         t0 = time.perf_counter()
         stack = [self.roots()]
@@ -462,20 +462,14 @@ class _Search:
                 bar.close()
 
 
-def _bar(progress: bool, total: float) -> Any:
-    """A tqdm bar over the domain's volume on a terminal, else None."""
-    if not progress or not sys.stderr.isatty():
-        return None
-    try:
-        from tqdm import tqdm
-    except ImportError:
-        return None
-    return tqdm(total=total, desc="bounds", leave=False, unit="pt")
+def _bar(progress: bool | None, total: float) -> Any:
+    """A bar over the domain's volume (:func:`thresholdc.progress.bar`)."""
+    return progress_bars.bar(total, "branch-and-bound", unit="pt", show=progress)
 
 
 def run_bounds(
     net: Network, source: Any, domain: Domain, *, max_nodes: int = DEFAULT_MAX_NODES,
-    time_limit: float = DEFAULT_TIME_LIMIT, progress: bool = False,
+    time_limit: float = DEFAULT_TIME_LIMIT, progress: bool | None = None,
 ) -> Report:
     """Branch-and-bound over an explicit :class:`Domain` (used by the typed verifier)."""
     t0 = time.perf_counter()
@@ -519,7 +513,7 @@ def verify_bounds(
     *,
     max_nodes: int = DEFAULT_MAX_NODES,
     time_limit: float = DEFAULT_TIME_LIMIT,
-    progress: bool = False,
+    progress: bool | None = None,
 ) -> Report:
     """Compare ``net`` with ``source`` by branch-and-bound over boxes of inputs.
 
@@ -537,8 +531,9 @@ def verify_bounds(
         Largest number of boxes examined.
     time_limit : float
         Seconds before the search gives up.
-    progress : bool
-        A progress bar (tqdm) on a terminal.
+    progress : bool or None
+        A progress bar (tqdm) on a terminal; None: as :mod:`thresholdc.progress` is set (the
+        command line turns bars on).
 
     Returns
     -------

@@ -41,6 +41,7 @@ from typing import Any
 import numpy as np
 
 from ..ir.network import Network
+from ..progress import track
 from .cones import LOCAL_MAX_LEAVES, ConeCheck
 from .domain import check_names
 from .report import Counterexample, OutputReport, Report
@@ -130,7 +131,7 @@ def verify_local(
     loc = ConeCheck(net, graph, max_leaves, t0 + time_limit)
     if not loc.setup(cones):
         return _finish(net, source, {}, f"local: {loc.problems[0]}", loc.problems[:5], t0)
-    for n in net.neurons:
+    for n in track(net.neurons, "verification: cones", unit="neuron"):
         if n.name in loc.cones:
             loc.check_cone(n.name)
     covered = set(loc.cones) | set(loc.alias) | loc.helpers

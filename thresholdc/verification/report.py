@@ -47,7 +47,7 @@ from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
-from ..ir.network import DISPLAY
+from ..present import DISPLAY
 
 __all__ = ["Counterexample", "OutputReport", "Report", "MAX_COUNTEREXAMPLES", "VERDICTS",
            "combined_result", "undecided_outputs"]

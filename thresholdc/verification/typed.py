@@ -132,7 +132,7 @@ def verify_typed(
     max_inputs: int = 24,
     max_nodes: int | None = None,
     time_limit: float = 60.0,
-    progress: bool = False,
+    progress: bool | None = None,
 ) -> Report:
     """Compare ``net`` with a typed (or plain) ``source`` over its valid assignments.
 

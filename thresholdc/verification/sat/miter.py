@@ -40,6 +40,7 @@ from typing import Any
 
 import numpy as np
 
+from ...progress import bar, track
 from .circuit import TRUE, Circuit, node_value
 
 __all__ = [
@@ -401,9 +402,14 @@ def solve_cnf(
     finished = False
     exitcode: int | None = None
     deadline = t0 + max(time_limit, 0.0)
+    # The solver cannot say how far it is: the bar shows the seconds used of the time limit
+    # and how many of the miter's outputs are decided.
+    shown, last, decided = bar(max(time_limit, 0.0), "sat: solving", unit="s"), t0, 0
     try:
         while True:
-            left = deadline - time.perf_counter()
+            now = time.perf_counter()
+            shown.update(now - last)
+            last, left = now, deadline - now
             if left <= 0:
                 break
             if recv.poll(min(left, 0.05)):
@@ -412,12 +418,16 @@ def solve_cnf(
                 except EOFError:
                     break
                 messages.append(msg)
+                if msg[0] in ("sat", "unsat"):
+                    decided += len(msg[1])
+                    shown.set_postfix_str(f"{decided}/{len(pairs)} outputs decided")
                 if msg[0] in ("done", "error"):
                     finished = msg[0] == "done"
                     break
             elif not proc.is_alive() and not recv.poll(0):
                 break
     finally:
+        shown.close()
         proc.join(0.05 if finished else 0)
         if not proc.is_alive():
             exitcode = proc.exitcode
@@ -480,7 +490,7 @@ def prove_equivalent(
     deferred: list[tuple[int, int]] = []
     if sw is not None:
         cands = sw.candidates()
-        for v, lits in cands:
+        for v, lits in track(cands, "sat: matching nodes", unit="node"):
             lit = next((x for x in lits if sw.prove_on_cut(v, x)), None)
             if lit is not None:
                 sw.rep[v] = lit
