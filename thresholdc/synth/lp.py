@@ -53,7 +53,7 @@ class LpResult:
 def _binding() -> types.ModuleType | None:
     """scipy's HiGHS binding, or None when this scipy does not have it where we look."""
     try:
-        from scipy.optimize._highspy import _core  # type: ignore[import-not-found]
+        from scipy.optimize._highspy import _core
     except ImportError:  # pragma: no cover - depends on the installed scipy
         return None
     needed = ("HighsLp", "_Highs", "HighsOptions", "MatrixFormat", "HighsVarType",
