@@ -155,7 +155,13 @@ class Cover:
         return freed
 
     def _arrive(self, v: int, o: Option) -> int:
-        return max((self.arrival[x] for x in o.leaves), default=0) + o.depth
+        arrival = self.arrival
+        m = 0  # arrivals are never negative
+        for x in o.leaves:
+            a = arrival[x]
+            if a > m:
+                m = a
+        return m + o.depth
 
     # -------------------------------------------------------------- passes
     def _area_flow(self, refs: list[float]) -> None:
