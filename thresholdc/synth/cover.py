@@ -126,6 +126,22 @@ class Cover:
                 nref[x] += 1
         return added
 
+    def _own_added(self, a: tuple[int, tuple[int, ...], int]) -> int:
+        """The neurons an option's own specs (accounting ``a``) would add to the current cover,
+        its leaves' options not counted: what :meth:`_ref` adds at its first step."""
+        none, helpers, root = a
+        n_root, n_help = self.n_root, self.n_help
+        added = none
+        seen: dict[int, int] = {}
+        for k in helpers:
+            hc = n_help[k] + seen.get(k, 0)
+            seen[k] = seen.get(k, 0) + 1
+            if not hc and not n_root[k]:
+                added += 1
+        if root >= 0 and (n_root[root] or not n_help[root] + seen.get(root, 0)):
+            added += 1
+        return added
+
     def _deref(self, v: int) -> int:
         """Node ``v`` is no longer needed: release its option and what only it needed; return
         how many neurons that frees."""
@@ -208,7 +224,12 @@ class Cover:
             self.nref[v] = 0
             freed = self._deref(v)
             best = None
+            acct = self.acct[v]
             for i, o in enumerate(opts):
+                # an option adds at least its own new neurons; one that cannot tie the best
+                # count so far cannot win (the count is the first key), so it is not walked
+                if best is not None and self._own_added(acct[i]) > best[0]:
+                    continue
                 self.choice[v] = i
                 added = self._ref(v)
                 self._deref(v)
