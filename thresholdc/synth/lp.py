@@ -51,14 +51,14 @@ class LpResult:
 
 @lru_cache(maxsize=1)
 def _binding() -> types.ModuleType | None:
-    """scipy's HiGHS binding, or None when this scipy does not have it where we look."""
-    try:
-        from scipy.optimize._highspy import _core
-    except ImportError:  # pragma: no cover - depends on the installed scipy
-        return None
+    """scipy's HiGHS binding (``scipy.optimize._highspy._core``, loaded with scipy.optimize),
+    or None when this scipy does not have it there."""
+    core = getattr(getattr(optimize, "_highspy", None), "_core", None)
     needed = ("HighsLp", "_Highs", "HighsOptions", "MatrixFormat", "HighsVarType",
-              "HighsModelStatus")
-    return _core if all(hasattr(_core, a) for a in needed) else None
+              "HighsModelStatus", "HighsStatus", "kHighsInf")
+    if core is None or not all(hasattr(core, a) for a in needed):
+        return None  # pragma: no cover - depends on the installed scipy
+    return core
 
 
 def _csc(A: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
