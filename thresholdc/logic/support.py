@@ -62,7 +62,8 @@ def source_support(source: Any, output: str) -> set[str]:
                 if arg not in seen:
                     seen.add(arg)
                     stack.append(arg)
-        return {s for s in seen if s in set(graph.inputs)}
+        inputs = set(graph.inputs)
+        return {s for s in seen if s in inputs}
     program = source.program
     units = _units_of(program)
     seen, stack, found = {output}, [output], set()

@@ -88,8 +88,8 @@ class Option:
                 if self.tt is not None:
                     assert root == self.tt, "a gadget disagrees with its cut's function"
                 lv = self.leaves
-                self._keys = tuple(((tuple(lv[i] for i in pos), t), flag)
-                                   for pos, t, flag in parts)
+                self._keys = tuple([((tuple([lv[i] for i in pos]), t), flag)
+                                    for pos, t, flag in parts])
         return self._keys
 
     def __repr__(self) -> str:

@@ -45,116 +45,140 @@ class Cover:
         self.choice = [0] * N
         self.nref = [0] * N
         self.arrival = [0] * N
-        self.n_root: dict = {}
-        self.n_help: dict = {}
         self.total = 0
+        # keys interned as small integers (first seen, first numbered), and per option its
+        # accounting: (specs without a key, helper key ids in spec order, root key id or -1)
+        ids: dict = {}
+        self.acct: list[list[tuple[int, tuple[int, ...], int]]] = []
+        for opts in options:
+            row = []
+            for o in opts:
+                keys = o.keys()
+                last = len(keys) - 1
+                none, helpers, root = 0, [], -1
+                for i, (k, _) in enumerate(keys):
+                    if k is None:
+                        none += 1
+                        continue
+                    kid = ids.setdefault(k, len(ids))
+                    if i == last:
+                        root = kid
+                    else:
+                        helpers.append(kid)
+                row.append((none, tuple(helpers), root))
+            self.acct.append(row)
+        self.n_root = [0] * len(ids)  # per key: roots in the cover with that key
+        self.n_help = [0] * len(ids)  # per key: helper specs in the cover with that key
         # the nodes some option of which has each root function: a helper with such a key
         # is likely shared with that node's own neuron
-        self.root_of: dict = {}
-        for v, opts in enumerate(options):
-            for o in opts:
-                k = o.keys()[-1][0]
-                if k is not None:
-                    self.root_of.setdefault(k, set()).add(v)
-        self.flow_cost = [[self._flow_cost(v, o) for o in opts] for v, opts in enumerate(options)]
+        self.root_of: dict[int, set[int]] = {}
+        for v, row in enumerate(self.acct):
+            for _, _, root in row:
+                if root >= 0:
+                    self.root_of.setdefault(root, set()).add(v)
+        self.flow_cost = [[self._flow_cost(v, a) for a in row]
+                          for v, row in enumerate(self.acct)]
 
-    def _flow_cost(self, v: int, o: Option) -> float:
-        """Neurons of ``o`` for area flow: a helper that another node's option has as its root
-        counts half (it will often be shared)."""
-        keys = o.keys()
-        c = 0.0
-        for i, (k, _) in enumerate(keys):
-            if i < len(keys) - 1 and k is not None and self.root_of.get(k, set()) - {v}:
-                c += 0.5
-            else:
-                c += 1.0
+    def _flow_cost(self, v: int, a: tuple[int, tuple[int, ...], int]) -> float:
+        """Neurons of an option (its accounting ``a``) for area flow: a helper that another
+        node's option has as its root counts half (it will often be shared)."""
+        none, helpers, root = a
+        c = float(none) + (1.0 if root >= 0 else 0.0)
+        for k in helpers:
+            c += 0.5 if self.root_of.get(k, set()) - {v} else 1.0
         return c
 
-    def _shared(self, v: int, o: Option) -> int:
-        """How many of ``o``'s helpers a needed node other than ``v`` could compute as its
-        own neuron (a tie-break: the next pass can then share it)."""
-        keys = o.keys()
+    def _shared(self, v: int, i: int) -> int:
+        """How many of option ``i``'s helpers a needed node other than ``v`` could compute as
+        its own neuron (a tie-break: the next pass can then share it)."""
         nref = self.nref
-        return sum(1 for k, _ in keys[:-1] if k is not None
-                   and any(u != v and nref[u] > 0 for u in self.root_of.get(k, ())))
+        return sum(1 for k in self.acct[v][i][1]
+                   if any(u != v and nref[u] > 0 for u in self.root_of.get(k, ())))
 
     # -------------------------------------------------------------- key accounting
-    def _add(self, o: Option) -> int:
-        """Take ``o``'s neurons into the cover; return how many neurons that adds.
-
-        A key's neurons are ``max(roots, 1 if helpers else 0)``."""
-        keys = o.keys()
-        added = 0
-        last = len(keys) - 1
-        n_root, n_help = self.n_root, self.n_help
-        for i, (k, _) in enumerate(keys):
-            if k is None:
-                added += 1
-            elif i == last:
-                r = n_root.get(k, 0)
-                n_root[k] = r + 1
-                if r or not n_help.get(k, 0):
-                    added += 1
-            else:
-                hc = n_help.get(k, 0)
-                n_help[k] = hc + 1
-                if not hc and not n_root.get(k, 0):
-                    added += 1
-        return added
-
-    def _remove(self, o: Option) -> int:
-        """Release ``o``'s neurons; return how many neurons that frees."""
-        keys = o.keys()
-        freed = 0
-        last = len(keys) - 1
-        n_root, n_help = self.n_root, self.n_help
-        for i, (k, _) in enumerate(keys):
-            if k is None:
-                freed += 1
-            elif i == last:
-                r = n_root[k] - 1
-                n_root[k] = r
-                if r or not n_help.get(k, 0):
-                    freed += 1
-            else:
-                hc = n_help[k] - 1
-                n_help[k] = hc
-                if not hc and not n_root.get(k, 0):
-                    freed += 1
-        return freed
+    # A key's neurons are ``max(roots, 1 if helpers else 0)``; a spec without a key is one
+    # neuron of its own.
 
     def _ref(self, v: int) -> int:
-        """Node ``v`` becomes needed: take its option and, transitively, its leaves' options."""
+        """Node ``v`` becomes needed: take its option and, transitively, its leaves' options;
+        return how many neurons that adds."""
         added = 0
         stack = [v]
-        nref, gate, opts, choice = self.nref, self.gate, self.options, self.choice
+        nref, gate, opts, choice, acct = self.nref, self.gate, self.options, self.choice, self.acct
+        n_root, n_help = self.n_root, self.n_help
         while stack:
             u = stack.pop()
-            o = opts[u][choice[u]]
-            added += self._add(o)
-            for x in o.leaves:
+            i = choice[u]
+            none, helpers, root = acct[u][i]
+            added += none
+            for k in helpers:
+                hc = n_help[k]
+                n_help[k] = hc + 1
+                if not hc and not n_root[k]:
+                    added += 1
+            if root >= 0:
+                r = n_root[root]
+                n_root[root] = r + 1
+                if r or not n_help[root]:
+                    added += 1
+            for x in opts[u][i].leaves:
                 if nref[x] == 0 and gate[x]:
                     stack.append(x)
                 nref[x] += 1
         return added
 
+    def _own_added(self, a: tuple[int, tuple[int, ...], int]) -> int:
+        """The neurons an option's own specs (accounting ``a``) would add to the current cover,
+        its leaves' options not counted: what :meth:`_ref` adds at its first step."""
+        none, helpers, root = a
+        n_root, n_help = self.n_root, self.n_help
+        added = none
+        seen: dict[int, int] = {}
+        for k in helpers:
+            hc = n_help[k] + seen.get(k, 0)
+            seen[k] = seen.get(k, 0) + 1
+            if not hc and not n_root[k]:
+                added += 1
+        if root >= 0 and (n_root[root] or not n_help[root] + seen.get(root, 0)):
+            added += 1
+        return added
+
     def _deref(self, v: int) -> int:
-        """Node ``v`` is no longer needed: release its option and what only it needed."""
+        """Node ``v`` is no longer needed: release its option and what only it needed; return
+        how many neurons that frees."""
         freed = 0
         stack = [v]
-        nref, gate, opts, choice = self.nref, self.gate, self.options, self.choice
+        nref, gate, opts, choice, acct = self.nref, self.gate, self.options, self.choice, self.acct
+        n_root, n_help = self.n_root, self.n_help
         while stack:
             u = stack.pop()
-            o = opts[u][choice[u]]
-            freed += self._remove(o)
-            for x in o.leaves:
+            i = choice[u]
+            none, helpers, root = acct[u][i]
+            freed += none
+            for k in helpers:
+                hc = n_help[k] - 1
+                n_help[k] = hc
+                if not hc and not n_root[k]:
+                    freed += 1
+            if root >= 0:
+                r = n_root[root] - 1
+                n_root[root] = r
+                if r or not n_help[root]:
+                    freed += 1
+            for x in opts[u][i].leaves:
                 nref[x] -= 1
                 if nref[x] == 0 and gate[x]:
                     stack.append(x)
         return freed
 
     def _arrive(self, v: int, o: Option) -> int:
-        return max((self.arrival[x] for x in o.leaves), default=0) + o.depth
+        arrival = self.arrival
+        m = 0  # arrivals are never negative
+        for x in o.leaves:
+            a = arrival[x]
+            if a > m:
+                m = a
+        return m + o.depth
 
     # -------------------------------------------------------------- passes
     def _area_flow(self, refs: list[float]) -> None:
@@ -179,8 +203,8 @@ class Cover:
     def _map(self) -> None:
         """Reference the roots with the current choices (from an empty cover)."""
         self.nref = [0] * self.N
-        self.n_root = {}
-        self.n_help = {}
+        self.n_root = [0] * len(self.n_root)
+        self.n_help = [0] * len(self.n_help)
         self.total = 0
         for r in self.roots:
             if self.gate[r]:
@@ -201,11 +225,16 @@ class Cover:
             self.nref[v] = 0
             freed = self._deref(v)
             best = None
+            acct = self.acct[v]
             for i, o in enumerate(opts):
+                # an option adds at least its own new neurons; one that cannot tie the best
+                # count so far cannot win (the count is the first key), so it is not walked
+                if best is not None and self._own_added(acct[i]) > best[0]:
+                    continue
                 self.choice[v] = i
                 added = self._ref(v)
                 self._deref(v)
-                key = (added, self._arrive(v, o), -self._shared(v, o), i)
+                key = (added, self._arrive(v, o), -self._shared(v, i), i)
                 if best is None or key < best:
                     best = key
             assert best is not None

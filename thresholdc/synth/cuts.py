@@ -147,11 +147,21 @@ def enumerate_cuts(h: Hashed, k: int, *, limit: int = 24, keep: int = 10) -> lis
     flow = [0.0] * N
     flow_memo: dict[int, float] = {}
 
+    bits_memo: dict[int, tuple[int, ...]] = {}
+
+    def bits_of(mask: int) -> tuple[int, ...]:
+        got = bits_memo.get(mask)
+        if got is None:
+            got = bits_memo[mask] = _bits(mask)
+        return got
+
     def flow_of(mask: int) -> float:
         got = flow_memo.get(mask)
         if got is None:
-            got = flow_memo[mask] = sum(flow[x] for x in _bits(mask))
+            got = flow_memo[mask] = sum(flow[x] for x in bits_of(mask))
         return got
+
+    expand = ttable.expand_cached
 
     for v in track(range(1, N), "synthesis: cuts", unit="node"):
         op = h.op[v]
@@ -166,13 +176,14 @@ def enumerate_cuts(h: Hashed, k: int, *, limit: int = 24, keep: int = 10) -> lis
             f = lit >> 1
             # a node that is constant over some cut is never a leaf: readers see through it
             choices = passed[f] if f in constant else (_trivial(f), *passed[f])
+            triples = [(c.mask, c.cone, c) for c in choices]
             new: dict[int, tuple[int, tuple[Cut, ...]]] = {}
             for mask, (cone, ch) in partial.items():
-                for c in choices:
-                    m2 = mask | c.mask
+                for cmask, ccone, c in triples:
+                    m2 = mask | cmask
                     if m2 in new or m2.bit_count() > k:
                         continue
-                    c2 = cone | c.cone
+                    c2 = cone | ccone
                     if c2 & m2:
                         # a leaf inside another argument's cone: the table (which reads that
                         # node through its cone) would not be the cone's function with every
@@ -185,12 +196,12 @@ def enumerate_cuts(h: Hashed, k: int, *, limit: int = 24, keep: int = 10) -> lis
             partial = new
         out: dict[int, Cut] = {}
         for mask, (cone, ch) in partial.items():
-            leaves = _bits(mask)
+            leaves = bits_of(mask)
             n = len(leaves)
             pos = {leaf: i for i, leaf in enumerate(leaves)}
             args = []
             for lit, c in zip(fans, ch):
-                t = ttable.expand(c.tt, tuple(pos[x] for x in c.leaves), n)
+                t = expand(c.tt, tuple([pos[x] for x in c.leaves]), n)
                 if lit & 1:
                     t ^= full(n)
                 args.append(t)

@@ -30,7 +30,7 @@ complement, so ``s = Σ σᵢ·xᵢ + P`` with ``σᵢ = ±1`` and ``P`` the num
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import cache
+from functools import cache, lru_cache
 
 import numpy as np
 
@@ -71,6 +71,7 @@ def cost(g: Gadget) -> int:
     return len(g)
 
 
+@lru_cache(maxsize=1 << 16)
 def depth(g: Gadget) -> int:
     """Neurons on the longest path from a leaf to the root."""
     d: list[int] = []
@@ -118,6 +119,7 @@ def spec_tables(g: Gadget, n: int) -> list[int]:
     return out
 
 
+@lru_cache(maxsize=1 << 16)
 def evaluate(g: Gadget, n: int) -> int:
     """The truth table of the root of ``g`` over ``n`` leaves."""
     return spec_tables(g, n)[-1]

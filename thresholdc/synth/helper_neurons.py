@@ -28,15 +28,12 @@ from functools import lru_cache
 
 import numpy as np
 
-from ..lazy import lazy_module
 from ..progress import track
-from . import candidates, gadgets, ttable
+from . import candidates, gadgets, lp, ttable
 from .candidates import Limits, Option
 from .cuts import Cut
 from .gadgets import Gadget
 from .hashing import Hashed
-
-optimize = lazy_module("scipy.optimize")
 
 __all__ = ["helper_options", "add_helper_options", "HELPER_CUTS", "HELPER_CANDIDATES"]
 
@@ -164,13 +161,9 @@ def _solve_helper(tt: int, g_tt: int, n: int) -> tuple[tuple[int, ...], int, int
     A[:, :n] = X
     A[:, n] = gcol
     A[:, n + 1] = -1.0
-    lo = np.where(f, 0.0, -np.inf)
-    hi = np.where(f, np.inf, -1.0)
-    cons = [optimize.LinearConstraint(A, lo, hi)]
     eye = np.eye(m)
     P = np.hstack([eye, -eye])   # v - t <= 0
     Q = np.hstack([-eye, -eye])  # -v - t <= 0
-    cons.append(optimize.LinearConstraint(np.vstack([P, Q]), -np.inf, 0.0))
     big = 4 * (1 << n)
     c = np.concatenate([np.zeros(m), np.ones(m)])
     lo_b = np.concatenate([-big * np.ones(m), np.zeros(m)])
@@ -183,19 +176,22 @@ def _solve_helper(tt: int, g_tt: int, n: int) -> tuple[tuple[int, ...], int, int
         z = X @ np.array(w, dtype=float) + u * gcol
         return (w, u, T) if u != 0 and np.array_equal(z >= T, f) else None
 
-    A_ub = np.vstack([-A[f], A[~f], np.vstack([P, Q])])
-    b_ub = np.concatenate([np.zeros(int(f.sum())), -np.ones(int((~f).sum())),
-                           np.zeros(2 * m)])
-    res = optimize.linprog(c, A_ub=A_ub, b_ub=b_ub, bounds=list(zip(lo_b, hi_b)), method="highs")
-    if res.status != 0 or res.x is None:
+    nf = int(f.sum())
+    A_ub = np.vstack([-A[f], A[~f], P, Q])
+    b_ub = np.concatenate([np.zeros(nf), -np.ones(rows - nf), np.zeros(2 * m)])
+    res = lp.solve(c, A_ub, np.full(len(b_ub), -np.inf), b_ub, lo_b, hi_b)
+    if res.status != "optimal" or res.x is None:
         return None  # not even the relaxation is feasible
     got = exact(res.x)
     if got is not None:
         return got
-    res = optimize.milp(c, constraints=cons, integrality=np.ones(2 * m),
-                        bounds=optimize.Bounds(lo_b, hi_b),
-                        options={"node_limit": 2000})  # a work bound, not a clock: deterministic
-    if res.x is None or res.status != 0:
+    # the ILP: the true rows and the false rows in table order, then the |.| rows
+    A_int = np.vstack([A, P, Q])
+    lo_int = np.concatenate([np.where(f, 0.0, -np.inf), np.full(2 * m, -np.inf)])
+    hi_int = np.concatenate([np.where(f, np.inf, -1.0), np.zeros(2 * m)])
+    res = lp.solve(c, A_int, lo_int, hi_int, lo_b, hi_b, integer=True,
+                   node_limit=2000)  # a work bound, not a clock: deterministic
+    if res.status != "optimal" or res.x is None:
         return None
     return exact(res.x)
 

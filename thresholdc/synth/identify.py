@@ -29,12 +29,12 @@ How it works (cheap work first; every step is exact):
    realisation, and under the weight order of step 3 a point is implied by the point with
    one of its ones moved to a lighter (or heavier) variable when that point has the same
    value; only the points no move reaches are kept (for majority of 15, two points).
-5. *LP feasibility* (``scipy.optimize.linprog``, HiGHS) on those points decides threshold-ness.
+5. *LP feasibility* (HiGHS, through :mod:`.lp`) on those points decides threshold-ness.
 6. *Exact minimisation.*  Usually by enumerating the integer weight vectors allowed by the
    weight order in rounds of growing total weight (cost ≥ Σ v, so a round that holds the
    best cost found proves it optimal), keeping *all* optimal vectors up to permutations of
    symmetric variables; the lexicographic rule is then applied on the original variables.
-   When that enumeration would be too large, an exact ILP (``scipy.optimize.milp``, HiGHS)
+   When that enumeration would be too large, an exact ILP (HiGHS, through :mod:`.lp`)
    minimises the cost, then ``(|T|, w_0, …)`` in exact integer stages.
 
 Every realisation returned is checked against its truth table before it is returned.
@@ -57,9 +57,7 @@ from typing import Any
 
 import numpy as np
 
-from ..lazy import lazy_module
-
-optimize = lazy_module("scipy.optimize")
+from . import lp
 
 __all__ = ["MAX_VARIABLES", "Realisation", "identify", "is_threshold"]
 
@@ -425,10 +423,10 @@ def _lp_feasible(m: int, g_bits: int, parts: tuple) -> bool:
                   + [-coef[None, :] for coef, _ in order])
     b = np.concatenate([np.zeros(len(ymin)), -np.ones(len(ymax))]
                        + [[-bound] for _, bound in order])
-    res = optimize.linprog(np.r_[np.ones(m), 0.0], A_ub=A, b_ub=b,
-                  bounds=[(1, None)] * m + [(None, None)], method="highs")
-    assert res.status in (0, 2), f"LP ended with status {res.status}: {res.message}"
-    return res.status == 0
+    res = lp.solve(np.r_[np.ones(m), 0.0], A, np.full(len(b), -np.inf), b,
+                   np.r_[np.ones(m), -np.inf], np.full(m + 1, np.inf))
+    assert res.status in ("optimal", "infeasible"), f"LP ended with status {res.status}"
+    return res.status == "optimal"
 
 
 # ---------------------------------------------------------------------------------------------
@@ -614,13 +612,13 @@ def _solve_ilp(an: _Analysis, parts: tuple) -> Realisation | None:
 
     def solve(objective: np.ndarray) -> tuple[int, np.ndarray] | None:
         """The optimum of one stage and its solution (None when infeasible)."""
-        res = optimize.milp(objective, integrality=np.ones(m + 1),
-                   bounds=(np.r_[np.ones(m), -np.inf], np.full(m + 1, np.inf)),
-                   constraints=optimize.LinearConstraint(np.array(rows), lb, ub),
-                   options={"mip_rel_gap": 0})
-        if res.status == 2:
+        res = lp.solve(objective, np.array(rows), np.array(lb, dtype=float),
+                       np.array(ub, dtype=float), np.r_[np.ones(m), -np.inf],
+                       np.full(m + 1, np.inf), integer=True, rel_gap=0)
+        if res.status == "infeasible":
             return None
-        assert res.status == 0, f"ILP ended with status {res.status}: {res.message}"
+        assert res.status == "optimal" and res.x is not None, \
+            f"ILP ended with status {res.status}"
         x = np.round(res.x)
         return int(round(float(objective @ x))), x.astype(np.int64)
 

@@ -14,11 +14,11 @@ True
 
 from __future__ import annotations
 
-from functools import cache
+from functools import cache, lru_cache
 
 __all__ = [
-    "MAX_VARS", "full", "var", "expand", "swap", "flip", "depends", "support", "shrink",
-    "unateness", "count_eq", "count_ge", "count_bit", "symmetry", "to_list", "compose",
+    "MAX_VARS", "full", "var", "expand", "expand_cached", "swap", "flip", "depends", "support",
+    "shrink", "unateness", "count_eq", "count_ge", "count_bit", "symmetry", "to_list", "compose",
 ]
 
 #: The largest number of variables these helpers are used with (2**12-bit integers).
@@ -85,6 +85,12 @@ def expand(tt: int, positions: tuple[int, ...], n: int) -> int:
         if p != j:
             out = swap(out, n, j, p)
     return out
+
+
+@lru_cache(maxsize=1 << 16)
+def expand_cached(tt: int, positions: tuple[int, ...], n: int) -> int:
+    """:func:`expand`, cached (cut enumeration re-expresses the same small tables often)."""
+    return expand(tt, positions, n)
 
 
 def depends(tt: int, n: int, i: int) -> bool:
