@@ -128,3 +128,21 @@ def test_campaign_findings_stay_fixed():
                          ("onnx", 2000067048), ("network", 3000005067), ("onnx", 4000064158),
                          ("onnx", 5000072060)]:
         assert run_case(make_case(family, seed)) == [], (family, seed)
+
+
+def test_campaign_draws_every_family_and_each_alone(capsys):
+    # every family has a positive weight, so the mix draws it and --family alone runs it
+    from tests import benchmark_modules
+    from tests.fuzz import cases
+
+    assert all(weight > 0 for _, weight in FAMILIES.values())
+    campaign = benchmark_modules.load_benchmark("fuzz_campaign")
+    rows = list(cases.STREAM_ROWS)
+    try:
+        assert campaign.main(["--cases", "2", "--family", "csv/stream", "--stream-rows",
+                              "300", "--seed", "5"]) == 0
+    finally:
+        cases.STREAM_ROWS[:] = rows
+    out = capsys.readouterr().out
+    assert [ln.split()[:3] for ln in out.splitlines() if ln.startswith("csv/stream")] == \
+        [["csv/stream", "2", "0"]]

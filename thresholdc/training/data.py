@@ -37,6 +37,8 @@ import numpy as np
 
 from ..errors import DataError, UsageError
 from ..files import read_text
+from ..present import count
+from ..textlines import count_lines, lines_with_ends
 
 __all__ = [
     "Table",
@@ -160,15 +162,16 @@ def read_table(path: str) -> Table:
     """
     text = _read_text(path)
     digest = hashlib.sha256(text.encode("utf-8")).hexdigest()
-    split = text.splitlines(keepends=True)
-    del text  # the lines hold it now
-    reader = csv.reader(split)
+    # rows end only at LF, CRLF or a bare CR (as the csv module's own reading of a file does);
+    # form feed, \x1c-\x1e, NEL and U+2028 stay inside their cells
+    capacity = count_lines(text)
+    reader = csv.reader(lines_with_ends(text))
     header: list[str] | None = None
     names: tuple[str, ...] = ()
     rows: list[list[str]] = []
     lines: list[int] = []
     filled = [0]
-    store: list[np.ndarray] = []  # one array of at most len(split) rows, filled chunk by chunk
+    store: list[np.ndarray] = []  # one array of at most `capacity` rows, filled chunk by chunk
     start = 1
 
     def flush() -> None:
@@ -178,11 +181,12 @@ def read_table(path: str) -> Table:
         ragged = np.flatnonzero(widths != len(names))
         if ragged.size:
             r = int(ragged[0])
-            raise DataError(f"row has {widths[r]} fields but the header has {len(names)}",
+            raise DataError(f"row has {count(int(widths[r]), 'field')} but the header has "
+                            f"{len(names)}",
                             file=path, line=lines[r])
         chunk = np.char.strip(np.array(rows, dtype=str).reshape(len(rows), len(names)))
         if not store:
-            store.append(np.empty((len(split), len(names)), dtype=chunk.dtype))
+            store.append(np.empty((capacity, len(names)), dtype=chunk.dtype))
         elif chunk.dtype.itemsize > store[0].dtype.itemsize:
             store[0] = store[0].astype(chunk.dtype)  # a longer cell than any before
         store[0][filled[0]:filled[0] + len(rows)] = chunk
