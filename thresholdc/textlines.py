@@ -19,6 +19,8 @@ __all__ = ["LINE_END", "split_lines", "lines_with_ends", "count_lines", "line_an
 #: One line end: CRLF first, so that it is one end and not two.
 LINE_END = re.compile(r"\r\n|\r|\n")
 _LINE = re.compile(r"[^\r\n]*(?:\r\n|\r|\n)|[^\r\n]+")
+# the characters str.splitlines ends a line at besides LF, CR and CRLF
+_OTHER_BREAKS = re.compile("[\x0b\x0c\x1c\x1d\x1e\x85\u2028\u2029]")
 
 
 def split_lines(text: str) -> list[str]:
@@ -36,6 +38,8 @@ def lines_with_ends(text: str) -> Iterator[str]:
     >>> list(lines_with_ends('a,"x\\x1dy"\\r1,2\\r\\n3'))
     ['a,"x\\x1dy"\\r', '1,2\\r\\n', '3']
     """
+    if _OTHER_BREAKS.search(text) is None:  # the same lines, split in C
+        return iter(text.splitlines(keepends=True))
     return (m.group() for m in _LINE.finditer(text))
 
 

@@ -146,3 +146,19 @@ def test_campaign_draws_every_family_and_each_alone(capsys):
     out = capsys.readouterr().out
     assert [ln.split()[:3] for ln in out.splitlines() if ln.startswith("csv/stream")] == \
         [["csv/stream", "2", "0"]]
+
+
+@pytest.mark.parametrize("seed", [10000004396, 10000005096])
+def test_streamed_csv_findings_stay_fixed(seed):
+    # (--seed 10, 10^6 rows) a bad row after the first chunk of 65,536 rows was named by a
+    # wrong line; 70,000 rows put the damaged row (one of the last 100) in the second chunk
+    from tests.fuzz import cases
+
+    rows = list(cases.STREAM_ROWS)
+    cases.STREAM_ROWS[:] = [70_000]
+    try:
+        case = make_case("csv/stream", seed)
+    finally:
+        cases.STREAM_ROWS[:] = rows
+    assert case.expect is not None and case.expect[0] == 2  # a damaged row, named by its line
+    assert run_case(case) == []

@@ -56,3 +56,17 @@ def test_a_quoted_line_end_stays_in_its_cell_and_lines_go_on_counting(tmp_path):
     with pytest.raises(DataError) as info:
         read_table(str(path))
     assert (info.value.line, info.value.message) == (6, "row has 1 field but the header has 2")
+
+
+@pytest.mark.parametrize("chunk", [1, 2, 3, 1000])
+def test_a_ragged_row_in_a_later_chunk_is_named_by_its_own_line(tmp_path, monkeypatch, chunk):
+    # found by benchmarks/fuzz_campaign.py --seed 10: a bad row in the 16th chunk of 65,536
+    # rows was reported at the line of the row with its index within the chunk
+    from thresholdc.training import data
+
+    monkeypatch.setattr(data, "_CHUNK_ROWS", chunk)
+    path = tmp_path / "d.csv"
+    path.write_text("a,b\n" + "1,2\n" * 5 + "\n1,2,3\n" + "1,2\n", encoding="utf-8")
+    with pytest.raises(DataError) as info:
+        read_table(str(path))
+    assert (info.value.line, info.value.message) == (8, "row has 3 fields but the header has 2")

@@ -195,7 +195,7 @@ def read_table(path: str, max_bytes: int = MAX_DATA_BYTES) -> Table:
     header: list[str] | None = None
     names: tuple[str, ...] = ()
     rows: list[list[str]] = []
-    lines: list[int] = []
+    lines: list[int] = []  # the line of every data row so far (not only this chunk's)
     filled = [0]
     store: list[np.ndarray] = []  # one array of at most `capacity` rows, filled chunk by chunk
     start = 1
@@ -209,7 +209,7 @@ def read_table(path: str, max_bytes: int = MAX_DATA_BYTES) -> Table:
             r = int(ragged[0])
             raise DataError(f"row has {count(int(widths[r]), 'field')} but the header has "
                             f"{len(names)}",
-                            file=path, line=lines[r])
+                            file=path, line=lines[filled[0] + r])
         chunk = np.char.strip(np.array(rows, dtype=str).reshape(len(rows), len(names)))
         if not store:
             store.append(np.empty((capacity, len(names)), dtype=chunk.dtype))
@@ -324,9 +324,11 @@ def _first_bad(table: Table, mask: np.ndarray) -> int:
 
 def _booleans(table: Table, cells: np.ndarray, what: str, hint: str = "") -> np.ndarray:
     """0/1 floats for cells holding 0/1/true/false (any case); a DataError otherwise."""
-    low = np.char.lower(cells)
-    true = np.isin(low, _TRUE)
-    bad = ~(true | np.isin(low, _FALSE))
+    # each distinct value once (np.char.lower calls str.lower per cell)
+    values, index = np.unique(cells, return_inverse=True)
+    low = np.char.lower(values)
+    true = np.isin(low, _TRUE)[index.reshape(-1)]
+    bad = ~(true | np.isin(low, _FALSE)[index.reshape(-1)])
     if bad.any():
         r = _first_bad(table, bad)
         raise table.fail(f"{what}: expected 0/1 or true/false, got {str(cells[r])!r}{hint}", r)
