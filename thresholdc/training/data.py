@@ -191,6 +191,7 @@ def read_table(path: str, max_bytes: int = MAX_DATA_BYTES) -> Table:
     # form feed, \x1c-\x1e, NEL and U+2028 stay inside their cells
     capacity = count_lines(text)
     reader = csv.reader(lines_with_ends(text))
+    del text  # the lines (or the iterator over them) hold it now
     field_limit = _CSV_FIELD_LIMIT
     header: list[str] | None = None
     names: tuple[str, ...] = ()
