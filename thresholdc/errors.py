@@ -17,6 +17,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from .textlines import split_lines
 from .version import __version__
 
 __all__ = [
@@ -73,7 +74,7 @@ class ThresholdcError(Exception):
         """Return this error with its file name (and source line, taken from ``text``) set."""
         self.file = file
         if text is not None and self.line is not None and self.source_line is None:
-            lines = text.splitlines()
+            lines = split_lines(text)
             if 1 <= self.line <= len(lines):
                 self.source_line = lines[self.line - 1]
         return self

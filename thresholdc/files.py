@@ -33,5 +33,6 @@ def read_text(path: str, error: type[ThresholdcError], *, keep_bom: bool = False
     try:
         return raw.decode("utf-8" if keep_bom else "utf-8-sig")
     except UnicodeDecodeError as exc:
-        line = raw[: exc.start].count(b"\n") + 1
+        head = raw[: exc.start]  # lines end at LF, CRLF or a bare CR, as in thresholdc.textlines
+        line = head.count(b"\n") + head.count(b"\r") - head.count(b"\r\n") + 1
         raise error("not UTF-8 text", file=path, line=line) from None

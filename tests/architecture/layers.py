@@ -9,7 +9,8 @@ DEVELOPERS.md draws the same order.
 from __future__ import annotations
 
 FLOORS: tuple[tuple[str, tuple[str, ...]], ...] = (
-    ("base", ("thresholdc.errors", "thresholdc.files", "thresholdc.progress",
+    ("base", ("thresholdc.errors", "thresholdc.files", "thresholdc.textlines",
+              "thresholdc.progress",
               "thresholdc.lazy", "thresholdc.version", "thresholdc.present", "thresholdc.extras",
               "thresholdc.examples")),
     ("ir", ("thresholdc.ir",)),

@@ -78,3 +78,13 @@ def test_not_json_names_line_and_column():
     text = info.value.render()
     assert text.startswith("thresholdc: error: broken.json:3:1: not a JSON network file")
     assert text.splitlines()[1:] == ["}", "^"]
+
+
+@pytest.mark.parametrize("end", ["\n", "\r\n", "\r"])
+def test_not_json_positions_count_every_line_end(end):
+    # lines end at LF, CRLF or a bare CR, as in rule files and data files (json alone counts LF)
+    with pytest.raises(NetworkFileError) as info:
+        loads('{"a": "\u2028",\n  "format": \n}'.replace("\n", end), "broken.json")
+    err = info.value
+    assert (err.line, err.column) == (3, 1)
+    assert err.render().splitlines()[1:] == ["}", "^"]

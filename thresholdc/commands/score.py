@@ -6,6 +6,7 @@ from __future__ import annotations
 import argparse
 import csv
 import io
+import math
 import sys
 from typing import Any
 
@@ -14,12 +15,21 @@ import numpy as np
 from ..api import load
 from ..ir.network import Network
 from ..network import atomic_write, check_writable
-from ..training import Dataset, decisions, load_data, parse_label_specs, read_table, score
+from ..training import (
+    MAX_DATA_BYTES,
+    Dataset,
+    decisions,
+    load_data,
+    parse_label_specs,
+    read_table,
+    score,
+)
 from .common import add_parser, count, format_table, print_json
 
 
 def add_data_arguments(p: argparse.ArgumentParser) -> None:
-    """The data options ``score`` and ``train`` share: ``--label``, ``--positive``, ``--like``."""
+    """The data options ``score`` and ``train`` share: ``--label``, ``--positive``, ``--like``,
+    ``--max-data-gb``."""
     p.add_argument(
         "--label",
         action="append",
@@ -39,6 +49,30 @@ def add_data_arguments(p: argparse.ArgumentParser) -> None:
         metavar="NET.json",
         help="the compiled network a .npz/.onnx came from (unit names, features)",
     )
+    p.add_argument(
+        "--max-data-gb",
+        type=_gigabytes,
+        default=MAX_DATA_BYTES / 1e9,
+        metavar="G",
+        help="the data bound: about the memory the data file may take (its text, its cells at "
+        "4 bytes a character of the longest cell, its input units at 8 bytes), checked "
+        f"before they are built (default {MAX_DATA_BYTES / 1e9:g})",
+    )
+
+
+def _gigabytes(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a number of gigabytes, got {text!r}") from None
+    if not (math.isfinite(value) and value > 0):
+        raise argparse.ArgumentTypeError(f"expected a positive number of gigabytes, got {text!r}")
+    return value
+
+
+def data_bound(args: argparse.Namespace) -> int:
+    """The data bound in bytes from ``--max-data-gb``."""
+    return int(args.max_data_gb * 1e9)
 
 
 def register(subparsers: Any) -> None:
@@ -84,14 +118,14 @@ def render(net_file: str, data_file: str, result: dict[str, Any]) -> str:
     return f"score {net_file} on {data_file}: {count(result['rows'], 'row')}\n{table}"
 
 
-def error_rows(net: Network, data: Dataset) -> str:
+def error_rows(net: Network, data: Dataset, max_bytes: int = MAX_DATA_BYTES) -> str:
     """The misclassified rows as CSV text: ``line``, the data file's columns, ``wrong`` (the
     outputs the network got wrong, separated by ``;``) and ``network:OUTPUT`` (0/1) for every
     labelled output."""
     decided, truth = decisions(net, data)
     wrong = decided != truth
     picked = np.flatnonzero(wrong.any(axis=1))
-    table = read_table(data.file)
+    table = read_table(data.file, max_bytes)
     names = np.asarray(data.outputs, dtype=object)
     wrong_names = [";".join(names[w].tolist()) for w in wrong[picked]]
     body = np.column_stack([
@@ -113,12 +147,11 @@ def run(args: argparse.Namespace) -> int:
     like = load(args.like) if args.like else None
     net = load(args.network, like=like)
     labels = parse_label_specs(args.label)
-    data = load_data(
-        args.data, net, labels=labels, positive=args.positive, require_labels=True
-    )
+    data = load_data(args.data, net, labels=labels, positive=args.positive, require_labels=True,
+                     max_bytes=data_bound(args))
     result = score(net, data)
     if args.errors:
-        text = error_rows(net, data)
+        text = error_rows(net, data, data_bound(args))
         atomic_write(args.errors, text)
         result["errors_file"] = {"path": args.errors, "rows": text.count("\n") - 1}
     if args.json:

@@ -26,7 +26,7 @@ from ..training import (
     train,
 )
 from .common import add_parser, fmt_num, print_json, warn
-from .score import add_data_arguments
+from .score import add_data_arguments, data_bound
 
 
 def _auto_or_number(text: str) -> float | str:
@@ -147,7 +147,8 @@ def run(args: argparse.Namespace) -> int:
     )
     net, source = _read_network(args)
     labels = parse_label_specs(args.label)
-    data = load_data(args.data, net, labels=labels, positive=args.positive, require_labels=True)
+    data = load_data(args.data, net, labels=labels, positive=args.positive, require_labels=True,
+                     max_bytes=data_bound(args))
     for note in data.warnings():
         warn(note)
     result = train(net, data.X, data.y, outputs=data.outputs, rules=source, options=options,

@@ -23,6 +23,7 @@ from ..errors import NetworkFileError, UsageError
 from ..files import read_text as _read_text
 from ..ir import activations as act
 from ..ir.network import ENCODINGS, ROLES, Network, Neuron, Output, check_network
+from ..textlines import line_and_column, split_lines
 
 __all__ = [
     "FORMAT", "VERSION", "dumps", "loads", "load", "save", "atomic_write", "from_dict",
@@ -331,11 +332,12 @@ def loads(text: str, file: str = "<network>") -> Network:
     except ValueError as exc:
         if not isinstance(exc, json.JSONDecodeError):  # e.g. an integer of too many digits
             raise NetworkFileError(f"not a JSON network file: {exc}", file=file) from None
-        lines = text.splitlines()
-        line = lines[exc.lineno - 1] if exc.lineno <= len(lines) else ""
+        # the position counted as in every other file (a bare CR ends a line too), not json's
+        line, column = line_and_column(text, exc.pos)
+        lines = split_lines(text)
         raise NetworkFileError(
-            f"not a JSON network file: {exc.msg}", file=file, line=exc.lineno, column=exc.colno,
-            source_line=line,
+            f"not a JSON network file: {exc.msg}", file=file, line=line, column=column,
+            source_line=lines[line - 1] if line <= len(lines) else "",
         ) from None
     return from_dict(data, file)
 

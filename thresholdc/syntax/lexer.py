@@ -24,6 +24,7 @@ from lark import Token
 from lark.lexer import Lexer
 
 from ..errors import RuleError
+from ..textlines import split_lines
 
 __all__ = ["RuleLexer", "KEYWORDS", "last_tokens", "open_brackets", "source_lines"]
 
@@ -97,8 +98,6 @@ _TOKEN_RE = re.compile(
     re.DOTALL,
 )
 
-_LINE_END_RE = re.compile(r"\r\n|\r|\n")
-
 
 def source_lines(text: str) -> list[str]:
     """The lines of ``text`` as the lexer counts them: CRLF, a bare CR and LF each end one.
@@ -106,7 +105,7 @@ def source_lines(text: str) -> list[str]:
     >>> source_lines("a\\r\\nb\\rc\\nd")
     ['a', 'b', 'c', 'd']
     """
-    return _LINE_END_RE.split(text)
+    return split_lines(text)
 
 
 _STATE = threading.local()

@@ -13,7 +13,7 @@
 [False, True]
 """
 
-from .data import Dataset, Table, load_data, parse_label_specs, read_table
+from .data import MAX_DATA_BYTES, Dataset, Table, load_data, parse_label_specs, read_table
 from .fit import TrainResult, train
 from .kbstart import rule_network
 from .loop import Epoch
@@ -33,6 +33,7 @@ __all__ = [
     "TrainOptions",
     "TrainResult",
     "load_data",
+    "MAX_DATA_BYTES",
     "parse_label_specs",
     "prepare_start",
     "read_table",

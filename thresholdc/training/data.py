@@ -29,6 +29,7 @@ from __future__ import annotations
 
 import csv
 import hashlib
+import os
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
@@ -37,6 +38,8 @@ import numpy as np
 
 from ..errors import DataError, UsageError
 from ..files import read_text
+from ..present import count
+from ..textlines import count_lines, lines_with_ends
 
 __all__ = [
     "Table",
@@ -48,8 +51,13 @@ __all__ = [
     "parse_label_specs",
     "resolve_labels",
     "load_data",
+    "MAX_DATA_BYTES",
 ]
 
+#: The data bound: about the memory a data file may take, in bytes (its text, its table of
+#: cells at 4 bytes a character of the longest cell, and its input units as 8-byte numbers);
+#: ``--max-data-gb`` raises it.
+MAX_DATA_BYTES = 4 * 10**9
 _TRUE = ("1", "true")
 # Data rows are turned into arrays of cells this many at a time (bounds the lists held).
 _CHUNK_ROWS = 65_536
@@ -140,16 +148,29 @@ def _read_text(path: str) -> str:
     return read_text(path, DataError)
 
 
-def read_table(path: str) -> Table:
+def _over_bound(path: str, what: str, need: float, max_bytes: int, line: int | None = None
+                ) -> DataError:
+    """The refusal of a data file over the data bound, naming the option that raises it."""
+    return DataError(
+        f"{what} take about {need / 1e9:.3g} GB, over the data bound of {max_bytes / 1e9:.3g} GB"
+        " (raise it with --max-data-gb G)", file=path, line=line)
+
+
+def read_table(path: str, max_bytes: int = MAX_DATA_BYTES) -> Table:
     """Read a comma-separated file with a header row (any suffix).
 
-    Blank lines are skipped; cells are trimmed; quoted fields follow the csv module.
+    Blank lines are skipped; cells are trimmed of white space; quoted fields follow the csv
+    module; rows end at LF, CRLF or a bare CR.  ``max_bytes`` is the data bound, checked before
+    the work it bounds: the file's size before it is read, its lines × columns (4 bytes a
+    cell at least) before any row is read, and a cell whose length would take the table of
+    cells over it when it is read (the csv module's field limit).
 
     Raises
     ------
     DataError
         ``DATA:1: empty file``, ``DATA:2: no data rows``, a duplicate or empty column name,
-        a row with a different number of fields than the header (at its line).
+        a row with a different number of fields than the header (at its line), a file over
+        the data bound (naming ``--max-data-gb``).
 
     >>> import os, tempfile
     >>> p = os.path.join(tempfile.mkdtemp(), "t.txt")
@@ -158,17 +179,26 @@ def read_table(path: str) -> Table:
     >>> t.header, t.cells.tolist(), t.lines.tolist()
     (('a', 'b'), [['1', '2']], [3])
     """
+    try:
+        size = os.path.getsize(path)
+    except OSError:
+        size = 0  # read_text names what is wrong with the path
+    if size > max_bytes:
+        raise _over_bound(path, f"the file's {size:,} bytes", size, max_bytes)
     text = _read_text(path)
     digest = hashlib.sha256(text.encode("utf-8")).hexdigest()
-    split = text.splitlines(keepends=True)
-    del text  # the lines hold it now
-    reader = csv.reader(split)
+    # rows end only at LF, CRLF or a bare CR (as the csv module's own reading of a file does);
+    # form feed, \x1c-\x1e, NEL and U+2028 stay inside their cells
+    capacity = count_lines(text)
+    reader = csv.reader(lines_with_ends(text))
+    del text  # the lines (or the iterator over them) hold it now
+    field_limit = _CSV_FIELD_LIMIT
     header: list[str] | None = None
     names: tuple[str, ...] = ()
     rows: list[list[str]] = []
-    lines: list[int] = []
+    lines: list[int] = []  # the line of every data row so far (not only this chunk's)
     filled = [0]
-    store: list[np.ndarray] = []  # one array of at most len(split) rows, filled chunk by chunk
+    store: list[np.ndarray] = []  # one array of at most `capacity` rows, filled chunk by chunk
     start = 1
 
     def flush() -> None:
@@ -178,11 +208,12 @@ def read_table(path: str) -> Table:
         ragged = np.flatnonzero(widths != len(names))
         if ragged.size:
             r = int(ragged[0])
-            raise DataError(f"row has {widths[r]} fields but the header has {len(names)}",
-                            file=path, line=lines[r])
+            raise DataError(f"row has {count(int(widths[r]), 'field')} but the header has "
+                            f"{len(names)}",
+                            file=path, line=lines[filled[0] + r])
         chunk = np.char.strip(np.array(rows, dtype=str).reshape(len(rows), len(names)))
         if not store:
-            store.append(np.empty((len(split), len(names)), dtype=chunk.dtype))
+            store.append(np.empty((capacity, len(names)), dtype=chunk.dtype))
         elif chunk.dtype.itemsize > store[0].dtype.itemsize:
             store[0] = store[0].astype(chunk.dtype)  # a longer cell than any before
         store[0][filled[0]:filled[0] + len(rows)] = chunk
@@ -195,6 +226,8 @@ def read_table(path: str) -> Table:
                 if header is None:
                     header = record
                     names = _header_names(header, path)
+                    field_limit = _cell_limit(path, capacity, len(names), max_bytes)
+                    csv.field_size_limit(field_limit)
                 else:
                     rows.append(record)
                     lines.append(start)
@@ -202,7 +235,14 @@ def read_table(path: str) -> Table:
                         flush()
             start = reader.line_num + 1
     except csv.Error as exc:
+        if header is not None and str(exc).startswith("field larger than field limit"):
+            raise _over_bound(path, f"{capacity:,} lines × {len(names)} columns with cells as "
+                              f"long as this one (over {field_limit:,} characters)",
+                              4.0 * capacity * len(names)
+                              * (field_limit + 1), max_bytes, start) from None
         raise DataError(f"cannot read the table: {exc}", file=path, line=start) from None
+    finally:
+        csv.field_size_limit(_CSV_FIELD_LIMIT)
     if header is None:
         raise DataError("empty file", file=path, line=1)
     if rows:
@@ -211,6 +251,19 @@ def read_table(path: str) -> Table:
         raise DataError("no data rows", file=path, line=2)
     cells = store[0][: filled[0]]
     return Table(path, names, cells, np.asarray(lines, dtype=np.int64), digest)
+
+
+_CSV_FIELD_LIMIT = csv.field_size_limit()
+
+
+def _cell_limit(path: str, lines: int, columns: int, max_bytes: int) -> int:
+    """The longest cell (in characters) that keeps ``lines`` × ``columns`` cells of 4 bytes a
+    character within the data bound; a DataError when not even one character does."""
+    per_char = 4 * max(lines, 1) * columns
+    if per_char > max_bytes:
+        raise _over_bound(path, f"{lines:,} lines × {columns} columns of cells", per_char,
+                          max_bytes, 1)
+    return min(max_bytes // per_char, 2**31 - 1)
 
 
 def _header_names(header: list[str], path: str) -> tuple[str, ...]:
@@ -272,9 +325,11 @@ def _first_bad(table: Table, mask: np.ndarray) -> int:
 
 def _booleans(table: Table, cells: np.ndarray, what: str, hint: str = "") -> np.ndarray:
     """0/1 floats for cells holding 0/1/true/false (any case); a DataError otherwise."""
-    low = np.char.lower(cells)
-    true = np.isin(low, _TRUE)
-    bad = ~(true | np.isin(low, _FALSE))
+    # each distinct value once (np.char.lower calls str.lower per cell)
+    values, index = np.unique(cells, return_inverse=True)
+    low = np.char.lower(values)
+    true = np.isin(low, _TRUE)[index.reshape(-1)]
+    bad = ~(true | np.isin(low, _FALSE)[index.reshape(-1)])
     if bad.any():
         r = _first_bad(table, bad)
         raise table.fail(f"{what}: expected 0/1 or true/false, got {str(cells[r])!r}{hint}", r)
@@ -436,6 +491,7 @@ def load_data(
     labels: Mapping[str, str] | None = None,
     positive: str | None = None,
     require_labels: bool = False,
+    max_bytes: int = MAX_DATA_BYTES,
 ) -> Dataset:
     """Read a data file for ``network``: its input units and the labels of its outputs.
 
@@ -452,6 +508,9 @@ def load_data(
         0/1 or true/false.
     require_labels : bool
         Raise a UsageError when no output has a label.
+    max_bytes : int
+        The data bound (see :func:`read_table`); the input units (rows × units, 8 bytes each)
+        are checked against it too, before they are built.
 
     Returns
     -------
@@ -465,7 +524,11 @@ def load_data(
     >>> load_data(p, net, labels={"y": "ok"}, positive="yes").y.tolist()
     [[1.0], [0.0]]
     """
-    table = read_table(path)
+    table = read_table(path, max_bytes)
+    units = 8.0 * table.rows * len(network.inputs)
+    if units > max_bytes:
+        raise _over_bound(path, f"{table.rows:,} rows × {len(network.inputs):,} input units "
+                          "as numbers", units, max_bytes)
     X = encode_features(table, network)
     pairs = resolve_labels(table, network, labels)
     if require_labels and not pairs:

@@ -17,6 +17,7 @@ second driver.
 
 from __future__ import annotations
 
+from ... import textlines
 from ...errors import RuleError, Span
 from ...ir.gates import Gate, GateGraph
 
@@ -24,11 +25,15 @@ __all__ = ["NetlistBuilder", "split_lines", "gate"]
 
 
 def split_lines(text: str) -> list[str]:
-    """The physical lines of ``text`` (LF or CRLF endings; a leading BOM is dropped)."""
+    """The physical lines of ``text``: LF, CRLF and a bare CR each end one, as in rule files
+    (``thresholdc.textlines``); a leading BOM is dropped.
+
+    >>> split_lines("\\ufeffINPUT(a)\\rOUTPUT(a)\\r\\n")
+    ['INPUT(a)', 'OUTPUT(a)', '']
+    """
     if text.startswith("\ufeff"):
         text = text[1:]
-    lines = text.split("\n")
-    return [ln[:-1] if ln.endswith("\r") else ln for ln in lines]
+    return textlines.split_lines(text)
 
 
 class NetlistBuilder:

@@ -73,7 +73,7 @@ def parse_blif(text: str, file: str) -> GateGraph:
     Parameters
     ----------
     text
-        The netlist text (LF or CRLF line endings).
+        The netlist text (LF, CRLF or bare CR line endings).
     file
         The file name used in error messages.
 
