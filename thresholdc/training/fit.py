@@ -5,9 +5,11 @@ The steps, in order (every choice in :class:`~thresholdc.training.options.TrainO
 1. the start: with the rule file at hand (given, or recorded in the network's ``meta.rules``
    by an earlier training run) the rule-structured start of
    :mod:`thresholdc.training.kbstart` for each ω tried; else, or with ``init="certified"``, the
-   compiled network with certified sigmoid gains; ``init="random"`` keeps the architecture
-   and draws every weight at random.  Made dense with small random links
-   (:func:`thresholdc.training.warmstart.prepare_start`; ``widen``, ``freeze``);
+   compiled network with certified sigmoid gains.  Made dense with small random links
+   (:func:`thresholdc.training.warmstart.prepare_start`; ``widen``, ``freeze``), the rules'
+   links anchored to their start and the others lightly decayed; ``init="random"`` is the
+   baseline without rules: a dense one-hidden-layer network (``hidden`` units, default the
+   start's hidden units) from Glorot-uniform weights, λ as plain weight decay;
 2. real inputs standardised by their declared range (:mod:`thresholdc.training.scaling`);
 3. the loss: cross-entropy for a sigmoid output layer, else mse;
 4. λ and ω: chosen by cross-validation along the λ path with early stopping on the held-out
@@ -171,6 +173,9 @@ def _unused(opt: TrainOptions, init: str, optimizer: str, searched: bool) -> lis
     if optimizer == "lbfgs":
         out += [f"{name} has no effect with the lbfgs optimizer (Adam and SGD only)"
                 for name in ("lr", "batch") if getattr(opt, name) != getattr(d, name)]
+    if init != "random" and opt.hidden != d.hidden:
+        out.append("hidden has no effect: it sets the width of the random baseline"
+                   " (--init random)")
     if init != "certified" and opt.tolerance != d.tolerance:
         out.append("tolerance has no effect: it sets the certified start (--init certified)")
     if searched and opt.validation != d.validation:
@@ -288,6 +293,7 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
         starts[w] = prepare_start(
             _standard_net(soft, shift, scale), rng=np.random.default_rng(seeds[0]),
             init="random" if init == "random" else "rules", widen=opt.widen, freeze=opt.freeze,
+            hidden=opt.hidden,
         )
     lay = starts[weights[0]].layout
     last = lay.activations[-1]
@@ -309,7 +315,7 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
         s = starts[w]
         mask = pack(s.masks_w, s.masks_b)
         p = Problem.of(lay.activations, Xfit, T, cols, loss, s.target_weights, s.target_biases,
-                       mask=mask, unit=w, threshold=threshold)
+                       mask=mask, unit=w, threshold=threshold, pull=pack(s.pull_w, s.pull_b))
         return p, pack(s.weights, s.biases)
 
     fit_options: dict[str, Any] = dict(
