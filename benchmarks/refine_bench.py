@@ -18,7 +18,10 @@ labels flipped.  For each size (100, 300, 1000 rows), seed and degradation, a k-
 - ``rules``: the degraded rules alone (no training);
 - ``warm``: ``thresholdc.train`` from the degraded rules (its defaults: rule-structured start,
   λ and ω by cross-validation);
-- ``random``: the same architecture from random weights (``init="random"``);
+- ``random``: the baseline a practitioner would train without the rules (``init="random"``):
+  a dense network with one hidden layer of as many sigmoid units as the rule start has hidden
+  units, Glorot-uniform weights, λ as weight decay chosen by the same cross-validation, the
+  same trainer;
 - ``mlp`` (the peer, which never sees the rules): plain backpropagation of one hidden layer of
   16 sigmoid units from random weights, cross-entropy with a fixed weight decay, scipy L-BFGS.
 

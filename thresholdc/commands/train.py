@@ -146,7 +146,8 @@ def run(args: argparse.Namespace) -> int:
         init=args.init, weight=args.weight, anchor=args.anchor, loss=args.loss,
         optimizer=args.optimizer, epochs=args.epochs, patience=args.patience, folds=args.folds,
         validation=args.validation, workers=args.workers, widen=args.widen,
-        hidden=args.hidden, freeze=args.freeze, tolerance=args.tolerance, lr=args.lr, batch=args.batch,
+        hidden=args.hidden, freeze=args.freeze, tolerance=args.tolerance, lr=args.lr,
+        batch=args.batch,
         bound_time=args.bound_time, seed=args.seed,
     )
     net, source = _read_network(args)
