@@ -324,12 +324,27 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
     grid: tuple[float, ...] = ANCHOR_GRID if opt.anchor == "auto" else (float(opt.anchor),)
     found: Search | None = None
     held: dict[str, Any] | None = None
-    if (len(grid) > 1 or len(weights) > 1) and len(X) >= 2 * opt.folds:
+    if init == "random" and len(grid) > 1 and len(X) >= 2 * opt.folds:
+        # Weight decay: every λ fitted on its own from the random start (a path from strong
+        # decay first shrinks the weights to the symmetric point near 0, which the weaker
+        # λ's early stopping does not leave).  Each λ is a "start" of the search whose anchor
+        # weights carry λ, fitted at λ = 1.
+        base, theta0 = problem(weights[0])
+        by_decay = {lam: (replace(base, pull=base.weights() * lam), theta0) for lam in grid}
+        raw = search(by_decay, grid=(1.0,), folds=opt.folds, rng=streams[2],
+                     workers=opt.workers, progress=progress, **fit_options)
+        w, lam = weights[0], raw.weight
+        p = by_decay[lam][0]
+        runs = walk_path(p, theta0, (1.0,), raw.steps, seed=opt.seed, **fit_options)
+        found = replace(raw, weight=w, anchor=lam, grid=(lam,), scores=tuple(
+            {**sc, "weight": w, "anchor": sc["weight"]} for sc in raw.scores))
+    elif (len(grid) > 1 or len(weights) > 1) and len(X) >= 2 * opt.folds:
         found = search({w: problem(w) for w in weights}, grid=grid, folds=opt.folds,
                        rng=streams[2], workers=opt.workers, progress=progress, **fit_options)
         w, lam = found.weight, found.anchor
         p, theta0 = problem(w)
         runs = walk_path(p, theta0, found.grid, found.steps, seed=opt.seed, **fit_options)
+    if found is not None:
         history = tuple(e for k, r in enumerate(runs) for e in r.history[(k > 0):])
         history = tuple(replace(e, epoch=i) for i, e in enumerate(history))
         theta, best = runs[-1].theta, len(history) - 1
