@@ -295,7 +295,7 @@ def prepare_start(
     >>> s = prepare_start(step, rng=np.random.default_rng(1))
     >>> s.weights[0].shape, bool(abs(s.weights[0][0, 1]) < 0.25), bool(s.weights[0][0, 0] > 5)
     ((1, 2), True, True)
-    >>> s.pull_w[0].tolist(), s.target_weights[0][0, 1]
+    >>> s.pull_w[0].tolist(), float(s.target_weights[0][0, 1])
     ([[1.0, 0.1]], 0.0)
     """
     if init not in INITS:
