@@ -18,7 +18,10 @@ labels flipped.  For each size (100, 300, 1000 rows), seed and degradation, a k-
 - ``rules``: the degraded rules alone (no training);
 - ``warm``: ``thresholdc.train`` from the degraded rules (its defaults: rule-structured start,
   λ and ω by cross-validation);
-- ``random``: the same architecture from random weights (``init="random"``);
+- ``random``: the baseline a practitioner would train without the rules (``init="random"``):
+  a dense network with one hidden layer of as many sigmoid units as the rule start has hidden
+  units, Glorot-uniform weights, λ as weight decay chosen by the same cross-validation, the
+  same trainer;
 - ``mlp`` (the peer, which never sees the rules): plain backpropagation of one hidden layer of
   16 sigmoid units from random weights, cross-entropy with a fixed weight decay, scipy L-BFGS.
 
@@ -29,7 +32,9 @@ a definition whose whole cone the degradation left unchanged counts as kept when
 read-back agrees with the true definition on at least 99% of the assignments.
 
 Run: ``python benchmarks/refine_bench.py`` (10 folds × 5 seeds: hours on 2 shared cores) or
-``--quick`` (3 folds × 1 seed), ``--sizes 100,300``, ``--json FILE``.
+``--quick`` (3 folds × 1 seed), ``--sizes 100,300``, ``--json FILE``; a run split over processes
+(``--seeds 1 --first-seed 1 --json b.json`` beside ``--seeds 1 --json a.json``) is put
+together by ``--merge a.json b.json``.
 """
 
 from __future__ import annotations
@@ -221,12 +226,12 @@ def _which(bad: Reference) -> str:
 
 
 def run(sizes: tuple[int, ...], seeds: int, k: int, workers: int | None,
-        names: list[str], log: Any = sys.stderr) -> dict[str, Any]:
+        names: list[str], log: Any = sys.stderr, first_seed: int = 0) -> dict[str, Any]:
     """Every size × degradation × seed × fold; returns per-cell lists of fold results."""
     true = true_source()
     cells: dict[str, dict[str, list[dict[str, Any]]]] = {}
     for size in sizes:
-        for seed in range(seeds):
+        for seed in range(first_seed, first_seed + seeds):
             C, X, y = sample(true, size, seed)
             split = folds(size, k, seed)
             for name in names:
@@ -249,6 +254,7 @@ def summarise(cells: dict[str, Any]) -> tuple[str, dict[str, bool]]:
              f"{'mlp':>6}  {'warm/random':>11}  {'warm/mlp':>8}  {'kept':>9}  {'repaired':>8}  "
              f"{'s/fit warm':>10}  {'s/fit rnd':>9}  {'s/fit mlp':>9}"]
     beats, halves, keeps = True, True, True
+    beats_mlp, halves_mlp = True, True
     for size, per in cells.items():
         for name, runs in per.items():
             m = {key: float(np.mean([r[key] for r in runs]))
@@ -259,8 +265,10 @@ def summarise(cells: dict[str, Any]) -> tuple[str, dict[str, bool]]:
             repaired = sum(bool(r["repaired"]) for r in runs)
             ratio = m["warm"] / m["random"] if m["random"] > 0 else float("inf")
             beats &= m["warm"] < m["random"]
+            beats_mlp &= m["warm"] < m["mlp"]
             if int(size) <= 300:
                 halves &= m["warm"] <= 0.5 * m["random"]
+                halves_mlp &= m["warm"] <= 0.5 * m["mlp"]
             keeps &= lost == 0
             peer = m["warm"] / m["mlp"] if m["mlp"] > 0 else float("inf")
             lines.append(
@@ -271,7 +279,9 @@ def summarise(cells: dict[str, Any]) -> tuple[str, dict[str, bool]]:
                 f"{m['mlp_seconds']:9.1f}")
     goals = {"warm beats random everywhere": beats,
              "warm <= half of random at <= 300 rows": halves,
-             "every correct rule kept": keeps}
+             "every correct rule kept": keeps,
+             "(beside the peer) warm beats the plain MLP everywhere": beats_mlp,
+             "(beside the peer) warm <= half of the plain MLP at <= 300 rows": halves_mlp}
     # not goals of their own, but what makes the three above meaningful
     cells_all = [(size, name, runs) for size, per in cells.items() for name, runs in per.items()]
     better = sum(np.mean([r["warm"] for r in runs]) < np.mean([r["rules"] for r in runs])
@@ -294,8 +304,25 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--sizes", default=",".join(map(str, SIZES)))
     ap.add_argument("--degradations", default=",".join(DEGRADATIONS))
     ap.add_argument("--workers", type=int, default=None, help="train's workers option")
+    ap.add_argument("--first-seed", type=int, default=0,
+                    help="seeds first-seed … first-seed + seeds − 1 (to split a run)")
     ap.add_argument("--json", metavar="FILE", help="also write every fold's figures")
+    ap.add_argument("--merge", nargs="+", metavar="JSON",
+                    help="print the table of earlier --json files together (no training)")
     args = ap.parse_args(argv)
+    if args.merge:
+        cells: dict[str, Any] = {}
+        for path in args.merge:
+            with open(path, encoding="utf-8") as fh:
+                for size, per in json.load(fh).items():
+                    for name, runs in per.items():
+                        cells.setdefault(size, {}).setdefault(name, []).extend(runs)
+        table, goals = summarise(cells)
+        print(f"merged {', '.join(args.merge)}")
+        print(table)
+        for goal, ok in goals.items():
+            print(f"goal: {goal}: {'yes' if ok else 'NO'}")
+        return 0
     k = args.folds or (3 if args.quick else 10)
     seeds = args.seeds or (1 if args.quick else 5)
     sizes = tuple(int(s) for s in args.sizes.split(","))
@@ -303,7 +330,7 @@ def main(argv: list[str] | None = None) -> int:
     print(f"hidden rules: {TRUE_RULES} ({NOISE:.0%} label noise); {k} folds × {seeds} seeds; "
           f"test error against the held-out fold's noisy labels")
     t0 = time.perf_counter()
-    cells = run(sizes, seeds, k, args.workers, names)
+    cells = run(sizes, seeds, k, args.workers, names, first_seed=args.first_seed)
     table, goals = summarise(cells)
     print(table)
     print(f"(kept: correct definitions whose read-back still agrees with the true rule on "

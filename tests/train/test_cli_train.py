@@ -120,3 +120,15 @@ def test_usage_errors(files, capsys):
     assert main(["train", net, data, "-o", str(tmp / "x.json"), "--freeze", "q", *FAST]) == 2
     assert "--freeze: no neuron named 'q'" in capsys.readouterr().err
     assert not (tmp / "x.json").exists()
+
+
+def test_random_baseline_width_from_the_command_line(files, capsys):
+    tmp, net, data = files
+    out = str(tmp / "cold.json")
+    assert main(["train", net, data, "-o", out, "--init", "random", "--hidden", "5",
+                 "--seed", "1", *FAST]) == 0
+    summary = capsys.readouterr().out
+    assert "one dense hidden layer of 5 units" in summary
+    trained = load(out)
+    assert trained.depth == 2 and sum(n.layer == 1 for n in trained.neurons) == 5
+    assert main(["train", net, data, "-o", str(tmp / "x.json"), "--hidden", "-1", *FAST]) == 2

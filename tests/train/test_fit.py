@@ -160,18 +160,63 @@ def test_anchor_pulls_toward_the_start():
     assert held.history[-1].penalty > 0 and free.history[-1].penalty == 0
 
 
-def test_random_init_same_architecture_and_anchor_is_weight_decay():
+def test_random_init_is_a_dense_one_hidden_layer_network_with_weight_decay():
     X, y = _data()
     kw = dict(seed=0, validation=0, weight=4.0)
     warm = train(RULES, X, y, epochs=1, anchor=0.0, **kw)
     cold = train(RULES, X, y, epochs=30, anchor=0.0, init="random", **kw)
-    assert [n.name for n in cold.network.neurons] == [n.name for n in warm.network.neurons]
-    assert [n.inputs for n in cold.network.neurons] == [n.inputs for n in warm.network.neurons]
+    net = cold.network
+    assert net.depth == 2 and net.inputs == RULES.inputs
+    hidden = [n for n in net.neurons if n.layer == 1]
+    # as many hidden units as the rule start has (it has 3 or 4 here), but at least 8
+    assert len(hidden) == max(8, sum(n.layer < warm.network.depth for n in warm.network.neurons))
+    assert all(n.inputs == net.inputs and n.origin is None for n in hidden)
+    last = [n for n in net.neurons if n.layer == 2]
+    assert all(n.inputs == tuple(h.name for h in hidden) for n in last)
+    assert [o.name for o in net.outputs] == ["y", "z"]
+    # the start: Glorot uniform (limit sqrt(6 / (fan_in + fan_out)), from memory), biases 0
+    s0 = [n for n in cold.start.neurons if n.layer == 1]
+    w0 = np.array([n.weights for n in s0])
+    assert np.abs(w0).max() <= np.sqrt(6 / (4 + len(hidden))) and np.abs(w0).max() > 0.3
+    assert all(n.bias == 0 for n in cold.start.neurons)
+    wide = train(RULES, X, y, epochs=1, anchor=0.0, init="random", hidden=20, **kw)
+    assert sum(n.layer == 1 for n in wide.network.neurons) == 20
+    # the anchor is weight decay toward 0 on the weights; biases are not decayed
     decayed = train(RULES, X, y, epochs=30, anchor=3.0, init="random", **kw)
-    zero = Network(cold.network.inputs,
-                   tuple(Neuron(n.name, n.layer, n.inputs, (0.0,) * len(n.inputs), 0.0)
-                         for n in cold.network.neurons), cold.network.outputs)
-    assert _distance(decayed.network, zero) < _distance(cold.network, zero)
+
+    def weights(r):
+        return sum(float(np.sum(np.square(n.weights))) for n in r.network.neurons)
+
+    assert weights(decayed) < 0.5 * weights(cold)
+    again = train(RULES, X, y, epochs=30, anchor=3.0, init="random", **kw)
+    assert dumps(again.network) == dumps(decayed.network)
+
+
+def test_random_dense_pull_decays_weights_but_not_biases():
+    s = prepare_start(RULES, rng=np.random.default_rng(0), init="random", hidden=5)
+    assert s.layout.sizes == (4, 5, 2)
+    assert all((g == 1).all() for g in s.pull_w) and all((g == 0).all() for g in s.pull_b)
+    assert all((t == 0).all() for t in s.target_weights)
+
+
+def test_rule_links_are_anchored_and_the_others_only_lightly():
+    from thresholdc.training.warmstart import LINK_PULL
+
+    s = prepare_start(RULES, rng=np.random.default_rng(0), widen=1)
+    soft = s.soft
+    for L, units in enumerate(s.layout.units):
+        prev = soft.inputs if L == 0 else s.layout.units[L - 1]
+        for r, name in enumerate(units):
+            reads = set(soft.neuron(name).inputs) if name in {n.name for n in soft.neurons} \
+                else set()
+            for c, src in enumerate(prev):
+                if src in reads:
+                    assert s.pull_w[L][r, c] == 1 and s.target_weights[L][r, c] == \
+                        s.weights[L][r, c]
+                else:
+                    assert s.pull_w[L][r, c] == LINK_PULL and s.target_weights[L][r, c] == 0
+            assert s.pull_b[L][r] == (1 if reads else LINK_PULL)
+    assert 0 < LINK_PULL < 1
 
 
 def test_early_stopping_keeps_the_best_validation_epoch():

@@ -55,8 +55,20 @@ def test_typed_literals_are_sums_of_one_hot_units_and_real_tests_are_units():
     assert real.weights == (4.0 / 20,) and real.bias == pytest.approx(-4.0 / 20 * 300)
     # colour in {red, green} is one literal: colour=red + colour=green (exactly 0 or 1)
     relays = {n.inputs[0]: n.name for n in net.neurons if n.role == "relay"}
-    assert w[relays["colour=red"]] == w[relays["colour=green"]] == 4.0
-    assert b == -(3 - 0.5) * 4.0
+    # y reads units, not inputs: each unit source s is read as (s - l)/(h - l) with
+    # h = σ(ω/2), l = 1 - h, so the weight is ω/(h - l) and the bias moves by -ω·l/(h - l)
+    h = 1 / (1 + np.exp(-2.0))
+    g = 4.0 / (2 * h - 1)
+    assert w[relays["colour=red"]] == pytest.approx(g)
+    assert w[relays["colour=green"]] == pytest.approx(g)
+    assert b == pytest.approx(-(3 - 0.5) * 4.0 - 4 * g * (1 - h))
+    plain = rule_network(prog, weight=4.0, soft_inputs=False)
+    assert _unit(plain, "y")[0][relays["colour=red"]] == 4.0
+    assert _unit(plain, "y")[1] == -(3 - 0.5) * 4.0
+    X = np.array([[r, 1 - r, 0, t, d] for r in (0, 1) for t in (0, 1000) for d in (0, 1)],
+                 dtype=float)
+    assert net.decide(X)[:, 0].tolist() == [bool(t and d) for _ in (0, 1) for t in (0, 1)
+                                            for d in (0, 1)]
     assert net.features[0]["units"] == ["colour=red", "colour=green", "colour=blue"]
 
 
@@ -97,3 +109,23 @@ def test_moderate_weight_start_can_fail_to_decide_deep_rules_and_says_so():
     low = start_tolerance(rule_network(src.program, weight=2.0), src)
     assert low["worst_error"] >= 0.5 and low["decides_rules"] is False
     assert start_tolerance(rule_network(src.program, weight=12.0), src)["decides_rules"]
+
+
+def test_deep_rules_at_moderate_weight_decide_as_written_with_soft_inputs_read_back():
+    # the refine benchmark's hidden rules (6 layers with relays) at ω = 4: reading every unit
+    # source at its typical soft value keeps each unit's decision; the plain construction,
+    # whose relays drift toward 0.7/0.3, gets many rows wrong
+    from tests.benchmark_modules import load_benchmark
+    from thresholdc.explain.columns import sample_rows, unit_rows
+    from thresholdc.logic.reference import evaluate_definitions
+
+    bench = load_benchmark("refine_bench")
+    src = bench.true_source()
+    C = sample_rows(src.program, 3000, np.random.default_rng(0))
+    X = unit_rows(src.program, C, src.inputs)
+    want = evaluate_definitions(src.program, C)["treat"]
+    ours = rule_network(src.program, weight=4.0).decide(X)[:, 0]
+    plain = rule_network(src.program, weight=4.0, soft_inputs=False).decide(X)[:, 0]
+    assert rule_network(src.program, weight=4.0).depth >= 5
+    assert (ours == want).mean() >= 0.999
+    assert (plain != want).mean() > 0.05

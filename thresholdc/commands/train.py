@@ -70,7 +70,8 @@ def register(subparsers: Any) -> None:
                    "(for the rule-structured start)")
     p.add_argument("--init", choices=CHOICES["init"], default=d.init,
                    help="rules: the rule-structured start; certified: the compiled network "
-                   "with certified sigmoid gains; random: random weights "
+                   "with certified sigmoid gains; random: the baseline without rules, one "
+                   "dense hidden layer from random weights "
                    f"(default {d.init})")
     p.add_argument("--weight", type=_auto_or_number, default=d.weight, metavar="auto|ω",
                    help="antecedent weight of the rule-structured start; auto: chosen by "
@@ -104,6 +105,9 @@ def register(subparsers: Any) -> None:
     p.add_argument("--widen", type=int, default=d.widen, metavar="K",
                    help="extra hidden units per hidden layer (role extra); adds a hidden layer "
                    "to a network without one (default 0)")
+    p.add_argument("--hidden", type=int, default=d.hidden, metavar="N",
+                   help="hidden units of the --init random baseline (one dense hidden "
+                   "layer); 0: as many as the start has hidden units (default 0)")
     p.add_argument("--freeze", default="", metavar="NAME,…",
                    help="rule neurons kept fixed, with every neuron they read")
     p.add_argument("--tolerance", type=float, default=d.tolerance, metavar="EPS",
@@ -142,7 +146,8 @@ def run(args: argparse.Namespace) -> int:
         init=args.init, weight=args.weight, anchor=args.anchor, loss=args.loss,
         optimizer=args.optimizer, epochs=args.epochs, patience=args.patience, folds=args.folds,
         validation=args.validation, workers=args.workers, widen=args.widen,
-        freeze=args.freeze, tolerance=args.tolerance, lr=args.lr, batch=args.batch,
+        hidden=args.hidden, freeze=args.freeze, tolerance=args.tolerance, lr=args.lr,
+        batch=args.batch,
         bound_time=args.bound_time, seed=args.seed,
     )
     net, source = _read_network(args)
@@ -182,7 +187,9 @@ def _start_line(result: TrainResult) -> str:
     elif result.init == "certified":
         start = f"compiled network, certified sigmoid gains (tolerance {fmt_num(o.tolerance)})"
     else:
-        start = "random weights"
+        width = sum(n.layer == 1 for n in result.network.neurons)
+        start = f"random weights, one dense hidden layer of {width} units"
+        return start
     if o.widen:
         start += f", {o.widen} extra units per hidden layer"
     if result.frozen:

@@ -5,9 +5,11 @@ The steps, in order (every choice in :class:`~thresholdc.training.options.TrainO
 1. the start: with the rule file at hand (given, or recorded in the network's ``meta.rules``
    by an earlier training run) the rule-structured start of
    :mod:`thresholdc.training.kbstart` for each ω tried; else, or with ``init="certified"``, the
-   compiled network with certified sigmoid gains; ``init="random"`` keeps the architecture
-   and draws every weight at random.  Made dense with small random links
-   (:func:`thresholdc.training.warmstart.prepare_start`; ``widen``, ``freeze``);
+   compiled network with certified sigmoid gains.  Made dense with small random links
+   (:func:`thresholdc.training.warmstart.prepare_start`; ``widen``, ``freeze``), the rules'
+   links anchored to their start and the others lightly decayed; ``init="random"`` is the
+   baseline without rules: a dense one-hidden-layer network (``hidden`` units, default the
+   start's hidden units) from Glorot-uniform weights, λ as plain weight decay;
 2. real inputs standardised by their declared range (:mod:`thresholdc.training.scaling`);
 3. the loss: cross-entropy for a sigmoid output layer, else mse;
 4. λ and ω: chosen by cross-validation along the λ path with early stopping on the held-out
@@ -174,6 +176,9 @@ def _unused(opt: TrainOptions, init: str, optimizer: str, searched: bool) -> lis
     if optimizer == "lbfgs":
         out += [f"{name} has no effect with the lbfgs optimizer (Adam and SGD only)"
                 for name in ("lr", "batch") if getattr(opt, name) != getattr(d, name)]
+    if init != "random" and opt.hidden != d.hidden:
+        out.append("hidden has no effect: it sets the width of the random baseline"
+                   " (--init random)")
     if init != "certified" and opt.tolerance != d.tolerance:
         out.append("tolerance has no effect: it sets the certified start (--init certified)")
     if searched and opt.validation != d.validation:
@@ -291,6 +296,7 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
         starts[w] = prepare_start(
             _standard_net(soft, shift, scale), rng=np.random.default_rng(seeds[0]),
             init="random" if init == "random" else "rules", widen=opt.widen, freeze=opt.freeze,
+            hidden=opt.hidden,
         )
     lay = starts[weights[0]].layout
     last = lay.activations[-1]
@@ -312,7 +318,7 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
         s = starts[w]
         mask = pack(s.masks_w, s.masks_b)
         p = Problem.of(lay.activations, Xfit, T, cols, loss, s.target_weights, s.target_biases,
-                       mask=mask, unit=w, threshold=threshold)
+                       mask=mask, unit=w, threshold=threshold, pull=pack(s.pull_w, s.pull_b))
         return p, pack(s.weights, s.biases)
 
     fit_options: dict[str, Any] = dict(
@@ -321,13 +327,28 @@ def _train(network: Network, X: Any, y: Any, outputs: Sequence[str] | None, rule
     grid: tuple[float, ...] = ANCHOR_GRID if opt.anchor == "auto" else (float(opt.anchor),)
     found: Search | None = None
     held: dict[str, Any] | None = None
-    if (len(grid) > 1 or len(weights) > 1) and len(X) >= 2 * opt.folds:
+    if init == "random" and len(grid) > 1 and len(X) >= 2 * opt.folds:
+        # Weight decay: every λ fitted on its own from the random start (a path from strong
+        # decay first shrinks the weights to the symmetric point near 0, which the weaker
+        # λ's early stopping does not leave).  Each λ is a "start" of the search whose anchor
+        # weights carry λ, fitted at λ = 1.
+        base, theta0 = problem(weights[0])
+        by_decay = {lam: (replace(base, pull=base.weights() * lam), theta0) for lam in grid}
+        raw = search(by_decay, grid=(1.0,), folds=opt.folds, rng=streams[2],
+                     workers=opt.workers, progress=progress, **fit_options)
+        w, lam = weights[0], raw.weight
+        p = by_decay[lam][0]
+        theta, history, best = final_path(p, theta0, raw, seed=opt.seed, **fit_options)
+        found = replace(raw, weight=w, anchor=lam, grid=(lam,), scores=tuple(
+            {**sc, "weight": w, "anchor": sc["weight"]} for sc in raw.scores))
+    elif (len(grid) > 1 or len(weights) > 1) and len(X) >= 2 * opt.folds:
         found = search({w: problem(w) for w in weights}, grid=grid, folds=opt.folds,
                        rng=streams[2], workers=opt.workers, progress=progress,
                        rules_alone=opt.anchor == "auto" and init != "random", **fit_options)
         w, lam = found.weight, found.anchor
         p, theta0 = problem(w)
         theta, history, best = final_path(p, theta0, found, seed=opt.seed, **fit_options)
+    if found is not None:
         held = {"rows": "folds", "start_error": found.start_error, "error": found.error,
                 "start_loss": found.start_loss, "loss": found.loss}
     else:

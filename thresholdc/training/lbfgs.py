@@ -1,9 +1,12 @@
 """One fit of the dense parameters: full-batch L-BFGS, or mini-batch Adam/SGD for big data.
 
 The objective is the data loss (a mean over rows, :func:`thresholdc.training.mlp.loss_and_grad`)
-plus the anchor ``(λ/2)·Σ((θ − θ_target)/ω)²`` over the trainable parameters (mask 1); frozen
-ones never move.  L-BFGS is scipy's ``L-BFGS-B`` with the analytic gradient of the numpy
-backpropagation; it is deterministic, so a fit depends only on its inputs.
+plus the anchor ``(λ/2)·Σ pullᵢ·((θᵢ − θ_targetᵢ)/ω)²`` over the trainable parameters (mask 1);
+frozen ones never move.  ``pull`` weighs the anchor per parameter: 1 on the rules' own links
+and biases, less on links the rules do not use (so training can add an antecedent while the
+rules stay anchored), 0 where nothing pulls (a random start's biases).  L-BFGS is scipy's
+``L-BFGS-B`` with the analytic gradient of the numpy backpropagation; it is deterministic, so
+a fit depends only on its inputs.
 
 Early stopping (when held-out rows are given): after every iteration (pass) the data loss on
 the held-out rows is measured; the parameters with the lowest one so far are kept (iteration 0,
@@ -42,8 +45,9 @@ __all__ = ["Problem", "Run", "fit"]
 class Problem:
     """Everything a fit needs except the starting point and λ.
 
-    ``target`` is what the anchor pulls toward, ``mask`` is 1 where a parameter trains, both
-    flat (all weights, then all biases, layer by layer); ``unit`` is ω.
+    ``target`` is what the anchor pulls toward, ``mask`` is 1 where a parameter trains,
+    ``pull`` the anchor's weight on each parameter, all flat (all weights, then all biases,
+    layer by layer); ``unit`` is ω.
     """
 
     activations: tuple[str, ...]
@@ -56,20 +60,45 @@ class Problem:
     mask: np.ndarray
     unit: float = 1.0
     threshold: float = 0.5
+    pull: np.ndarray | None = None
 
     @classmethod
     def of(cls, activations: Sequence[str], X: np.ndarray, T: np.ndarray, cols: np.ndarray,
            loss: str, weights: Sequence[np.ndarray], biases: Sequence[np.ndarray], *,
-           mask: np.ndarray | None = None, unit: float = 1.0, threshold: float = 0.5) -> Problem:
+           mask: np.ndarray | None = None, unit: float = 1.0, threshold: float = 0.5,
+           pull: np.ndarray | None = None) -> Problem:
         shapes = tuple(w.shape for w in weights)
         target = pack(weights, biases)
         m = np.ones_like(target) if mask is None else np.asarray(mask, dtype=float)
-        return cls(tuple(activations), X, T, cols, loss, shapes, target, m, unit, threshold)
+        g = None if pull is None else np.asarray(pull, dtype=float)
+        assert g is None or g.shape == target.shape
+        return cls(tuple(activations), X, T, cols, loss, shapes, target, m, unit, threshold, g)
 
     def rows(self, index: np.ndarray) -> Problem:
         """The same problem on a subset of the rows."""
         return Problem(self.activations, self.X[index], self.T[index], self.cols, self.loss,
-                       self.shapes, self.target, self.mask, self.unit, self.threshold)
+                       self.shapes, self.target, self.mask, self.unit, self.threshold,
+                       self.pull)
+
+    def weights(self) -> np.ndarray:
+        """The anchor's weight on each parameter: ``mask · pull`` (flat)."""
+        return self.mask if self.pull is None else self.mask * self.pull
+
+    def penalty(self, theta: np.ndarray, lam: float) -> tuple[float, np.ndarray]:
+        """The anchor term at ``theta`` for ``lam`` and its gradient.
+
+        >>> p = Problem((), np.zeros((1, 0)), np.zeros((1, 0)), np.zeros(0, int), "mse", (),
+        ...             np.zeros(2), np.ones(2), 2.0, 0.5, np.array([1.0, 0.25]))
+        >>> p.penalty(np.array([2.0, 2.0]), 4.0)
+        (2.5, array([2. , 0.5]))
+        """
+        k = lam / (self.unit * self.unit)
+        if not k:
+            return 0.0, np.zeros_like(theta)
+        g = self.weights()
+        d = theta - self.target
+        gd = k * g * d
+        return 0.5 * float(d @ gd), gd
 
     def unpack(self, theta: np.ndarray) -> tuple[list[np.ndarray], list[np.ndarray]]:
         W, b, k = [], [], 0
@@ -117,9 +146,9 @@ def _objective(p: Problem, lam: float) -> Callable[[np.ndarray], tuple[float, np
         value, gW, gb = loss_and_grad(W, b, p.activations, p.X, p.T, p.cols, p.loss)
         grad = pack(gW, gb)
         if k:
-            d = (theta - p.target) * p.mask
-            value += 0.5 * k * float(d @ d)
-            grad = grad + k * d
+            pen, gpen = p.penalty(theta, lam)
+            value += pen
+            grad = grad + gpen
         return value, grad * p.mask
 
     return f
@@ -153,8 +182,7 @@ def fit(
     k = lam / (p.unit * p.unit)
 
     def entry(i: int, theta: np.ndarray, total: float | None = None) -> Epoch:
-        d = (theta - p.target) * p.mask
-        pen = 0.5 * k * float(d @ d)
+        pen = p.penalty(theta, lam)[0]
         if light and (total is not None or held_out is not None):
             # no pass over the training rows: the loss from the optimizer (NaN at the start)
             loss, acc = (float("nan") if total is None else total - pen), float("nan")
@@ -169,11 +197,12 @@ def fit(
         W0, b0 = p.unpack(np.array(theta0, dtype=float))
         Wt, bt = p.unpack(p.target)
         Wm, bm = p.unpack(p.mask)
+        Wg, bg = p.unpack(p.weights())
         out = fit_params(
             W0, b0, p.activations, p.X, p.T, p.cols, rng=rng or np.random.default_rng(0),
             epochs=iterations, lr=lr, batch=batch, optimizer=optimizer, loss=p.loss, anchor=k,
             target=(Wt, bt), masks=(Wm, bm), validation=held_out, patience=patience,
-            threshold=p.threshold,
+            threshold=p.threshold, pull=(Wg, bg),
         )
         return Run(pack(out.weights, out.biases), out.best_epoch, out.history)
 

@@ -1,9 +1,10 @@
 """The training loop: mini-batch gradient steps (SGD or Adam) with an anchor and early stopping.
 
 Objective on a batch: the data loss (:func:`thresholdc.training.mlp.loss_and_grad`) plus
-``(λ/2)·Σ(θ − θ_target)²`` over every weight and bias, whose gradient is ``λ(θ − θ_target)``.
-Frozen parameters (mask 0) never move.  Each epoch visits the rows in a fresh order drawn from
-the given generator, so a run is reproducible from its seed.
+``(λ/2)·Σ g·(θ − θ_target)²`` over every weight and bias (``g``: the anchor's weight on each
+parameter, 1 unless given), whose gradient is ``λg(θ − θ_target)``.  Frozen parameters (mask 0)
+never move.  Each epoch visits the rows in a fresh order drawn from the given generator, so a
+run is reproducible from its seed.
 
 Early stopping (when a validation part is given): after every epoch the data loss on the
 validation part is measured; the parameters with the lowest one so far are kept (epoch 0, the
@@ -136,11 +137,15 @@ def _accuracy(P: np.ndarray, T: np.ndarray, threshold: float) -> float:
     return float(np.mean((P > threshold) == (T > threshold)))
 
 
-def _penalty(params: Sequence[np.ndarray], target: Sequence[np.ndarray], lam: float) -> float:
-    """``(λ/2)·Σ(θ − θ_target)²``."""
+def _penalty(params: Sequence[np.ndarray], target: Sequence[np.ndarray], lam: float,
+             weigh: Sequence[np.ndarray] | None = None) -> float:
+    """``(λ/2)·Σ g·(θ − θ_target)²`` (``g`` = ``weigh``, default 1)."""
     if lam == 0.0:
         return 0.0
-    return 0.5 * lam * float(sum(np.sum((p - t) ** 2) for p, t in zip(params, target, strict=True)))
+    if weigh is None:
+        weigh = [np.ones_like(p) for p in params]
+    return 0.5 * lam * float(sum(np.sum(g * (p - t) ** 2)
+                                 for p, t, g in zip(params, target, weigh, strict=True)))
 
 
 def _bar(total: int, desc: str, progress: bool) -> Any:
@@ -167,6 +172,7 @@ def fit_params(
     anchor: float = 0.0,
     target: tuple[Sequence[np.ndarray], Sequence[np.ndarray]] | None = None,
     masks: tuple[Sequence[np.ndarray], Sequence[np.ndarray]] | None = None,
+    pull: tuple[Sequence[np.ndarray], Sequence[np.ndarray]] | None = None,
     validation: tuple[np.ndarray, np.ndarray] | None = None,
     patience: int = 30,
     threshold: float = 0.5,
@@ -177,7 +183,8 @@ def fit_params(
     """Train the dense parameters on ``(X, T)``; returns new arrays (the inputs are copied).
 
     ``target`` is what the anchor pulls toward (default: the starting values), ``masks`` are
-    1 for trainable and 0 for frozen entries (default: all trainable).  ``callback(epoch, W, b)``
+    1 for trainable and 0 for frozen entries (default: all trainable), ``pull`` weighs the
+    anchor per entry (default: 1 everywhere).  ``callback(epoch, W, b)``
     is called after every epoch (and for epoch 0) with the current parameters.
     """
     W = [np.array(w, dtype=float) for w in weights]
@@ -190,6 +197,9 @@ def fit_params(
     mask = None
     if masks is not None:
         mask = [np.asarray(m, dtype=float) for m in list(masks[0]) + list(masks[1])]
+    weigh = None
+    if pull is not None:
+        weigh = [np.asarray(g, dtype=float) for g in list(pull[0]) + list(pull[1])]
     opt = make_optimizer(optimizer, lr)
     L = len(W)
     n = len(X)
@@ -197,7 +207,8 @@ def fit_params(
 
     def record(epoch: int) -> Epoch:
         train_loss, P = data_loss(W, b, activations, X, T, cols, loss)
-        entry = Epoch(epoch, train_loss, _penalty(params, goal, anchor), _accuracy(P, T, threshold))
+        entry = Epoch(epoch, train_loss, _penalty(params, goal, anchor, weigh),
+                      _accuracy(P, T, threshold))
         if validation is not None:
             vl, VP = data_loss(W, b, activations, validation[0], validation[1], cols, loss)
             entry = Epoch(entry.epoch, entry.loss, entry.penalty, entry.accuracy,
@@ -217,7 +228,10 @@ def fit_params(
                 rows = order[start : start + batch]
                 _, gW, gb = loss_and_grad(W, b, activations, X[rows], T[rows], cols, loss)
                 grads = gW + gb
-                if anchor:
+                if anchor and weigh is not None:
+                    pulls4 = zip(grads, params, goal, weigh, strict=True)
+                    grads = [g + anchor * w * (p - t) for g, p, t, w in pulls4]
+                elif anchor:
                     pulls = zip(grads, params, goal, strict=True)
                     grads = [g + anchor * (p - t) for g, p, t in pulls]
                 if mask is not None:

@@ -61,8 +61,9 @@ class TrainOptions:
     init : {"rules", "certified", "random"}
         ``rules``: the rule-structured start (one unit per definition and per and/or term,
         weights ±ω, see :mod:`thresholdc.training.kbstart`); ``certified``: the compiled
-        network with certified sigmoid gains (``tolerance``); ``random``: the same
-        architecture with random weights (the baseline).
+        network with certified sigmoid gains (``tolerance``); ``random``:
+        the baseline without rules, a dense network with one hidden layer of ``hidden``
+        sigmoid units from Glorot-uniform weights, λ acting as weight decay toward 0.
     weight : "auto" or float
         ω of the rule-structured start; ``auto`` chooses it from :data:`WEIGHT_GRID` by
         cross-validation together with λ.
@@ -86,6 +87,9 @@ class TrainOptions:
         Processes the cross-validation runs in (results do not depend on it).
     widen : int
         Extra hidden units per hidden layer (role ``extra``).
+    hidden : int
+        Hidden units of the ``random`` baseline; 0: as many as the start it stands in for has
+        hidden units (at least 8).
     freeze : tuple of str
         Rule neurons kept fixed, with every neuron they read.
     tolerance : float
@@ -112,6 +116,7 @@ class TrainOptions:
     validation: float = 0.2
     workers: int = 2
     widen: int = 0
+    hidden: int = 0
     freeze: tuple[str, ...] = ()
     tolerance: float = 0.25
     lr: float | None = None
@@ -124,7 +129,7 @@ class TrainOptions:
         for name, choices in CHOICES.items():
             if getattr(self, name) not in choices:
                 raise _bad(name, f"one of {', '.join(choices)}", getattr(self, name))
-        for name in ("epochs", "seed", "widen"):
+        for name in ("epochs", "seed", "widen", "hidden"):
             v = getattr(self, name)
             if not _is_int(v) or v < 0:
                 raise _bad(name, "a whole number ≥ 0", v)

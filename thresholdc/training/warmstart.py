@@ -15,8 +15,14 @@ The recipe:
 4. ``freeze`` keeps chosen rule neurons fixed, together with every neuron they read
    (transitively, along the rules' links), and without random links into them: a frozen
    neuron computes exactly what it computed before training.
-5. ``init="random"`` keeps the architecture but draws every weight at random (Glorot uniform,
-   biases 0); the anchor then pulls toward 0 (weight decay).
+5. The anchor's weight on each parameter (``pull``): 1 on the rules' links and biases (pulled
+   toward their start values), :data:`LINK_PULL` on the links the rules do not use and on the
+   extra units (pulled toward 0, a light weight decay), so training can add an antecedent the
+   rules lack while the rules themselves stay anchored.
+6. ``init="random"`` is the baseline a practitioner would train without rules: a dense network
+   with one hidden layer of sigmoid units (``hidden`` of them; default as many as the start has
+   hidden units, at least :data:`MIN_HIDDEN`), Glorot-uniform weights, zero biases, and the
+   anchor as plain weight decay toward 0 on the weights (biases not decayed).
 
 >>> import numpy as np
 >>> from thresholdc.ir.network import Network, Neuron, Output
@@ -40,9 +46,17 @@ from ..ir.network import Network, Neuron, Output
 from ..network import apply_activation
 from .mlp import Layout
 
-__all__ = ["LINK_SCALE", "INITS", "Start", "soft_network", "prepare_start", "frozen_closure"]
+__all__ = ["LINK_SCALE", "LINK_PULL", "MIN_HIDDEN", "INITS", "Start", "soft_network",
+           "prepare_start", "frozen_closure", "random_dense"]
 
+#: Links the rules do not use start uniform in ±LINK_SCALE.
 LINK_SCALE = 0.05
+#: The anchor's weight on those links and on extra units (toward 0); the rules' own links and
+#: biases have weight 1 (toward their start).  Adding one antecedent of weight ω then costs
+#: a tenth of what moving a rule weight by ω costs.
+LINK_PULL = 0.1
+#: The random baseline's hidden layer has at least this many units (common practice).
+MIN_HIDDEN = 8
 INITS = ("rules", "random")
 _TRAINABLE = ("sigmoid", "tanh", "relu", "linear")
 
@@ -52,8 +66,9 @@ class Start:
     """The starting point of a training run.
 
     ``weights``/``biases`` are the start values (θ_start); ``target_weights``/``target_biases``
-    are what the anchor pulls toward (θ_start for ``rules``, zeros for ``random``);
-    ``masks_w``/``masks_b`` are 1 where a parameter trains and 0 where it is frozen.
+    are what the anchor pulls toward (θ_start on the rules' links, 0 elsewhere);
+    ``masks_w``/``masks_b`` are 1 where a parameter trains and 0 where it is frozen;
+    ``pull_w``/``pull_b`` the anchor's weight on each parameter (module docstring, item 5).
     """
 
     layout: Layout
@@ -65,6 +80,8 @@ class Start:
     masks_b: list[np.ndarray]
     frozen: tuple[str, ...]
     soft: Network
+    pull_w: list[np.ndarray]
+    pull_b: list[np.ndarray]
 
     def network(self) -> Network:
         """The dense starting network."""
@@ -187,6 +204,50 @@ def frozen_closure(net: Network, names: Sequence[str]) -> tuple[str, ...]:
     return tuple(n.name for n in net.neurons if n.name in seen)
 
 
+def random_dense(
+    soft: Network, *, rng: np.random.Generator, hidden: int,
+    input_scale: np.ndarray | None = None,
+) -> tuple[Layout, list[np.ndarray], list[np.ndarray]]:
+    """The random baseline's layout and parameters: the inputs and outputs of ``soft``, one
+    dense hidden layer of ``hidden`` sigmoid units (role ``extra``, names ``hidden~k``),
+    Glorot-uniform weights (Glorot & Bengio 2010, from memory), zero biases.  The output
+    units keep the names and activation of ``soft``'s last layer, one per output source.
+
+    >>> import numpy as np
+    >>> from thresholdc.ir.network import Network, Neuron, Output
+    >>> net = Network(("a", "b"), (Neuron("y", 1, ("a", "b"), (4.0, 4.0), -6.0, "sigmoid"),),
+    ...               (Output("y", "y"),))
+    >>> lay, W, b = random_dense(net, rng=np.random.default_rng(0), hidden=3)
+    >>> lay.sizes, lay.activations, [w.shape for w in W], float(np.abs(b[0]).sum())
+    ((2, 3, 1), ('sigmoid', 'sigmoid'), [(3, 2), (1, 3)], 0.0)
+    """
+    if hidden < 1:
+        raise UsageError("the random baseline needs at least one hidden unit")
+    last = Layout.of(soft)
+    by_name = {n.name: n for n in soft.neurons}
+    sources = list(dict.fromkeys(o.source for o in soft.outputs))
+    bad = [u for u in sources if u not in by_name]
+    if bad:
+        raise UsageError(f"output {bad[0]!r} reads an input directly; nothing to train")
+    taken = set(soft.inputs) | set(sources)
+    names = tuple(_unique(f"hidden~{k + 1}", taken) for k in range(hidden))
+    layout = replace(
+        last,
+        units=(names, tuple(sources)),
+        roles=(("extra",) * hidden, tuple(by_name[u].role for u in sources)),
+        origins=((None,) * hidden, tuple(by_name[u].origin for u in sources)),
+        activations=("sigmoid", last.activations[-1]),
+    )
+    W, b = [], []
+    for n_in, n_out in zip(layout.sizes[:-1], layout.sizes[1:], strict=True):
+        limit = math.sqrt(6.0 / (n_in + n_out))
+        W.append(rng.uniform(-limit, limit, size=(n_out, n_in)))
+        b.append(np.zeros(n_out))
+    if input_scale is not None:
+        W[0] = W[0] / np.asarray(input_scale, dtype=float)[None, :]
+    return layout, W, b
+
+
 def prepare_start(
     network: Network,
     *,
@@ -196,6 +257,7 @@ def prepare_start(
     freeze: Sequence[str] = (),
     tolerance: float = 0.01,
     input_scale: Sequence[float] | None = None,
+    hidden: int = 0,
 ) -> Start:
     """The dense starting point for training ``network`` (a new object; ``network`` unchanged).
 
@@ -206,6 +268,8 @@ def prepare_start(
     rng : numpy.random.Generator
         Draws the small random weights (and, for ``init="random"``, every weight).
     init : {"rules", "random"}
+        ``random``: the dense one-hidden-layer baseline (:func:`random_dense`) in place of
+        ``network``'s architecture.
     widen : int
         Extra hidden units per hidden layer.
     freeze : sequence of str
@@ -216,6 +280,9 @@ def prepare_start(
         The typical size of each input unit (1 for Boolean and one-hot units; for a real unit,
         say, its largest absolute value in the data).  Random weights from a unit are divided
         by it, so that a link the rules do not use stays small for real-valued inputs too.
+    hidden : int
+        Hidden units of the random baseline (0: as many as the start has hidden units, at
+        least :data:`MIN_HIDDEN`).
 
     Returns
     -------
@@ -228,6 +295,8 @@ def prepare_start(
     >>> s = prepare_start(step, rng=np.random.default_rng(1))
     >>> s.weights[0].shape, bool(abs(s.weights[0][0, 1]) < 0.25), bool(s.weights[0][0, 0] > 5)
     ((1, 2), True, True)
+    >>> s.pull_w[0].tolist(), float(s.target_weights[0][0, 1])
+    ([[1.0, 0.1]], 0.0)
     """
     if init not in INITS:
         raise UsageError(f"unknown --init {init!r}; choose one of {', '.join(INITS)}")
@@ -245,6 +314,7 @@ def prepare_start(
 
     # 2. dense: random small weights on every link the rules do not use (not into frozen rows)
     prev = list(soft.inputs)
+    uses = []
     for L, units in enumerate(layout.units):
         col = {u: i for i, u in enumerate(prev)}
         used = np.zeros(W[L].shape, dtype=bool)
@@ -255,7 +325,9 @@ def prepare_start(
         rows_frozen = np.array([u in frozen_set for u in units], dtype=bool)
         fill = ~used & ~rows_frozen[:, None]
         W[L] = np.where(fill, noise, W[L])
+        uses.append(used | rows_frozen[:, None])
         prev = list(units)
+    rule_b = [np.ones(len(u), dtype=bool) for u in layout.units]
 
     # 3. widen every hidden layer by `widen` extra units
     units = [list(u) for u in layout.units]  # type: ignore[assignment]
@@ -270,11 +342,14 @@ def prepare_start(
             if L == 0:
                 incoming = incoming * per_column[0][None, :]
             W[L] = np.vstack([W[L], incoming])
+            uses[L] = np.vstack([uses[L], np.zeros(incoming.shape, dtype=bool)])
             b[L] = np.concatenate([b[L], rng.uniform(-LINK_SCALE, LINK_SCALE, size=widen)])
+            rule_b[L] = np.concatenate([rule_b[L], np.zeros(widen, dtype=bool)])
             out = rng.uniform(-LINK_SCALE, LINK_SCALE, size=(W[L + 1].shape[0], widen))
             rows_frozen = np.array([u in frozen_set for u in units[L + 1]], dtype=bool)
             out[rows_frozen] = 0.0
             W[L + 1] = np.hstack([W[L + 1], out])
+            uses[L + 1] = np.hstack([uses[L + 1], np.zeros(out.shape, dtype=bool)])
             units[L] += names  # type: ignore[index, operator]
             roles[L] += ["extra"] * widen
             origins[L] += [None] * widen
@@ -285,6 +360,15 @@ def prepare_start(
             origins=tuple(map(tuple, origins)),
         )
 
+    # 6. random init: the dense one-hidden-layer baseline, weights decayed toward 0
+    if init == "random":
+        width = hidden or max(MIN_HIDDEN, sum(len(u) for u in units[:-1]))
+        layout, W, b = random_dense(soft, rng=rng, hidden=width, input_scale=scale)
+        ones_w = [np.ones_like(w) for w in W]
+        return Start(layout, W, b, [np.zeros_like(w) for w in W],
+                     [np.zeros_like(x) for x in b], ones_w, [np.ones_like(x) for x in b], (),
+                     soft, [np.ones_like(w) for w in W], [np.zeros_like(x) for x in b])
+
     masks_w = []
     masks_b = []
     for L, names in enumerate(units):  # type: ignore[assignment]
@@ -292,18 +376,10 @@ def prepare_start(
         masks_w.append(np.repeat(free[:, None], W[L].shape[1], axis=1))
         masks_b.append(free)
 
-    # 5. random init: the same shapes, Glorot uniform weights, zero biases, anchored at 0
-    if init == "random":
-        for L in range(len(W)):
-            n_out, n_in = W[L].shape
-            limit = math.sqrt(6.0 / (n_in + n_out))  # Glorot & Bengio 2010, from memory
-            W[L] = rng.uniform(-limit, limit, size=(n_out, n_in))
-            if L == 0:
-                W[L] = W[L] / scale[None, :]
-            b[L] = np.zeros(n_out)
-        target_w = [np.zeros_like(w) for w in W]
-        target_b = [np.zeros_like(x) for x in b]
-    else:
-        target_w = [w.copy() for w in W]
-        target_b = [x.copy() for x in b]
-    return Start(layout, W, b, target_w, target_b, masks_w, masks_b, frozen, soft)
+    # 5. the anchor: rule links and biases toward their start, the rest lightly toward 0
+    target_w = [np.where(u, w, 0.0) for u, w in zip(uses, W, strict=True)]
+    target_b = [np.where(r, x, 0.0) for r, x in zip(rule_b, b, strict=True)]
+    pull_w = [np.where(u, 1.0, LINK_PULL) for u in uses]
+    pull_b = [np.where(r, 1.0, LINK_PULL) for r in rule_b]
+    return Start(layout, W, b, target_w, target_b, masks_w, masks_b, frozen, soft, pull_w,
+                 pull_b)
