@@ -142,3 +142,26 @@ def test_a_failed_compile_leaves_an_existing_output_alone(tmp_path, capsys):
     assert code == 2 and err.startswith("thresholdc: error: ")
     assert out.read_bytes() == before
     assert sorted(os.listdir(tmp_path)) == ["n.json", "r.rules"]
+
+
+@pytest.mark.parametrize(
+    "raw,line,column,source_line",
+    [
+        (b"input a, b\ny = \xff a\n", 2, 5, "y = \ufffd a"),
+        (b"\xef\xbb\xbfinput a, \xc3\xa9\xfe\r\ny = a\r\n", 1, 11, "input a, \u00e9\ufffd"),
+        (b"input a\ny = a # caf\xe9\n", 2, 12, "y = a # caf\ufffd"),
+    ],
+    ids=["bad_byte", "after_bom_and_two_byte_char", "latin1_in_comment"],
+)
+def test_a_file_that_is_not_utf8_names_line_and_column(tmp_path, capsys, raw, line, column,
+                                                         source_line):
+    # DESIGN.md §3: rule files are UTF-8 text; the error has the FILE:LINE:COL form, the source
+    # line (bad bytes shown as U+FFFD) and a caret under the first bad byte (columns in
+    # characters, a byte-order mark not counted)
+    src = tmp_path / "bad.rules"
+    src.write_bytes(raw)
+    code, stdout, err = run(capsys, "compile", str(src), "-o", str(tmp_path / "x.json"))
+    assert code == 2 and stdout == ""
+    assert err.splitlines() == [f"thresholdc: error: {src}:{line}:{column}: not UTF-8 text",
+                                source_line, " " * (column - 1) + "^"]
+    assert sorted(os.listdir(tmp_path)) == ["bad.rules"]
