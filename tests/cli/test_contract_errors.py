@@ -150,8 +150,11 @@ def test_a_failed_compile_leaves_an_existing_output_alone(tmp_path, capsys):
         (b"input a, b\ny = \xff a\n", 2, 5, "y = \ufffd a"),
         (b"\xef\xbb\xbfinput a, \xc3\xa9\xfe\r\ny = a\r\n", 1, 11, "input a, \u00e9\ufffd"),
         (b"input a\ny = a # caf\xe9\n", 2, 12, "y = a # caf\ufffd"),
+        (b"input a\ry = \xff a\rz = a\r", 2, 5, "y = \ufffd a"),  # bare CR line ends
+        (b"input a\r\n\r\ny = a\xfe\r\n", 3, 6, "y = a\ufffd"),
     ],
-    ids=["bad_byte", "after_bom_and_two_byte_char", "latin1_in_comment"],
+    ids=["bad_byte", "after_bom_and_two_byte_char", "latin1_in_comment", "bare_cr_lines",
+         "crlf_lines"],
 )
 def test_a_file_that_is_not_utf8_names_line_and_column(tmp_path, capsys, raw, line, column,
                                                          source_line):
