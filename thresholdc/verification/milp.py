@@ -332,7 +332,7 @@ class _Builder:
         for j, pieces in sets.items():
             if j not in self.pieces:
                 continue
-            out = []
+            out: list[tuple[float, float]] = []
             for lo, hi in pieces:
                 pts = sorted({lo, hi} | {b for b in _START_BREAKS if lo < b < hi and b != 0})
                 out.extend(zip(pts[:-1], pts[1:]) if len(pts) > 1 else [(lo, hi)])

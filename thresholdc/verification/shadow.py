@@ -55,7 +55,7 @@ SMOOTH = ("sigmoid", "tanh")
 #: Margin the bounds of HiGHS are moved outward by (relative and absolute).
 _MARGIN = 1e-7
 #: Seconds for one unit's side (a unit not proven in it is left unproven).
-_UNIT_SECONDS = 5.0
+_UNIT_SECONDS = 10.0
 #: HiGHS stops a unit's MILP once its bound is this close to the best point (only the
 #: bound's side of ±τ matters).
 _REL_GAP = 0.5
@@ -148,11 +148,16 @@ def prove_shadow(net: Network, source: Any, domain: Domain, *, time_limit: float
     st = _State(net, domain)
     bar = progress_bars.bar(len(net.neurons), "shadow", unit="unit", show=progress)
     try:
+        failed: set[int] = set()
         for layer in st.lb.layers:
             if time.perf_counter() - t0 >= time_limit:
                 proof.stopped = f"time limit {time_limit:g} s reached"
                 break
             _prove_layer(st, layer.tolist(), t0 + time_limit, proof, bar)
+            failed |= {j for j in layer.tolist() if not st.units[j].proven}
+            if failed and all(_reads_any(net, k, failed) for k in range(len(net.outputs))):
+                proof.stopped = "every output reads a unit not proven"
+                break
     finally:
         bar.close()
     proof.proven = {j for j, u in enumerate(st.units) if u.proven}
@@ -163,6 +168,21 @@ def prove_shadow(net: Network, source: Any, domain: Domain, *, time_limit: float
 
 
 _WORKER_STATE: Any = None
+
+
+def _reads_any(net: Network, output: int, units: set[int]) -> bool:
+    """True when output ``output`` depends on one of the neurons ``units``."""
+    pos = {n.name: j for j, n in enumerate(net.neurons)}
+    todo, seen = [net.outputs[output].source], set()
+    while todo:
+        j = pos.get(todo.pop())
+        if j is None or j in seen:
+            continue
+        if j in units:
+            return True
+        seen.add(j)
+        todo.extend(net.neurons[j].inputs)
+    return False
 
 
 def _prove_in_worker(j: int, t_end: float) -> tuple[int, Any, dict[int, dict[int, list[float]]],
@@ -308,26 +328,26 @@ class _State:
         y, ya = info["y"][j]
         values = (1, 0) if y is not None else ((1,) if ya[1] > self.low else (0,))
         for value in values:
+            best: float | None | bool = False  # the strongest sound bound so far
             for _ in range(_REFINE_ROUNDS + 1):
                 left = min(t_end - time.perf_counter(), _UNIT_SECONDS)
                 if left <= 0:
-                    return
+                    break
                 y = info["y"][j][0]  # variable numbers change as pieces are cut
                 g, x = _side(m, info["z"][j], y, value, left, proof)
-                if g is False:
-                    if x is None or not self._refine(j, x, info):
-                        return
-                elif g is not None and abs(g) < _STRONG and x is not None and \
-                        self._refine(j, x, info):
-                    pass  # a weak bound at a spurious point: refine and bound again
-                else:
-                    u.sides[value] = g
+                if g is None:  # that side never happens
+                    best = None
                     break
+                if g is not False and (best is False or abs(g) > abs(best)):  # type: ignore
+                    best = g
+                if best is not False and abs(best) >= _STRONG:  # type: ignore[arg-type]
+                    break
+                if x is None or not self._refine(j, x, info):
+                    break  # the point found is the network's: no better bound here
                 m, info = self.build(j)
-            else:
-                if g is False:
-                    return
-                u.sides[value] = g
+            if best is False:
+                return
+            u.sides[value] = best
         u.proven = len(u.sides) == len(values)
 
     def _refine(self, j: int, x: np.ndarray, info: dict[str, Any]) -> bool:

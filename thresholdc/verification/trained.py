@@ -159,7 +159,8 @@ def _complete(network: Network, source: Any, *, max_nodes: int, time_limit: floa
                              proofs=proofs + rest.proofs,
                              notes=list(dict.fromkeys(notes + rest.notes)),
                              seconds=time.perf_counter() - t0)
-    report = _complete_soft(network, source, max_nodes=max_nodes, time_limit=time_limit,
+    left = max(time_limit - (time.perf_counter() - t0), 0.0)
+    report = _complete_soft(network, source, max_nodes=max_nodes, time_limit=left,
                             progress=progress)
     report.seconds = time.perf_counter() - t0
     return report

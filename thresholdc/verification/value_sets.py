@@ -40,7 +40,8 @@ _ABS = 1e-12
 MAX_INTERVALS = 1024
 
 
-def merge_intervals(lo: np.ndarray, hi: np.ndarray, max_intervals: int) -> tuple[np.ndarray, ...]:
+def merge_intervals(lo: np.ndarray, hi: np.ndarray,
+                    max_intervals: int) -> tuple[np.ndarray, np.ndarray]:
     """The union of intervals ``[lo_i, hi_i]``, sorted and disjoint, with at most
     ``max_intervals`` of them (the smallest gaps closed first); contains every input interval.
 
