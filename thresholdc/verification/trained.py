@@ -6,9 +6,14 @@ inputs, a few seconds at most) settles the outputs it finds a counterexample for
 
 * step, ReLU and linear neurons only: the MILP (:mod:`thresholdc.verification.milp`), exact up to
   HiGHS's floating-point verdicts;
-* sigmoid or tanh: first the MILP with sound piecewise-linear envelopes of the activations
-  (three quarters of the time), then, for the outputs still open, the relaxation
-  branch-and-bound (:mod:`thresholdc.verification.relax`) in the rest.
+* sigmoid or tanh only: first the step-shadow proof
+  (:mod:`thresholdc.verification.shadow`, at most 60% of the time): where every unit an output
+  reads is proven to have the sign of the same network with step activations, that output is
+  decided by the exact MILP of the step network (counterexamples re-checked on the network
+  itself);
+* then, for any other smooth network and the outputs still open, the MILP with sound
+  piecewise-linear envelopes of the activations (three quarters of the time left), then the
+  relaxation branch-and-bound (:mod:`thresholdc.verification.relax`) in the rest.
 
 >>> from thresholdc.compiler import compile_rules
 >>> from thresholdc.logic.source import source_from_text
