@@ -44,7 +44,7 @@ import numpy as np
 from .. import progress as progress_bars
 from ..ir import activations as act
 from ..ir.network import Network
-from .domain import Domain
+from .domain import Domain, network_rows
 from .linear_bounds import LinearBounder, activation_lines
 from .milp_model import Affine, Model
 from .value_sets import form_values
@@ -63,6 +63,8 @@ _REL_GAP = 0.5
 _REFINE_ROUNDS = 3
 #: A side bound at least this far from 0 is kept without refining.
 _STRONG = 3.0
+#: … or when a valid input's z is this close (relatively) to it.
+_CLOSE = 0.25
 #: Worker processes for the units of one layer (the target machine has two cores).
 _WORKERS = 2
 
@@ -207,10 +209,12 @@ def _prove_layer(st: _State, layer: list[int], t_end: float, proof: ShadowProof,
     import multiprocessing as mp
 
     heavy = [j for j in layer if st.lb.W_n[j].any()]
+    st.cache = (max(heavy), *st.build(max(heavy))) if heavy else None
     if len(heavy) < 4 or "fork" not in mp.get_all_start_methods() or _WORKERS < 2:
         for j in layer:
             st.prove(j, t_end, proof)
             bar.update(1)
+        st.cache = None
         return
     for j in layer:
         if j not in heavy:
@@ -231,6 +235,7 @@ def _prove_layer(st: _State, layer: list[int], t_end: float, proof: ShadowProof,
                 bar.update(1)
     finally:
         _WORKER_STATE = None
+        st.cache = None
 
 
 @dataclass
@@ -266,6 +271,8 @@ class _State:
         self.col = {u: i for i, u in enumerate(net.inputs)}
         self.pos = {n.name: j for j, n in enumerate(net.neurons)}
         self.units = [_Unit() for _ in net.neurons]
+        #: ``(upto, model, info)`` of the current layer, built once for all its units.
+        self.cache: tuple[int, Model, dict[str, Any]] | None = None
 
     def build(self, upto: int) -> tuple[Model, dict[str, Any]]:
         """The model of units ``0 … upto`` (the last one without its tie rows)."""
@@ -324,7 +331,10 @@ class _State:
                        0: float(below.max()) if below.size else None}
             u.proven = True
             return
-        m, info = self.build(j)
+        if self.cache is not None and self.cache[0] >= j:
+            m, info = self.cache[1], self.cache[2]  # the layer's model (mark/undo keep it)
+        else:
+            m, info = self.build(j)
         y, ya = info["y"][j]
         values = (1, 0) if y is not None else ((1,) if ya[1] > self.low else (0,))
         for value in values:
@@ -342,6 +352,9 @@ class _State:
                     best = g
                 if best is not False and abs(best) >= _STRONG:  # type: ignore[arg-type]
                     break
+                if best is not False and x is not None and best is not None and \
+                        abs(self._true_z(j, x, info) - best) <= _CLOSE * max(abs(best), 1.0):
+                    break  # a valid input comes close to the bound: cutting cannot help much
                 if x is None or not self._refine(j, x, info):
                     break  # the point found is the network's: no better bound here
                 m, info = self.build(j)
@@ -349,6 +362,27 @@ class _State:
                 return
             u.sides[value] = best
         u.proven = len(u.sides) == len(values)
+
+    def _true_z(self, j: int, x: np.ndarray, info: dict[str, Any]) -> float:
+        """Unit ``j``'s true ``z`` at the valid input whose choices the model point ``x``
+        has (its reals moved into their pieces)."""
+        d = self.domain
+        colvar = info["colvar"]
+        choice = np.array([[int(np.argmax([x[colvar[int(self.lb.offsets[k]) + c]]
+                                           for c in range(f.size)]))
+                            for k, f in enumerate(d.discrete)]], dtype=np.int64)
+        from .milp import _into
+
+        reals = np.array([[_into(float(x[colvar[self.lb.n_choices + k]]), f.pieces)
+                           for k, f in enumerate(d.continuous)]])
+        X = d.unit_rows(choice, reals if d.continuous else None)
+        row = network_rows(self.net, d, X)[0].astype(float)
+        values = dict(zip(self.net.inputs, row.tolist()))
+        z = 0.0
+        for n in self.net.neurons[:j + 1]:
+            z = float(n.bias) + sum(float(w) * values[i] for i, w in zip(n.inputs, n.weights))
+            values[n.name] = float(act.get(n.activation).forward(np.array(z)))
+        return z
 
     def _refine(self, j: int, x: np.ndarray, info: dict[str, Any]) -> bool:
         """Cut the side pieces of earlier units where ``x`` (a point of the model at which

@@ -145,7 +145,15 @@ def _complete(network: Network, source: Any, *, max_nodes: int, time_limit: floa
         return report
     if kinds <= set(SMOOTH):
         shadowed = _via_shadow(network, source, time_limit=time_limit, progress=progress)
-        if shadowed is not None:
+        if isinstance(shadowed, str):  # no output covered: say how far the proof got
+            left = max(time_limit - (time.perf_counter() - t0), 0.0)
+            rest = _complete_soft(network, source, max_nodes=max_nodes, time_limit=left,
+                                  progress=progress)
+            rest.outputs = [replace(o, bound=f"{shadowed}; {o.bound}")
+                            if o.verdict == "undecided" else o for o in rest.outputs]
+            rest.seconds = time.perf_counter() - t0
+            return rest
+        else:
             done, notes, proofs = shadowed
             open_names = [o.name for o in network.outputs if o.name not in done]
             left = time_limit - (time.perf_counter() - t0)
@@ -173,17 +181,20 @@ def _complete(network: Network, source: Any, *, max_nodes: int, time_limit: floa
 
 def _via_shadow(network: Network, source: Any, *, time_limit: float,
                 progress: bool | None) -> tuple[dict[str, OutputReport], list[str],
-                                                list[str]] | None:
+                                                list[str]] | str:
     """Decide the outputs whose units are all proven to decide as the step shadow's
     (:func:`~thresholdc.verification.shadow.prove_shadow`) by the MILP of the shadow, each
-    point re-checked on the network itself.  None when no output is covered."""
+    point re-checked on the network itself.  When no output is covered, the bound the proof
+    reached (units proven, why it stopped)."""
     t0 = time.perf_counter()
     domain = typed_domain(network, source)
     proof = prove_shadow(network, source, domain, time_limit=time_limit * _SHADOW_SHARE,
                          progress=progress)
     covered = [o.name for k, o in enumerate(network.outputs) if proof.covers(network, k)]
     if not covered:
-        return None
+        why = f", {proof.stopped}" if proof.stopped else ""
+        return (f"shadow: {len(proof.proven)} of {len(network.neurons)} units proven to have "
+                f"their step shadow's sign ({proof.seconds:.1f} s{why})")
     net1, src1 = _restrict(network, source, covered)
     left = time_limit * (_SHADOW_SHARE + (1 - _SHADOW_SHARE) / 2) - (time.perf_counter() - t0)
     rep = run_milp(step_shadow(net1), src1, domain, time_limit=max(left, 1.0),
