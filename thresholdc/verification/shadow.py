@@ -35,7 +35,9 @@ True
 
 from __future__ import annotations
 
+import multiprocessing as mp
 import time
+from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -46,6 +48,7 @@ from ..ir import activations as act
 from ..ir.network import Network
 from .domain import Domain, network_rows
 from .linear_bounds import LinearBounder, activation_lines
+from .milp import TOLERANCE, _into
 from .milp_model import Affine, Model
 from .value_sets import form_values
 
@@ -206,8 +209,6 @@ def _prove_layer(st: _State, layer: list[int], t_end: float, proof: ShadowProof,
     in two forked worker processes when the layer is large and ``fork`` is available, else
     one after the other.  Cuts found by the workers are merged (a cut only refines)."""
     global _WORKER_STATE
-    import multiprocessing as mp
-
     heavy = [j for j in layer if st.lb.W_n[j].any()]
     st.cache = (max(heavy), *st.build(max(heavy))) if heavy else None
     if len(heavy) < 4 or "fork" not in mp.get_all_start_methods() or _WORKERS < 2:
@@ -220,8 +221,6 @@ def _prove_layer(st: _State, layer: list[int], t_end: float, proof: ShadowProof,
         if j not in heavy:
             st.prove(j, t_end, proof)
             bar.update(1)
-    from concurrent.futures import ProcessPoolExecutor
-
     _WORKER_STATE = st
     try:
         with ProcessPoolExecutor(max_workers=_WORKERS, mp_context=mp.get_context("fork")) as ex:
@@ -252,8 +251,6 @@ class _State:
     """The shadow proof's model, rebuilt from the units' states (see the module docstring)."""
 
     def __init__(self, net: Network, domain: Domain) -> None:
-        from .milp import TOLERANCE  # the step relaxation of the MILP check
-
         self.net, self.domain, self.tau = net, domain, TOLERANCE
         self.bipolar = net.encoding == "bipolar"
         self.low = -1.0 if self.bipolar else 0.0
@@ -371,8 +368,6 @@ class _State:
         choice = np.array([[int(np.argmax([x[colvar[int(self.lb.offsets[k]) + c]]
                                            for c in range(f.size)]))
                             for k, f in enumerate(d.discrete)]], dtype=np.int64)
-        from .milp import _into
-
         reals = np.array([[_into(float(x[colvar[self.lb.n_choices + k]]), f.pieces)
                            for k, f in enumerate(d.continuous)]])
         X = d.unit_rows(choice, reals if d.continuous else None)
@@ -462,8 +457,6 @@ def _side(m: Model, z: int, y: int | None, value: int, seconds: float,
     with the best point found (None if none).  The MILP stops at a loose relative gap
     first (only the bound's side of ±τ matters), then, if that bound is not beyond τ, runs
     to the default gap."""
-    from .milp import TOLERANCE
-
     sign = 1.0 if value else -1.0  # minimise z where y = 1, maximise where y = 0
     mark = m.mark()
     if y is not None:
