@@ -139,7 +139,7 @@ def prove_shadow(net: Network, source: Any, domain: Domain, *, time_limit: float
     >>> from thresholdc.compiler import compile_rules
     >>> from thresholdc.logic.source import source_from_text
     >>> from thresholdc.verification.typed import typed_domain
-    >>> text = "input c: {red, green, blue}\\ny = c == red\\n"
+    >>> text = "input c: {red, green, blue}, a\\ny = c == red and a\\n"
     >>> net = compile_rules(text, activation="sigmoid")
     >>> src = source_from_text(text)
     >>> len(prove_shadow(net, src, typed_domain(net, src), time_limit=5).proven)
