@@ -16,9 +16,16 @@ result and time of :func:`thresholdc.verification.bounds.verify_bounds` (interva
 stopped at ``--limit`` seconds), and the ratios.  A method that stops at its limit
 with an output still undecided is printed as "> limit" seconds (its stop time is not a finish
 time), and a ratio against it as "> N×" (or "< N×" when ours is the one left open).
-Timings are wall-clock on a shared machine; not a test.
+Timings are wall-clock on a shared machine, with the CPU seconds beside ours (the process and
+its workers: a figure the load of other work inflates less); not a test.
+
+``--baseline DIR`` runs, per network and in the same run, another checkout's
+``verify_trained`` in a subprocess (``git archive REV | tar -x -C DIR``): the code of an
+earlier commit on the same networks (its own benchmarks/trained_like.py builds them), printed
+instead of the without-sampling column.
 
     python3 benchmarks/retention_bench.py [--limit 10] [--budget 60] [--only 'tool shed']
+        [--baseline DIR]
 """
 
 from __future__ import annotations
@@ -90,6 +97,52 @@ def _ratio(old, old_s: float, old_limit: float, new, new_s: float, new_limit: fl
     return f"{old_s / new_s:.2f}x"
 
 
+_BASELINE = '''
+import json, pathlib, resource, sys, time
+root = pathlib.Path(sys.argv[1])
+sys.path[:0] = [str(root), str(root / "benchmarks")]
+import retention_bench as rb
+from thresholdc.logic.source import source_from_text
+from thresholdc.verification import verify_trained
+for name, net, text in rb.cases():
+    if name == sys.argv[2]:
+        t0 = time.perf_counter()
+        rep = verify_trained(net, source_from_text(text, "bench.rules"),
+                             time_limit=float(sys.argv[3]), progress=False)
+        wall = time.perf_counter() - t0
+        print(json.dumps({"method": rep.method, "wall": wall,
+                          "verdicts": [[o.name, o.verdict] for o in rep.outputs]}))
+'''
+
+
+class _Run:
+    """A baseline run's result, shaped like a report for the printing helpers."""
+
+    def __init__(self, data: dict) -> None:
+        self.method = data["method"]
+        self.outputs = [type("O", (), {"name": n, "verdict": v}) for n, v in data["verdicts"]]
+
+
+def _baseline(directory: str, name: str, budget: float):
+    """``(report-like, seconds)`` of the checkout ``directory``'s verify_trained."""
+    import json
+    import subprocess
+
+    out = subprocess.run([sys.executable, "-c", _BASELINE, directory, name, str(budget)],
+                         capture_output=True, text=True, cwd=directory, check=True)
+    data = json.loads(out.stdout.strip().splitlines()[-1])
+    return _Run(data), data["wall"]
+
+
+def _cpu() -> float:
+    """CPU seconds of this process and its finished children."""
+    import resource
+
+    me = resource.getrusage(resource.RUSAGE_SELF)
+    kids = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return me.ru_utime + me.ru_stime + kids.ru_utime + kids.ru_stime
+
+
 def _verdicts(report) -> str:
     return " ".join(f"{o.name}={o.verdict}" for o in report.outputs)
 
@@ -99,26 +152,33 @@ def main() -> None:
     ap.add_argument("--limit", type=float, default=10.0, help="seconds for verify_bounds")
     ap.add_argument("--budget", type=float, default=60.0, help="seconds for verify_trained")
     ap.add_argument("--only", default="", help="run only the networks whose name has this text")
+    ap.add_argument("--baseline", default="",
+                    help="a checkout of earlier code: its verify_trained beside ours")
     args = ap.parse_args()
-    print(f"{'network':38} {'hid':>3}  {'verify_trained (ours)':40} {'s':>7}  "
-          f"{'without sampling (today)':40} {'s':>7} {'today/ours':>10}  "
+    other = "baseline checkout" if args.baseline else "without sampling (today)"
+    print(f"{'network':38} {'hid':>3}  {'verify_trained (ours)':40} {'s':>7} {'cpu s':>6}  "
+          f"{other:40} {'s':>7} {'it/ours':>10}  "
           f"{'verify_bounds (old)':34} {'s':>7} {'old/ours':>9}")
     for name, net, text in cases():
         if args.only not in name:
             continue
         src = source_from_text(text, "bench.rules")
         hidden = len(net.neurons) - len(net.outputs)
-        t0 = time.perf_counter()
+        t0, c0 = time.perf_counter(), _cpu()
         rep = verify_trained(net, src, time_limit=args.budget, progress=False)
-        ours = time.perf_counter() - t0
-        t0 = time.perf_counter()
-        today = verify_trained(net, src, time_limit=args.budget, progress=False, sample=False)
-        today_s = time.perf_counter() - t0
+        ours, cpu = time.perf_counter() - t0, _cpu() - c0
+        if args.baseline:
+            today, today_s = _baseline(args.baseline, name, args.budget)
+        else:
+            t0 = time.perf_counter()
+            today = verify_trained(net, src, time_limit=args.budget, progress=False,
+                                   sample=False)
+            today_s = time.perf_counter() - t0
         t0 = time.perf_counter()
         old = verify_bounds(net, src, time_limit=args.limit)
         theirs = time.perf_counter() - t0
         print(f"{name:38} {hidden:3d}  {rep.method + ': ' + _verdicts(rep):40} "
-              f"{_time(rep, ours, args.budget):>7}  "
+              f"{_time(rep, ours, args.budget):>7} {cpu:6.1f}  "
               f"{today.method + ': ' + _verdicts(today):40} "
               f"{_time(today, today_s, args.budget):>7} "
               f"{_ratio(today, today_s, args.budget, rep, ours, args.budget):>10}  "

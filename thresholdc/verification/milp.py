@@ -64,6 +64,7 @@ from .domain import (
 from .linear_bounds import LinearBounder, activation_lines
 from .milp_model import Affine, Model, encode_rules
 from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
+from .value_sets import network_value_sets
 
 __all__ = ["verify_milp", "run_milp", "milp_domain", "TOLERANCE", "DEFAULT_TIME_LIMIT"]
 
@@ -77,6 +78,8 @@ _SMOOTH = ("sigmoid", "tanh")
 _MAX_ROUNDS = 200
 _START_BREAKS: tuple[float, ...] = (-3.0, 0.0, 3.0)
 _BRIDGE_SECONDS = 10.0
+#: Pieces a value set leaves on each side of z = 0 (its largest gaps kept).
+_PIECES_PER_SIDE = 2
 
 
 def milp_domain(net: Network, source: Any) -> Domain:
@@ -111,11 +114,14 @@ class _Builder:
         self.strict = False
         self.bridge_share = _BRIDGE_SECONDS
         self.bridges: list | None = None
-        self.breaks: dict[int, list[float]] = {}
+        #: Each smooth neuron's pieces: disjoint sorted intervals whose union holds every value
+        #: its ``z`` takes on the domain (a gap around 0 left out by :meth:`gaps`).
+        self.pieces: dict[int, list[tuple[float, float]]] = {}
         for j, n in enumerate(net.neurons):
             if n.activation in _SMOOTH:
                 lo, hi = float(self.zlo[j]), float(self.zhi[j])
-                self.breaks[j] = sorted({lo, hi} | {b for b in _START_BREAKS if lo < b < hi})
+                pts = sorted({lo, hi} | {b for b in _START_BREAKS if lo < b < hi})
+                self.pieces[j] = list(zip(pts[:-1], pts[1:])) if len(pts) > 1 else [(lo, hi)]
 
     def build(self) -> tuple[Model, dict[str, Any]]:
         m = Model()
@@ -168,6 +174,8 @@ class _Builder:
                 for v, cf in ua[0].items():
                     coefs[v] = coefs.get(v, 0.0) + float(w) * cf
             L, U = float(self.zlo[j]), float(self.zhi[j])
+            if j in self.pieces:  # the pieces' hull (gaps may have moved the ends in)
+                L, U = self.pieces[j][0][0], self.pieces[j][-1][1]
             z = m.var(L, U)
             coefs[z] = coefs.get(z, 0.0) - 1.0
             m.row(coefs, bias, 0.0, 0.0)
@@ -259,16 +267,17 @@ class _Builder:
             m.row({a: 1.0, dlt: -U}, 0.0, -np.inf, 0.0)
             return {a: 1.0}, 0.0
         assert name in _SMOOTH, name
-        pts = self.breaks[j]
+        pieces = self.pieces[j]
         f = act.get(name).forward
         a = m.var(float(f(np.array(L))) - 1e-9, float(f(np.array(U))) + 1e-9)
-        if len(pts) <= 2:
+        if len(pieces) == 1:
             kl, bl, ku, bu = (float(v[0]) for v in activation_lines(name, np.array([L]),
                                                                     np.array([U])))
             m.row({a: 1.0, z: -kl}, 0.0, bl, np.inf)
             m.row({a: 1.0, z: -ku}, 0.0, -np.inf, bu)
             return {a: 1.0}, 0.0
-        los, his = np.array(pts[:-1]), np.array(pts[1:])
+        los = np.array([p[0] for p in pieces])
+        his = np.array([p[1] for p in pieces])
         kls, bls, kus, bus = activation_lines(name, los, his)
         sel: list[int] = []
         parts: list[int] = []
@@ -303,11 +312,34 @@ class _Builder:
             av = info["acts"][j]
             aval = sum(c * x[v] for v, c in av[0].items()) + av[1]
             true = float(act.get(n.activation).forward(np.array(zv)))
-            pts = self.breaks[j]
-            if abs(aval - true) > 1e-4 and all(abs(zv - p) > 1e-6 for p in pts):
-                self.breaks[j] = sorted(pts + [zv])
-                added = True
+            if abs(aval - true) <= 1e-4:
+                continue
+            pieces = self.pieces[j]
+            for i, (lo, hi) in enumerate(pieces):
+                if lo + 1e-6 < zv < hi - 1e-6:  # split the piece at zv
+                    pieces[i:i + 1] = [(lo, zv), (zv, hi)]
+                    added = True
+                    break
         return added
+
+    def gaps(self) -> int:
+        """Cut each smooth neuron's pieces to the values its ``z`` can take on the domain
+        (:func:`~thresholdc.verification.value_sets.network_value_sets`: sound unions of
+        intervals, a few on each side of 0), keeping the start breaks inside wide pieces.
+        Returns the number of neurons whose pieces leave out a gap around 0."""
+        sets = network_value_sets(self.lb, per_side=_PIECES_PER_SIDE)
+        cut = 0
+        for j, pieces in sets.items():
+            if j not in self.pieces:
+                continue
+            out: list[tuple[float, float]] = []
+            for lo, hi in pieces:
+                pts = sorted({lo, hi} | {b for b in _START_BREAKS if lo < b < hi and b != 0})
+                out.extend(zip(pts[:-1], pts[1:]) if len(pts) > 1 else [(lo, hi)])
+            self.pieces[j] = out
+            if not any(lo < 0 < hi for lo, hi in out) and out[0][0] < 0 < out[-1][1]:
+                cut += 1
+        return cut
 
 
 def _into(x: float, pieces: list[tuple[float, float]]) -> float:
@@ -345,11 +377,17 @@ def _decision_rows(m: Model, net: Network, info: dict[str, Any], k: int, value: 
 def run_milp(
     net: Network, source: Any, domain: Domain, *, time_limit: float = DEFAULT_TIME_LIMIT,
     max_examples: int = MAX_COUNTEREXAMPLES, progress: bool | None = None,
+    check: Network | None = None,
 ) -> Report:
-    """The MILP check over an explicit domain (see :func:`verify_milp`)."""
+    """The MILP check over an explicit domain (see :func:`verify_milp`); points found are
+    re-checked on ``check`` (default ``net``: another network proven to decide as ``net``
+    does on ``domain``, such as a soft network whose step shadow ``net`` is)."""
     t0 = time.perf_counter()
+    real = net if check is None else check
     builder = _Builder(net, source, domain)
     builder.bridge_share = time_limit / 4  # the bridge LPs never take the whole budget
+    if builder.pieces:
+        builder.gaps()
     out_index = [list(source.outputs).index(o.name) for o in net.outputs]
     thr = net.decision_threshold
     discrete_only = not domain.continuous
@@ -405,12 +443,12 @@ def run_milp(
                     reals = np.array([[_into(float(x[v]), f.pieces) for v, f in
                                        zip(info["cont"], domain.continuous)]])
                     X = domain.unit_rows(choice, reals if domain.continuous else None)
-                    Xn = network_rows(net, domain, X)
-                    actual = bool(net.decide(Xn)[0, k])
+                    Xn = network_rows(real, domain, X)
+                    actual = bool(real.decide(Xn)[0, k])
                     expected = bool(np.asarray(source.evaluate(X))[0, out_index[k]])
                     nogood = {vs[int(choice[0, i])]: 1.0 for i, vs in enumerate(info["choices"])}
                     if actual != expected:
-                        value = float(net.evaluate(Xn)[0, k])
+                        value = float(real.evaluate(Xn)[0, k])
                         examples[k].append(Counterexample(
                             domain.assignment(choice[0], reals[0] if domain.continuous
                                               else None),

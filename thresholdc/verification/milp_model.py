@@ -109,9 +109,11 @@ class Model:
         return out
 
     def solve(self, *, time_limit: float, node_limit: int | None = None,
-              objective: dict[int, float] | None = None, relaxed: bool = False) -> Solution:
+              objective: dict[int, float] | None = None, relaxed: bool = False,
+              rel_gap: float | None = None) -> Solution:
         """Find any feasible point (objective 0), or minimise ``objective``, with HiGHS;
-        ``relaxed`` drops integrality (a linear programme: ``dual_bound`` is its optimum)."""
+        ``relaxed`` drops integrality (a linear programme: ``dual_bound`` is its optimum);
+        ``rel_gap`` stops once the dual bound is that close (relatively) to the best point."""
         n = len(self.lb)
         data, ri, ci = [], [], []
         lo = np.empty(len(self.rows))
@@ -127,6 +129,8 @@ class Model:
         options: dict[str, Any] = {"time_limit": max(float(time_limit), 0.01), "presolve": True}
         if node_limit is not None:
             options["node_limit"] = int(node_limit)
+        if rel_gap is not None:
+            options["mip_rel_gap"] = float(rel_gap)
         cons = [optimize.LinearConstraint(A, lo, hi)] if len(self.rows) else []
         cost = np.zeros(n)
         for v, w in (objective or {}).items():
@@ -144,7 +148,7 @@ class Model:
         if res.x is not None and res.status in (0, 1):
             return Solution("feasible" if res.status == 0 else "limit-feasible",
                             np.asarray(res.x), nodes, res.message, dual)
-        return Solution("limit", None, nodes, str(res.message))
+        return Solution("limit", None, nodes, str(res.message), dual)
 
 
 @contextlib.contextmanager
