@@ -205,8 +205,8 @@ def _via_shadow(network: Network, source: Any, *, time_limit: float,
     if equal:
         proofs.append(
             f"milp: on every valid input each of the {len(proof.proven)} units needed has the "
-            f"sign of its step shadow's (unit-by-unit MILP bounds, {proof.solves} solves, "
-            f"{proof.seconds:.1f} s), so the network decides as its step shadow, and no valid "
+            f"sign of its step shadow's (unit-by-unit MILP bounds, {proof.solves} solves), "
+            f"so the network decides as its step shadow, and no valid "
             f"input makes the shadow differ from the rules on {', '.join(equal)}")
     notes = ["the step shadow: the network with step activations, checked by MILP; "
              "counterexamples re-checked on the network itself"] + rep.notes
