@@ -11,8 +11,9 @@ in a temporary ``-X pycache_prefix`` as an installed package keeps it (a checkou
 - ``import thresholdc`` and ``thresholdc --help``;
 - ``compile`` of an 8-input rule file (circuits/greenhouse.rules), split into what is loaded
   before the command starts working (the command line and the compile command's modules) and
-  the whole run (the work also loads what it uses: sympy to simplify, scipy's HiGHS for the
-  linear programs of synthesis, networkx for the gate graph);
+  the whole run (the work also loads what it uses: sympy to simplify two definitions, scipy's
+  HiGHS for the helper-neuron programs of synthesis, scipy.sparse for exhaustive
+  verification);
 
 then the largest contributors of each thresholdc case, by top-level package.  Wall time of
 the whole process is printed beside it for reference (the machine may be shared).

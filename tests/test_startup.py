@@ -144,3 +144,25 @@ def test_loading_and_evaluating_a_step_network_loads_no_heavy_package(tmp_path):
         "assert net.decide(np.array([[1, 1], [0, 1]])).tolist() == [[True], [False]]\n"
     )
     assert _heavy(_loaded(code)) == []
+
+
+def test_a_small_compile_loads_no_networkx(tmp_path):
+    # the rule checker finds cycles itself; networkx stays for the gate-graph export and
+    # the comparison of trained networks
+    names = _loaded("", argv=["compile", "circuits/greenhouse.rules", "-o",
+                              str(tmp_path / "g.json")])
+    assert "thresholdc.synth.identify" in names  # the check saw the compile's work
+    assert _heavy(names, ("networkx",)) == []
+
+
+def test_a_small_compile_of_read_once_rules_loads_no_optimiser_sympy_or_networkx(tmp_path):
+    # threshold tests of up to 6 variables are exact rational programs (no scipy.optimize),
+    # and read-once definitions are not handed to sympy; circuits/greenhouse.rules still loads
+    # sympy (two definitions are simplified) and scipy.optimize (the helper-neuron program),
+    # and exhaustive verification still uses scipy.sparse
+    rules = tmp_path / "r.rules"
+    rules.write_text("input a, b, c, d, e\noutput y, z\nx = a and (b or not c)\n"
+                     "y = x -> d\nz = (a ^ b) or (c and e)\n")
+    names = _loaded("", argv=["compile", str(rules), "-o", str(tmp_path / "r.json")])
+    assert "thresholdc.synth.identify" in names
+    assert _heavy(names, ("scipy.optimize", "sympy", "networkx")) == []

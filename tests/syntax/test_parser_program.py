@@ -118,3 +118,40 @@ def test_long_cycle_is_found_without_recursion():
     assert (err.line, err.column) == (2, 1)
     names = err.message.removeprefix("cyclic definition: ").split(" -> ")
     assert names == [f"d{i}" for i in range(2000)] + ["d0"]
+
+
+@pytest.mark.parametrize("seed", range(40))
+def test_cycle_components_agree_with_networkx(seed):
+    # networkx as the second evaluator of the strongly connected components the rule checker
+    # computes itself (so that checking a rule file does not import networkx).
+    import random
+
+    nx = pytest.importorskip("networkx")
+    from thresholdc.syntax.checks import _components
+
+    rng = random.Random(seed)
+    n = rng.randint(1, 30)
+    names = [f"d{i}" for i in range(n)]
+    deps = {a: rng.sample(names, rng.randint(0, min(3, n))) for a in names}
+    component, sizes = _components(dict.fromkeys(names), deps)  # type: ignore[arg-type]
+    graph = nx.DiGraph()
+    graph.add_nodes_from(names)
+    graph.add_edges_from((a, b) for a, bs in deps.items() for b in bs)
+    ours = {frozenset(x for x in names if component[x] == c) for c in set(component.values())}
+    assert ours == {frozenset(c) for c in nx.strongly_connected_components(graph)}
+    assert sorted(sizes) == sorted(len(c) for c in ours)
+
+
+def test_parsing_a_rule_file_does_not_import_networkx():
+    import subprocess
+    import sys
+
+    # a lazily bound module not used yet is a stand-in in sys.modules (importlib.util)
+    code = ("import sys\nfrom thresholdc.syntax.parser import parse\n"
+            "try:\n    parse('input a\\nx = y\\ny = x or a\\n')\nexcept Exception as e:\n"
+            "    print(e)\n"
+            "m = sys.modules.get('networkx')\n"
+            "print(m is not None and type(m).__name__ != '_LazyModule')\n")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          check=True)
+    assert done.stdout.splitlines() == ["<rules>:2:1: cyclic definition: x -> y -> x", "False"]

@@ -202,6 +202,10 @@ class _Lowerer:
         if len(support) > self.simplify_support or size > _SIMPLIFY_MAX_NODES:
             self.kept += 1
             return expr
+        if _read_once(expr, len(support)):
+            # every name once and no constant: the function depends on each name, so no
+            # equivalent formula has fewer literals and sympy's result would not be taken
+            return expr
         syms = {name: sympy.Symbol(name) for name in sorted(support)}
         before = _to_sympy(expr, syms)
         after = sympy.simplify_logic(before, force=False)
@@ -261,6 +265,36 @@ def _plain_support(expr: ast.Expr) -> tuple[set[str] | None, int]:
         else:
             return None, size
     return names, size
+
+
+def _read_once(expr: ast.Expr, names: int) -> bool:
+    """Whether a plain Boolean ``expr`` (see :func:`_plain_support`) with ``names`` distinct
+    names reads each name exactly once and has no constant.
+
+    Every connective of the rule language depends on all its operands (``and``, ``or``,
+    ``xor``, ``->``, ``<->``, ``nand``, ``nor``, ``not``; ``if c then t else e`` when ``t`` and
+    ``e`` share no name), so such a formula depends on every name it reads, and any formula of
+    the same function has at least ``names`` literals: simplification cannot make it smaller.
+    """
+    leaves = 0
+    stack = [expr]
+    while stack:
+        e = stack.pop()
+        if isinstance(e, ast.Name):
+            leaves += 1
+        elif isinstance(e, ast.Const):
+            return False
+        elif isinstance(e, ast.Not):
+            stack.append(e.operand)
+        elif isinstance(e, ast.BinOp):
+            stack.extend((e.left, e.right))
+        elif isinstance(e, ast.Ite):
+            stack.extend((e.cond, e.then, e.other))
+        elif isinstance(e, ast.Call):  # nand, nor
+            stack.extend(e.args)
+        else:
+            return False
+    return leaves == names
 
 
 def _to_sympy(e: ast.Expr, syms: dict[str, Any]) -> Any:

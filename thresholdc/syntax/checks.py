@@ -31,11 +31,8 @@ from ..ir.program import (
     Term,
     sub_expressions,
 )
-from ..lazy import lazy_module
 from .lexer import KEYWORDS
 from .transform import Number, PendingCompare, PendingIn, Value, error_at
-
-nx = lazy_module("networkx")
 
 __all__ = ["check_program"]
 
@@ -314,21 +311,60 @@ def _check_cycles(defs: dict[str, Definition], deps: dict[str, list[str]]) -> No
     member or it uses itself.  The message lists the shortest cycle through it, found by a
     breadth-first search that follows uses in the order they are written.
     """
-    graph = nx.DiGraph()
-    graph.add_nodes_from(defs)
-    graph.add_edges_from((a, b) for a, bs in deps.items() for b in bs)
-    component: dict[str, int] = {}
-    sizes: list[int] = []
-    for i, members in enumerate(nx.strongly_connected_components(graph)):
-        sizes.append(len(members))
-        for m in members:
-            component[m] = i
+    component, sizes = _components(defs, deps)
     for name in defs:
         c = component[name]
         if sizes[c] == 1 and name not in deps[name]:
             continue
         path = _shortest_cycle(name, deps, component)
         raise error_at(f"cyclic definition: {' -> '.join(path)}", defs[name].span)
+
+
+def _components(defs: dict[str, Definition], deps: dict[str, list[str]]
+                ) -> tuple[dict[str, int], list[int]]:
+    """The strongly connected component of each name (a number) and each component's size.
+
+    Tarjan's algorithm, iterative (a chain of thousands of definitions is fine): a name's
+    component is finished when the depth-first search returns to the first member it reached,
+    and that member's low link is its own index.  Names used but not defined are their own
+    components.
+    """
+    index: dict[str, int] = {}
+    low: dict[str, int] = {}
+    component: dict[str, int] = {}
+    sizes: list[int] = []
+    stack: list[str] = []
+    for root in defs:
+        if root in index:
+            continue
+        index[root] = low[root] = len(index)
+        stack.append(root)
+        work = [(root, iter(deps.get(root, ())))]
+        while work:
+            node, todo = work[-1]
+            for nxt in todo:
+                if nxt not in index:
+                    index[nxt] = low[nxt] = len(index)
+                    stack.append(nxt)
+                    work.append((nxt, iter(deps.get(nxt, ()))))
+                    break
+                if nxt not in component:  # still on the stack: in the current search
+                    low[node] = min(low[node], index[nxt])
+            else:
+                work.pop()
+                if work:
+                    parent = work[-1][0]
+                    low[parent] = min(low[parent], low[node])
+                if low[node] == index[node]:
+                    size = 0
+                    while True:
+                        member = stack.pop()
+                        component[member] = len(sizes)
+                        size += 1
+                        if member == node:
+                            break
+                    sizes.append(size)
+    return component, sizes
 
 
 def _shortest_cycle(start: str, deps: dict[str, list[str]], component: dict[str, int]) -> list:
