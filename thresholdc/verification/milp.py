@@ -62,7 +62,7 @@ from .domain import (
     typed_domain,
 )
 from .linear_bounds import LinearBounder, activation_lines
-from .milp_model import Affine, Model, encode_rules
+from .milp_model import Affine, Model, encode_rules, weighted_sum
 from .report import MAX_COUNTEREXAMPLES, Counterexample, OutputReport, Report
 from .value_sets import network_value_sets
 
@@ -166,13 +166,8 @@ class _Builder:
         zvars: list[int] = []
         bipolar = self.net.encoding == "bipolar"
         for j, n in enumerate(self.net.neurons):
-            coefs: dict[int, float] = {}
-            bias = float(n.bias)
-            for i, w in zip(n.inputs, n.weights):
-                ua = units[col[i]] if i in col else acts[pos[i]]
-                bias += float(w) * ua[1]
-                for v, cf in ua[0].items():
-                    coefs[v] = coefs.get(v, 0.0) + float(w) * cf
+            coefs, bias = weighted_sum(
+                n, lambda i: units[col[i]] if i in col else acts[pos[i]])  # noqa: B023
             L, U = float(self.zlo[j]), float(self.zhi[j])
             if j in self.pieces:  # the pieces' hull (gaps may have moved the ends in)
                 L, U = self.pieces[j][0][0], self.pieces[j][-1][1]

@@ -52,9 +52,28 @@ from .domain import Domain
 optimize = lazy_module("scipy.optimize")
 sparse = lazy_module("scipy.sparse")
 
-__all__ = ["Model", "Solution", "encode_rules", "Affine"]
+__all__ = ["Model", "Solution", "encode_rules", "Affine", "weighted_sum"]
 
 Affine = tuple[dict[int, float], float]
+
+
+def weighted_sum(neuron: Any, sources: Any) -> Affine:
+    """A neuron's pre-activation ``Σ w·a + b`` as one affine form over the model's variables,
+    ``sources(name)`` giving the affine form of each input unit or earlier neuron it reads.
+
+    >>> from types import SimpleNamespace
+    >>> n = SimpleNamespace(inputs=["a", "b"], weights=[2.0, -1.0], bias=0.5)
+    >>> weighted_sum(n, {"a": ({0: 1.0}, 0.0), "b": ({0: 1.0, 1: 1.0}, 1.0)}.get)
+    ({0: 1.0, 1: -1.0}, -0.5)
+    """
+    coefs: dict[int, float] = {}
+    bias = float(neuron.bias)
+    for i, w in zip(neuron.inputs, neuron.weights):
+        ua = sources(i)
+        bias += float(w) * ua[1]
+        for v, cf in ua[0].items():
+            coefs[v] = coefs.get(v, 0.0) + float(w) * cf
+    return coefs, bias
 
 
 @dataclass

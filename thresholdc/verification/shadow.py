@@ -49,7 +49,7 @@ from ..ir.network import Network
 from .domain import Domain, network_rows
 from .linear_bounds import LinearBounder, activation_lines
 from .milp import TOLERANCE, _into
-from .milp_model import Affine, Model
+from .milp_model import Affine, Model, weighted_sum
 from .value_sets import form_values
 
 __all__ = ["step_shadow", "prove_shadow", "ShadowProof", "SMOOTH"]
@@ -423,13 +423,7 @@ def _domain_model(domain: Domain, lb: LinearBounder) -> tuple[Model, list[int]]:
 def _linear(m: Model, n: Any, units: list[Affine], col: dict[str, int], pos: dict[str, int],
             acts: list[Affine], L: float, U: float) -> int:
     """A variable ``z`` in ``[L, U]`` equal to neuron ``n``'s pre-activation over ``acts``."""
-    coefs: dict[int, float] = {}
-    bias = float(n.bias)
-    for i, w in zip(n.inputs, n.weights):
-        ua = units[col[i]] if i in col else acts[pos[i]]
-        bias += float(w) * ua[1]
-        for v, cf in ua[0].items():
-            coefs[v] = coefs.get(v, 0.0) + float(w) * cf
+    coefs, bias = weighted_sum(n, lambda i: units[col[i]] if i in col else acts[pos[i]])
     z = m.var(L, U)
     coefs[z] = coefs.get(z, 0.0) - 1.0
     m.row(coefs, bias, 0.0, 0.0)
