@@ -11,6 +11,7 @@ thresholdc: error: /no/such/file.rules: no such file
 from __future__ import annotations
 
 from .errors import ThresholdcError
+from .textlines import line_and_column, split_lines
 
 __all__ = ["read_text"]
 
@@ -34,16 +35,11 @@ def read_text(path: str, error: type[ThresholdcError], *, keep_bom: bool = False
     try:
         return raw.decode("utf-8" if keep_bom else "utf-8-sig")
     except UnicodeDecodeError as exc:
-        # lines end at LF, CRLF or a bare CR, as in thresholdc.textlines
-        at = exc.start
-        start = max(raw.rfind(b"\n", 0, at), raw.rfind(b"\r", 0, at)) + 1
-        if start == 0 and raw.startswith(b"\xef\xbb\xbf"):
-            start = 3  # a byte-order mark is not a column
-        ends = [e for e in (raw.find(b"\n", at), raw.find(b"\r", at)) if e >= 0]
-        end = min(ends) if ends else len(raw)
-        text = raw[start:end].decode("utf-8", "replace")
-        head = raw[:at]
-        line = head.count(b"\n") + head.count(b"\r") - head.count(b"\r\n") + 1
-        column = len(raw[start:at].decode("utf-8", "replace")) + 1
+        data = exc.object  # the bytes decoded: "utf-8-sig" drops the byte-order mark first
+        text = data.decode("utf-8", "replace")  # bad bytes shown as U+FFFD
+        line, column = line_and_column(text, len(data[: exc.start].decode("utf-8")))
+        source = split_lines(text)[line - 1]
+        if line == 1 and source.startswith("\ufeff"):  # a byte-order mark is not a column
+            source, column = source[1:], column - 1
         raise error("not UTF-8 text", file=path, line=line, column=column,
-                    source_line=text) from None
+                    source_line=source) from None

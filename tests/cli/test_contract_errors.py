@@ -12,6 +12,8 @@ import os
 import pytest
 
 from thresholdc.cli import main
+from thresholdc.errors import DataError
+from thresholdc.files import read_text
 
 # (id, rule text, line, column, words the message must contain); positions worked out by hand
 # from the rules of DESIGN.md §3.
@@ -168,3 +170,14 @@ def test_a_file_that_is_not_utf8_names_line_and_column(tmp_path, capsys, raw, li
     assert err.splitlines() == [f"thresholdc: error: {src}:{line}:{column}: not UTF-8 text",
                                 source_line, " " * (column - 1) + "^"]
     assert sorted(os.listdir(tmp_path)) == ["bad.rules"]
+
+
+def test_a_data_file_with_a_byte_order_mark_names_the_bad_byte_where_it_is(tmp_path):
+    # data files drop the byte-order mark before decoding ("utf-8-sig"), whose error offsets
+    # then count from after the mark: the position must still be the file's own
+    src = tmp_path / "d.csv"
+    src.write_bytes(b"\xef\xbb\xbfa,b\n1,\xff\n")
+    with pytest.raises(DataError) as info:
+        read_text(str(src), DataError)
+    assert info.value.render().splitlines() == [
+        f"thresholdc: error: {src}:2:3: not UTF-8 text", "1,\ufffd", "  ^"]
